@@ -1,0 +1,69 @@
+// Bundles the extension host, the CLI, the analysis worker and the two webviews with esbuild,
+// and copies what the bundles load at run time (parquet-wasm's .wasm, codicons) beside them.
+import { build } from 'esbuild';
+import { cpSync, existsSync, mkdirSync, rmSync, chmodSync } from 'node:fs';
+import { dirname, join } from 'node:path';
+import { fileURLToPath } from 'node:url';
+
+const root = join(dirname(fileURLToPath(import.meta.url)), '..');
+const dist = join(root, 'dist');
+const production = process.argv.includes('--production');
+
+rmSync(dist, { recursive: true, force: true });
+mkdirSync(dist, { recursive: true });
+
+const common = {
+  bundle: true,
+  sourcemap: !production,
+  minify: production,
+  logLevel: 'warning',
+  target: 'node20',
+};
+
+const nodeEntries = [
+  { in: 'src/host/extension.ts', out: 'extension' },
+  { in: 'src/cli/main.ts', out: 'cli' },
+  { in: 'src/node/worker.ts', out: 'worker' },
+].filter((e) => existsSync(join(root, e.in)));
+
+await build({
+  ...common,
+  entryPoints: nodeEntries.map((e) => ({ in: join(root, e.in), out: e.out })),
+  outdir: dist,
+  platform: 'node',
+  format: 'cjs',
+  external: ['vscode'],
+  // parquet-wasm's node build loads its .wasm from beside the bundle.
+  loader: { '.wasm': 'file' },
+});
+if (existsSync(join(dist, 'cli.js'))) {
+  const { readFileSync, writeFileSync } = await import('node:fs');
+  const p = join(dist, 'cli.js');
+  const src = readFileSync(p, 'utf8');
+  if (!src.startsWith('#!')) writeFileSync(p, `#!/usr/bin/env node\n${src}`);
+  chmodSync(p, 0o755);
+}
+
+const webEntries = [
+  { in: 'src/webview/recordView.ts', out: 'recordView' },
+  { in: 'src/webview/panel.ts', out: 'panel' },
+].filter((e) => existsSync(join(root, e.in)));
+if (webEntries.length) {
+  await build({
+    ...common,
+    target: 'chrome114',
+    entryPoints: webEntries.map((e) => ({ in: join(root, e.in), out: e.out })),
+    outdir: join(dist, 'webview'),
+    platform: 'browser',
+    format: 'iife',
+  });
+}
+
+// Run-time files the bundles load.
+const wasmSrc = join(root, 'node_modules/parquet-wasm/node/parquet_wasm_bg.wasm');
+if (existsSync(wasmSrc)) cpSync(wasmSrc, join(dist, 'parquet_wasm_bg.wasm'));
+const codicons = join(root, 'node_modules/@vscode/codicons/dist');
+mkdirSync(join(dist, 'codicons'), { recursive: true });
+cpSync(join(codicons, 'codicon.css'), join(dist, 'codicons/codicon.css'));
+cpSync(join(codicons, 'codicon.ttf'), join(dist, 'codicons/codicon.ttf'));
+console.log(`built ${nodeEntries.length + webEntries.length} bundles into dist/`);

@@ -1,0 +1,30 @@
+// A check turns one record into issues; it knows nothing of formats or screens.
+
+import type { CheckConfig } from '../config.js';
+import type { RecordIssue, RuleInfo } from '../findings.js';
+
+export interface RecordUnderCheck {
+  /** 0-based record index. */
+  record: number;
+  /** The record as a plain JSON value. */
+  value: unknown;
+}
+
+export interface RecordResult {
+  issues: RecordIssue[];
+  /** Set by the tokens check: the record's token count. */
+  tokens?: number;
+}
+
+export interface Check {
+  /** Stable name of the family of rules this check owns (for logs and docs). */
+  readonly name: string;
+  readonly rules: readonly RuleInfo[];
+  /**
+   * Runs once per analysis before any record (compile a schema, load an encoding).
+   * Throws an Error with a clear message when the configuration cannot work.
+   */
+  prepare?(config: CheckConfig): Promise<void> | void;
+  /** Adds this check's issues (and, for tokens, the count) for one record to `out`. */
+  checkRecord(rec: RecordUnderCheck, config: CheckConfig, out: RecordResult): void;
+}

@@ -1,0 +1,47 @@
+// Settings the checks read. The host maps VS Code settings onto this; the CLI maps flags onto it.
+
+export type EncodingName = 'cl100k_base' | 'o200k_base';
+export const ENCODINGS: readonly EncodingName[] = ['cl100k_base', 'o200k_base'];
+
+export interface ChatConfig {
+  /** Allowed roles after mapping (common practice: system, user, assistant, tool). */
+  roles: string[];
+  /** When false, the same role twice in a row is a finding. */
+  allowRepeatedRoles: boolean;
+}
+
+export interface SchemaConfig {
+  /** Where the schema came from, for messages. */
+  source: string;
+  /** The parsed JSON Schema document. */
+  schema: unknown;
+}
+
+export interface CheckConfig {
+  encoding: EncodingName;
+  /** Records with more tokens than this overflow the context window. */
+  contextLength: number;
+  /** Field names looked for, in order, as the text of a plain (non-chat) record. */
+  textFields: string[];
+  chat: ChatConfig;
+  schema: SchemaConfig | null;
+  /** A line longer than this many bytes is a finding and is not parsed. */
+  maxLineBytes: number;
+}
+
+export const DEFAULT_CONFIG: CheckConfig = {
+  encoding: 'cl100k_base',
+  contextLength: 8192,
+  textFields: ['text', 'content', 'document', 'body', 'passage'],
+  chat: { roles: ['system', 'user', 'assistant', 'tool'], allowRepeatedRoles: false },
+  schema: null,
+  maxLineBytes: 64 * 1024 * 1024,
+};
+
+export function withDefaults(partial: Partial<CheckConfig> = {}): CheckConfig {
+  return {
+    ...DEFAULT_CONFIG,
+    ...partial,
+    chat: { ...DEFAULT_CONFIG.chat, ...(partial.chat ?? {}) },
+  };
+}

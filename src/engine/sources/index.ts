@@ -1,0 +1,56 @@
+// Dispatch on format once, at the edge: a file name picks its source here and nowhere else.
+
+import type { FormatName, RecordSource } from './source.js';
+import { JsonlSource } from './jsonl.js';
+
+export interface OpenOptions {
+  /** Lines longer than this are findings and are not parsed. */
+  maxLineBytes?: number;
+}
+
+interface FormatEntry {
+  format: FormatName;
+  /** Lower-case file-name endings, longest first where they overlap. */
+  endings: string[];
+  create(path: string, opts: OpenOptions): RecordSource;
+}
+
+const FORMATS: FormatEntry[] = [
+  {
+    format: 'jsonl',
+    endings: ['.jsonl', '.ndjson', '.jsonl.gz', '.ndjson.gz', '.jsonl.zst', '.ndjson.zst'],
+    create: (p, o) => new JsonlSource(p, o),
+  },
+];
+
+export function formatOf(path: string): FormatName | null {
+  const lower = path.toLowerCase();
+  let best: FormatEntry | null = null;
+  let bestLen = 0;
+  for (const f of FORMATS) {
+    for (const e of f.endings) {
+      if (lower.endsWith(e) && e.length > bestLen) {
+        best = f;
+        bestLen = e.length;
+      }
+    }
+  }
+  return best?.format ?? null;
+}
+
+export function supportedEndings(): string[] {
+  return FORMATS.flatMap((f) => f.endings);
+}
+
+export function createSource(path: string, opts: OpenOptions = {}): RecordSource {
+  const format = formatOf(path);
+  const entry = FORMATS.find((f) => f.format === format);
+  if (!entry) throw new UnsupportedFileError(path);
+  return entry.create(path, opts);
+}
+
+export class UnsupportedFileError extends Error {
+  constructor(readonly path: string) {
+    super(`${path}: not a shard Shardwise reads (expected one of ${supportedEndings().join(', ')})`);
+  }
+}

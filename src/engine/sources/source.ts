@@ -1,0 +1,110 @@
+// The one record-source interface: every format (JSONL, JSON array, Parquet, Arrow file/stream)
+// lives behind it, so checks, the record view, the panel and the CLI never know the format.
+
+import type { Finding } from '../findings.js';
+
+export type FormatName = 'jsonl' | 'json-array' | 'parquet' | 'arrow-file' | 'arrow-stream';
+
+/**
+ * One place in the source, in file order: a line of a JSONL file, an element of a JSON array,
+ * a row of a columnar file. An entry may hold a record (`value` set) or only findings
+ * (a blank or unparseable line).
+ */
+export interface Entry {
+  /** 0-based position among the source's entries: what the record view pages by. */
+  entry: number;
+  /** 0-based record index among the file's records; null when the entry holds no record. */
+  record: number | null;
+  /** 1-based line of the entry's start (text formats); null for columnar rows. */
+  line: number | null;
+  /** 1-based column of the entry's start (text formats; 1 for JSONL). */
+  column: number | null;
+  /** Byte offset of the entry's start in the (decompressed) file (text formats). */
+  byteOffset?: number;
+  /** Row group (Parquet) or record batch (Arrow) holding the row, and the row inside it. */
+  group?: number;
+  rowInGroup?: number;
+  /** The decoded source text of the entry (text formats), used to place findings at a column. */
+  text?: string;
+  /** The record as a plain JSON value; undefined when the entry holds no record. */
+  value?: unknown;
+  /** Findings the source itself raised (read, encoding, json families), already located. */
+  findings: Finding[];
+}
+
+export interface ColumnInfo {
+  name: string;
+  /** Human-readable type, e.g. `string`, `list<struct<role: string, content: string>>`. */
+  type: string;
+}
+
+export interface GroupInfo {
+  /** Row group or batch index. */
+  index: number;
+  rows: number;
+  /** First whole-file row index of the group. */
+  firstRow: number;
+  compressedBytes?: number;
+  uncompressedBytes?: number;
+  /** Codec per column, where the format records one. */
+  codecs?: Record<string, string>;
+}
+
+/** What opening a source tells before any record is read. */
+export interface SourceInfo {
+  format: FormatName;
+  path: string;
+  sizeBytes: number;
+  /** Entries known now (exact for columnar formats after open; grows while a text file is indexed). */
+  entries: number;
+  /** True once `entries` is final. */
+  complete: boolean;
+  columns?: ColumnInfo[];
+  groups?: GroupInfo[];
+  /** Free-form facts for the view's header (codec, compression, writer...). */
+  facts?: Record<string, string>;
+  /** Findings raised while opening (a truncated footer, a missing end-of-stream marker...). */
+  findings: Finding[];
+}
+
+export interface Progress {
+  /** Bytes (or rows) done and total, for a progress bar. */
+  done: number;
+  total: number;
+  /** Entries known so far. */
+  entries: number;
+}
+
+export interface ScanOptions {
+  signal?: AbortSignal;
+  onProgress?: (p: Progress) => void;
+  /** Start at this entry (0 = from the beginning); end before this entry (undefined = to the end). */
+  from?: number;
+  to?: number;
+}
+
+export interface RecordSource {
+  readonly format: FormatName;
+  readonly path: string;
+  /** Cheap: reads what it takes to describe the file (a footer, the first chunk). */
+  open(signal?: AbortSignal): Promise<SourceInfo>;
+  /**
+   * Builds whatever random access needs (a line index for text formats; nothing for columnar ones),
+   * streaming progress; `info()` reflects the entries found so far while it runs.
+   */
+  index(opts?: ScanOptions): Promise<SourceInfo>;
+  /** The latest description (entries grow while indexing). */
+  info(): SourceInfo;
+  /** Reads entries [start, end) — only what those entries need. Requires `index` to have reached `end`. */
+  read(start: number, end: number, opts?: { columns?: string[]; signal?: AbortSignal }): Promise<Entry[]>;
+  /** Streams every entry in order, for whole-file checks; needs no index. */
+  scan(opts?: ScanOptions): AsyncIterable<Entry>;
+  close(): Promise<void>;
+}
+
+/** A byte-range reader over a file: lets tests count what a source reads. */
+export interface ByteReader {
+  readonly size: number;
+  read(offset: number, length: number): Promise<Uint8Array>;
+  close(): Promise<void>;
+}
