@@ -6,7 +6,9 @@ import { dirname, join } from 'node:path';
 import { fileURLToPath } from 'node:url';
 
 const root = join(dirname(fileURLToPath(import.meta.url)), '..');
-const dist = join(root, 'dist');
+const outArg = process.argv.indexOf('--outdir');
+// Tests build into a folder of their own so parallel runs never race on dist/.
+const dist = outArg > 0 ? process.argv[outArg + 1] : join(root, 'dist');
 const production = process.argv.includes('--production');
 
 rmSync(dist, { recursive: true, force: true });
@@ -22,7 +24,7 @@ const common = {
 
 const nodeEntries = [
   { in: 'src/host/extension.ts', out: 'extension' },
-  { in: 'src/cli/main.ts', out: 'cli' },
+  { in: 'src/cli/bin.ts', out: 'cli' },
   { in: 'src/node/worker.ts', out: 'worker' },
 ].filter((e) => existsSync(join(root, e.in)));
 

@@ -71,8 +71,14 @@ export interface DetailView {
   entry: number;
   record: number | null;
   place: string;
-  /** The record as formatted JSON (or the raw text when it holds no record), possibly cut. */
-  json: string;
+  /**
+   * The record value for the JSON tree (long strings already cut by the host, each cut string ending
+   * in an ellipsis and counted in `truncated`); undefined when the entry holds no record.
+   */
+  value?: unknown;
+  /** The raw text of the entry (cut), shown when it holds no record (blank / invalid line). */
+  raw?: string;
+  /** True when the host cut anything from `value` or `raw`. */
   truncated: boolean;
   /** The conversation, for chat records. */
   turns?: TurnView[];

@@ -1,0 +1,90 @@
+// `npm test`: builds, then runs every layer — engine unit tests and outside checks (vitest), the
+// webviews in headless Chromium, and the extension inside a real VS Code workbench — and ends
+// with one line "N passed, M failed".
+import { spawnSync } from 'node:child_process';
+import { existsSync, mkdirSync, readFileSync } from 'node:fs';
+import { dirname, join, resolve } from 'node:path';
+import { fileURLToPath } from 'node:url';
+
+const root = join(dirname(fileURLToPath(import.meta.url)), '..');
+const out = join(root, 'test-output');
+mkdirSync(out, { recursive: true });
+const only = process.argv.slice(2); // e.g. `npm test -- unit webview`
+const want = (layer) => only.length === 0 || only.includes(layer);
+
+const testdata = resolve(root, '../shared/testdata');
+if (!existsSync(join(testdata, 'SOURCES.md'))) {
+  console.error(`The golden test files are missing: expected ${testdata} (see DEVELOPERS.md). Refusing to run without them.`);
+  process.exit(1);
+}
+
+function run(cmd, args, opts = {}) {
+  console.log(`\n▶ ${cmd} ${args.join(' ')}`);
+  const r = spawnSync(cmd, args, { cwd: root, stdio: opts.capture ? ['ignore', 'pipe', 'inherit'] : 'inherit', encoding: 'utf8', env: process.env });
+  if (opts.capture) process.stdout.write(r.stdout ?? '');
+  return r;
+}
+
+const layers = [];
+let passed = 0;
+let failed = 0;
+
+const b = run(process.execPath, ['scripts/build.mjs']);
+if (b.status !== 0) {
+  console.log('\nbuild failed');
+  console.log('0 passed, 1 failed');
+  process.exit(1);
+}
+
+if (want('unit')) {
+  const jsonOut = join(out, 'vitest.json');
+  const r = run(process.execPath, ['node_modules/vitest/vitest.mjs', 'run', '--reporter=default', '--reporter=json', `--outputFile=${jsonOut}`]);
+  let p = 0;
+  let f = r.status === 0 ? 0 : 1;
+  try {
+    const j = JSON.parse(readFileSync(jsonOut, 'utf8'));
+    p = j.numPassedTests;
+    f = j.numFailedTests + (r.status !== 0 && j.numFailedTests === 0 ? 1 : 0);
+  } catch {
+    // No report: the run itself failed; counted as one failure above.
+  }
+  layers.push(['unit and outside checks (vitest)', p, f]);
+}
+
+function nodeTestLayer(name, dir) {
+  if (!existsSync(join(root, dir))) return;
+  const files = readdirTests(join(root, dir));
+  if (!files.length) return;
+  const r = run(process.execPath, ['--test', '--test-reporter=tap', ...files], { capture: true });
+  const p = Number(/^# pass (\d+)/m.exec(r.stdout ?? '')?.[1] ?? 0);
+  let f = Number(/^# fail (\d+)/m.exec(r.stdout ?? '')?.[1] ?? 0);
+  if (r.status !== 0 && f === 0) f = 1;
+  layers.push([name, p, f]);
+}
+
+import { readdirSync } from 'node:fs';
+function readdirTests(dir) {
+  return readdirSync(dir)
+    .filter((f) => f.endsWith('.test.mjs'))
+    .map((f) => join(dir, f));
+}
+
+if (want('webview')) nodeTestLayer('webviews in Chromium', 'test/webview');
+
+if (want('workbench') && existsSync(join(root, 'test/workbench/run.mjs'))) {
+  const r = run(process.execPath, ['test/workbench/run.mjs'], { capture: true });
+  const m = [...(r.stdout ?? '').matchAll(/^(\d+) passed, (\d+) failed/gm)].pop();
+  const p = Number(m?.[1] ?? 0);
+  let f = Number(m?.[2] ?? 0);
+  if (r.status !== 0 && f === 0) f = 1;
+  layers.push(['extension in the VS Code workbench', p, f]);
+}
+
+console.log('\nSummary');
+for (const [name, p, f] of layers) {
+  console.log(`  ${name}: ${p} passed, ${f} failed`);
+  passed += p;
+  failed += f;
+}
+console.log(`${passed} passed, ${failed} failed`);
+process.exit(failed > 0 || passed === 0 ? 1 : 0);

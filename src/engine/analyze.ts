@@ -1,0 +1,135 @@
+// Runs the checks over a source's entries and places every issue at its line and column.
+// Pure engine code: the same function runs in a worker thread, in the CLI and in unit tests.
+
+import type { Check, RecordResult } from './checks/check.js';
+import type { CheckConfig } from './config.js';
+import type { Finding, RecordIssue, RuleInfo } from './findings.js';
+import type { Entry, Progress, RecordSource } from './sources/source.js';
+import { locatePointer } from './json/scan.js';
+
+/** One entry's outcome, as a worker streams it back. */
+export interface EntryOutcome {
+  entry: number;
+  record: number | null;
+  tokens: number | null;
+  kind: 'record' | 'blank' | 'invalid';
+  findings: Finding[];
+}
+
+export interface Share {
+  /** This worker's share: entries in blocks `b` with `b % count === index`. */
+  index: number;
+  count: number;
+  /** Entries per block. */
+  block: number;
+}
+
+export interface AnalyzeOptions {
+  config: CheckConfig;
+  checks: readonly Check[];
+  signal?: AbortSignal;
+  share?: Share;
+  onProgress?: (p: Progress) => void;
+  onOutcome: (o: EntryOutcome) => void;
+}
+
+export function inShare(entry: number, share: Share | undefined): boolean {
+  if (!share || share.count <= 1) return true;
+  return Math.floor(entry / share.block) % share.count === share.index;
+}
+
+/** Prepares every check once (compile the schema, load the encoding). Throws a clear Error. */
+export async function prepareChecks(checks: readonly Check[], config: CheckConfig): Promise<void> {
+  for (const c of checks) await c.prepare?.(config);
+}
+
+export async function analyzeSource(source: RecordSource, opts: AnalyzeOptions): Promise<void> {
+  await prepareChecks(opts.checks, opts.config);
+  for await (const entry of source.scan({ signal: opts.signal, onProgress: opts.onProgress })) {
+    if (opts.signal?.aborted) throw abortError();
+    if (!inShare(entry.entry, opts.share)) continue;
+    opts.onOutcome(analyzeEntry(entry, opts.checks, opts.config));
+  }
+}
+
+/** Runs every check on one entry and locates the issues. */
+export function analyzeEntry(entry: Entry, checks: readonly Check[], config: CheckConfig): EntryOutcome {
+  const findings: Finding[] = [...entry.findings];
+  const kind: EntryOutcome['kind'] =
+    entry.value !== undefined ? 'record' : entry.findings.some((f) => f.rule === 'line-blank') ? 'blank' : 'invalid';
+  if (entry.value === undefined || entry.record === null) {
+    return { entry: entry.entry, record: entry.record, tokens: null, kind, findings };
+  }
+  const result: RecordResult = { issues: [] };
+  for (const check of checks) {
+    try {
+      check.checkRecord({ record: entry.record, value: entry.value }, config, result);
+    } catch (err) {
+      result.issues.push({ rule: 'check-failed', message: `${check.name} check failed on this record: ${(err as Error).message}` });
+    }
+  }
+  const rules = ruleTable(checks);
+  for (const issue of result.issues) findings.push(locateIssue(entry, issue, rules.get(issue.rule)));
+  return { entry: entry.entry, record: entry.record, tokens: result.tokens ?? null, kind, findings };
+}
+
+const ruleTables = new WeakMap<readonly Check[], Map<string, RuleInfo>>();
+function ruleTable(checks: readonly Check[]): Map<string, RuleInfo> {
+  let t = ruleTables.get(checks);
+  if (!t) {
+    t = new Map();
+    for (const c of checks) for (const r of c.rules) t.set(r.id, r);
+    t.set('check-failed', { id: 'check-failed', family: 'read', severity: 'error', summary: '' });
+    ruleTables.set(checks, t);
+  }
+  return t;
+}
+
+/** Turns a check's issue into a Finding at the line and column of the offending value. */
+export function locateIssue(entry: Entry, issue: RecordIssue, rule: RuleInfo | undefined): Finding {
+  const pointer = issue.pointer ?? '';
+  let line = entry.line;
+  let column = entry.column;
+  if (entry.text !== undefined && entry.line !== null) {
+    const at = safeLocate(entry.text, pointer);
+    if (at) {
+      // `at` is 1-based in the entry's text; an entry spanning lines (a JSON array element) moves the line.
+      const offset = at - 1;
+      const before = entry.text.lastIndexOf('\n', offset - 1);
+      if (before === -1) {
+        column = (entry.column ?? 1) + offset;
+      } else {
+        let nl = 0;
+        for (let i = entry.text.indexOf('\n'); i !== -1 && i < offset; i = entry.text.indexOf('\n', i + 1)) nl++;
+        line = entry.line + nl;
+        column = offset - before;
+      }
+    }
+  }
+  return {
+    rule: issue.rule,
+    family: rule?.family ?? 'read',
+    severity: issue.severity ?? rule?.severity ?? 'error',
+    message: issue.message,
+    record: entry.record,
+    line,
+    column,
+    pointer,
+    entry: entry.entry,
+    ...(entry.group !== undefined ? { group: entry.group, rowInGroup: entry.rowInGroup } : {}),
+  };
+}
+
+function safeLocate(text: string, pointer: string): number | null {
+  try {
+    return locatePointer(text, pointer)?.column ?? null;
+  } catch {
+    return null;
+  }
+}
+
+export function abortError(): Error {
+  const e = new Error('cancelled');
+  e.name = 'AbortError';
+  return e;
+}

@@ -1,0 +1,123 @@
+// Gathers entry outcomes (from one or many workers, in any order) into a shard's summary.
+
+import type { EntryOutcome } from '../analyze.js';
+import type { Finding, Severity } from '../findings.js';
+import { compareFindings } from '../findings.js';
+
+export interface TokenStats {
+  total: number;
+  max: number;
+  p50: number;
+  p90: number;
+  p99: number;
+  overContext: number;
+  /** Records whose count is known. */
+  counted: number;
+}
+
+/**
+ * Nearest-rank percentile (common practice: the smallest value with at least p% of values at or
+ * below it) over a sorted array.
+ */
+export function percentile(sorted: ArrayLike<number>, p: number): number {
+  const n = sorted.length;
+  if (n === 0) return 0;
+  const rank = Math.max(1, Math.ceil((p / 100) * n));
+  return sorted[Math.min(n, rank) - 1];
+}
+
+export function tokenStats(counts: ArrayLike<number>, n: number, contextLength: number): TokenStats {
+  const known: number[] = [];
+  let total = 0;
+  let max = 0;
+  let over = 0;
+  for (let i = 0; i < n; i++) {
+    const c = counts[i];
+    if (c < 0) continue;
+    known.push(c);
+    total += c;
+    if (c > max) max = c;
+    if (c > contextLength) over++;
+  }
+  const sorted = Float64Array.from(known).sort();
+  return {
+    total,
+    max,
+    p50: percentile(sorted, 50),
+    p90: percentile(sorted, 90),
+    p99: percentile(sorted, 99),
+    overContext: over,
+    counted: known.length,
+  };
+}
+
+export class ShardTally {
+  entries = 0;
+  records = 0;
+  blankLines = 0;
+  invalidLines = 0;
+  /** Token count per record index; -1 = not counted yet. */
+  private tokens = new Int32Array(1024).fill(-1);
+  private maxRecord = -1;
+  readonly findings: Finding[] = [];
+  totalFindings = 0;
+  readonly bySeverity: Record<Severity, number> = { error: 0, warning: 0, info: 0 };
+  readonly byRule = new Map<string, number>();
+  private sorted = true;
+
+  /** `keepFindings` caps how many findings are kept in memory; all are still counted. */
+  constructor(private readonly keepFindings = 200_000) {}
+
+  add(o: EntryOutcome): void {
+    this.entries = Math.max(this.entries, o.entry + 1);
+    if (o.kind === 'record') this.records++;
+    else if (o.kind === 'blank') this.blankLines++;
+    else this.invalidLines++;
+    if (o.record !== null) {
+      this.maxRecord = Math.max(this.maxRecord, o.record);
+      if (o.tokens !== null) this.setTokens(o.record, o.tokens);
+    }
+    for (const f of o.findings) this.addFinding(f);
+  }
+
+  addFinding(f: Finding): void {
+    this.totalFindings++;
+    this.bySeverity[f.severity]++;
+    this.byRule.set(f.rule, (this.byRule.get(f.rule) ?? 0) + 1);
+    if (this.findings.length < this.keepFindings) {
+      const last = this.findings[this.findings.length - 1];
+      if (last && compareFindings(last, f) > 0) this.sorted = false;
+      this.findings.push(f);
+    }
+  }
+
+  setTokens(record: number, count: number): void {
+    if (record >= this.tokens.length) {
+      let size = this.tokens.length;
+      while (size <= record) size *= 2;
+      const next = new Int32Array(size).fill(-1);
+      next.set(this.tokens);
+      this.tokens = next;
+    }
+    this.tokens[record] = Math.min(count, 0x7fffffff);
+  }
+
+  tokensOf(record: number): number | null {
+    if (record < 0 || record >= this.tokens.length) return null;
+    const v = this.tokens[record];
+    return v < 0 ? null : v;
+  }
+
+  /** Findings in file order. */
+  sortedFindings(): Finding[] {
+    if (!this.sorted) {
+      this.findings.sort(compareFindings);
+      this.sorted = true;
+    }
+    return this.findings;
+  }
+
+  tokenStats(contextLength: number): TokenStats {
+    return tokenStats(this.tokens, this.maxRecord + 1, contextLength);
+  }
+}

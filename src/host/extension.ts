@@ -1,0 +1,119 @@
+// Activation: registers the record view, the side panel, Problems, commands and settings.
+// VS Code glue only: formats and rules live in the engine.
+
+import * as vscode from 'vscode';
+import { ENCODINGS } from '../engine/config.js';
+import { ShardDiagnostics } from './diagnostics.js';
+import { RECORD_TEXT_SCHEME, recordTexts } from './openText.js';
+import { PANEL_VIEW_ID, PanelViewProvider } from './panelView.js';
+import { RECORD_VIEW_TYPE, RecordEditorProvider } from './recordEditor.js';
+import { SECTION } from './settings.js';
+import type { ShardDocument } from './shardDocument.js';
+
+export function activate(context: vscode.ExtensionContext): void {
+  const editors = new RecordEditorProvider(context);
+  const panel = new PanelViewProvider(context, editors);
+  const diagnostics = new ShardDiagnostics();
+  const docs = new Set<ShardDocument>();
+
+  context.subscriptions.push(
+    vscode.window.registerCustomEditorProvider(RECORD_VIEW_TYPE, editors, {
+      webviewOptions: { retainContextWhenHidden: true },
+      supportsMultipleEditorsPerDocument: false,
+    }),
+    // JSON array files (.json) open in the same view when the user picks it ("Open With…").
+    vscode.window.registerCustomEditorProvider(`${RECORD_VIEW_TYPE}.json`, editors, {
+      webviewOptions: { retainContextWhenHidden: true },
+      supportsMultipleEditorsPerDocument: false,
+    }),
+    vscode.window.registerWebviewViewProvider(PANEL_VIEW_ID, panel, { webviewOptions: { retainContextWhenHidden: true } }),
+    vscode.workspace.registerTextDocumentContentProvider(RECORD_TEXT_SCHEME, recordTexts),
+    diagnostics,
+  );
+
+  editors.onDidChangeDocument((doc) => {
+    if (!docs.has(doc)) {
+      docs.add(doc);
+      doc.onDidDispose(() => {
+        docs.delete(doc);
+        diagnostics.clear(doc);
+      });
+    }
+    if (doc.settings) diagnostics.update(doc, doc.settings.maxProblems);
+  });
+
+  const activeDoc = (): ShardDocument | undefined => editors.active?.document;
+
+  context.subscriptions.push(
+    vscode.commands.registerCommand('shardwise.openRecordView', async (uri?: vscode.Uri) => {
+      const target = uri ?? vscode.window.activeTextEditor?.document.uri;
+      if (!target) {
+        const picked = await vscode.window.showOpenDialog({
+          canSelectMany: false,
+          filters: { Shards: ['jsonl', 'ndjson', 'gz', 'zst', 'parquet', 'arrow', 'feather', 'arrows', 'json'] },
+        });
+        if (!picked?.[0]) return;
+        return vscode.commands.executeCommand('vscode.openWith', picked[0], RECORD_VIEW_TYPE);
+      }
+      return vscode.commands.executeCommand('vscode.openWith', target, RECORD_VIEW_TYPE);
+    }),
+    vscode.commands.registerCommand('shardwise.goTo', async () => {
+      const a = editors.active;
+      if (!a) return void vscode.window.showInformationMessage('Shardwise: open a shard in the record view first.');
+      const text = await vscode.window.showInputBox({
+        title: 'Go to record or line',
+        prompt: 'A record number (0-based), "line N" (1-based) or "row N"',
+        validateInput: (v) => (parseGoTo(v) ? null : 'Type a number, "line N" or "row N"'),
+      });
+      const g = text ? parseGoTo(text) : null;
+      if (!g) return;
+      const entry = g.kind === 'line' ? a.document.entryOfLine(g.value) : a.document.entryOfRecord(g.value);
+      a.panel.reveal(a.panel.viewColumn, false);
+      a.select(entry);
+    }),
+    vscode.commands.registerCommand('shardwise.chooseEncoding', async () => {
+      const current = vscode.workspace.getConfiguration(SECTION).get<string>('tokens.encoding');
+      const pick = await vscode.window.showQuickPick(
+        ENCODINGS.map((e) => ({ label: e, description: e === current ? 'current' : undefined })),
+        { title: 'Token encoding for counts and context checks' },
+      );
+      if (!pick) return;
+      await vscode.workspace.getConfiguration(SECTION).update('tokens.encoding', pick.label, configTarget());
+    }),
+    vscode.commands.registerCommand('shardwise.setContextLength', async () => {
+      const current = vscode.workspace.getConfiguration(SECTION).get<number>('tokens.contextLength', 8192);
+      const v = await vscode.window.showInputBox({
+        title: 'Context length in tokens',
+        value: String(current),
+        validateInput: (s) => (/^[1-9][0-9]*$/.test(s.trim()) ? null : 'A whole number of tokens'),
+      });
+      if (!v) return;
+      await vscode.workspace.getConfiguration(SECTION).update('tokens.contextLength', Number(v.trim()), configTarget());
+    }),
+    vscode.commands.registerCommand('shardwise.checkAgain', () => {
+      const d = activeDoc();
+      if (d) void d.analyze();
+    }),
+    vscode.commands.registerCommand('shardwise.cancel', () => activeDoc()?.cancel()),
+    vscode.commands.registerCommand('shardwise.showReport', () => vscode.commands.executeCommand(`${PANEL_VIEW_ID}.focus`)),
+    vscode.workspace.onDidChangeConfiguration((e) => {
+      if (!e.affectsConfiguration(SECTION)) return;
+      for (const d of docs) if (e.affectsConfiguration(SECTION, d.uri)) void d.analyze();
+    }),
+  );
+}
+
+function configTarget(): vscode.ConfigurationTarget {
+  return vscode.workspace.workspaceFolders?.length ? vscode.ConfigurationTarget.Workspace : vscode.ConfigurationTarget.Global;
+}
+
+export function parseGoTo(text: string): { kind: 'record' | 'line'; value: number } | null {
+  const t = text.trim().toLowerCase();
+  let m = /^(?:line\s*|l)(\d+)$/.exec(t);
+  if (m) return Number(m[1]) >= 1 ? { kind: 'line', value: Number(m[1]) } : null;
+  m = /^(?:row\s*|record\s*|#)?(\d+)$/.exec(t);
+  if (m) return { kind: 'record', value: Number(m[1]) };
+  return null;
+}
+
+export function deactivate(): void {}

@@ -1,0 +1,241 @@
+// The read-only custom editor: one webview per open shard, paging records from the shard's worker.
+
+import * as vscode from 'vscode';
+import { extractConversation, extractPair } from '../engine/checks/conversation.js';
+import type { ColumnInfo } from '../engine/sources/source.js';
+import type { DetailView, HostToRecordView, RecordViewToHost, TurnView } from '../protocol.js';
+import { isMessage } from '../protocol.js';
+import { openAtFinding } from './openText.js';
+import { ShardDocument } from './shardDocument.js';
+import { columnsFromEntries, cut, cutValue, rowOf, DETAIL_STRING_CHARS } from './views.js';
+import { webviewHtml } from './webviewAssets.js';
+
+export const RECORD_VIEW_TYPE = 'shardwise.recordView';
+
+export interface ActiveShard {
+  document: ShardDocument;
+  panel: vscode.WebviewPanel;
+  select(entry: number, pointer?: string): void;
+}
+
+export class RecordEditorProvider implements vscode.CustomReadonlyEditorProvider<ShardDocument> {
+  private readonly activeChanged = new vscode.EventEmitter<ActiveShard | null>();
+  readonly onDidChangeActive = this.activeChanged.event;
+  private readonly docsChanged = new vscode.EventEmitter<ShardDocument>();
+  /** Any open shard's findings or progress changed. */
+  readonly onDidChangeDocument = this.docsChanged.event;
+  private current: ActiveShard | null = null;
+  readonly editors = new Set<ActiveShard>();
+
+  constructor(private readonly context: vscode.ExtensionContext) {}
+
+  get active(): ActiveShard | null {
+    return this.current;
+  }
+
+  async openCustomDocument(uri: vscode.Uri): Promise<ShardDocument> {
+    const doc = new ShardDocument(uri);
+    doc.onDidChange(() => this.docsChanged.fire(doc));
+    return doc;
+  }
+
+  async resolveCustomEditor(document: ShardDocument, panel: vscode.WebviewPanel): Promise<void> {
+    const webview = panel.webview;
+    webview.options = {
+      enableScripts: true,
+      localResourceRoots: [vscode.Uri.joinPath(this.context.extensionUri, 'dist'), vscode.Uri.joinPath(this.context.extensionUri, 'media')],
+    };
+    webview.html = webviewHtml(this.context, webview, 'recordView', document.fileName);
+    const post = (m: HostToRecordView) => void webview.postMessage(m);
+    let columns: ColumnInfo[] = [];
+    let ready = false;
+    let loaded = false;
+    let loadError: string | null = null;
+
+    const editor: ActiveShard = {
+      document,
+      panel,
+      select: (entry, pointer) => post({ type: 'select', entry, pointer }),
+    };
+    this.editors.add(editor);
+    const setActive = () => {
+      if (panel.active) {
+        this.current = editor;
+        this.activeChanged.fire(editor);
+      } else if (this.current === editor && !panel.visible) {
+        // Keep the last shard in the panel while another editor has focus.
+      }
+    };
+    panel.onDidChangeViewState(setActive);
+
+    const sendInit = async () => {
+      if (!ready || !loaded) return;
+      const info = document.info!;
+      if (info.columns?.length) columns = info.columns;
+      else {
+        // JSONL: columns are the top-level fields of the first records.
+        const n = Math.min(info.entries, 200);
+        const first = n > 0 ? await document.session!.read(0, n).catch(() => []) : [];
+        columns = columnsFromEntries(first);
+      }
+      post({
+        type: 'init',
+        fileName: document.fileName,
+        format: info.format,
+        sizeBytes: info.sizeBytes,
+        columns,
+        groups: info.groups,
+        facts: info.facts,
+        entries: info.entries,
+        complete: info.complete,
+      });
+    };
+
+    let lastEntries = -1;
+    let lastComplete = false;
+    const sub = document.onDidChange(() => {
+      if (!ready || !document.info) return;
+      const { entries, complete } = document.info;
+      if (entries !== lastEntries || complete !== lastComplete) {
+        lastEntries = entries;
+        lastComplete = complete;
+        post({ type: 'entries', entries, complete, progress: document.progress });
+      }
+    });
+
+    webview.onDidReceiveMessage(async (raw: unknown) => {
+      if (!isMessage(raw)) return;
+      const msg = raw as RecordViewToHost;
+      try {
+        switch (msg.type) {
+          case 'ready':
+            ready = true;
+            if (loadError) post({ type: 'error', message: loadError });
+            else await sendInit();
+            break;
+          case 'requestRows': {
+            const total = document.info?.entries ?? 0;
+            const start = Math.max(0, Math.min(msg.start, total));
+            const end = Math.min(total, start + Math.max(0, Math.min(msg.count, 1000)));
+            const entries = end > start ? await document.session!.read(start, end) : [];
+            const rows = entries.map((e) =>
+              rowOf(e, columns, document.byEntry.get(e.entry), e.record !== null ? document.tally.tokensOf(e.record) : null),
+            );
+            post({ type: 'rows', requestId: msg.requestId, start, rows });
+            break;
+          }
+          case 'requestDetail':
+            post({ type: 'detail', detail: await this.detail(document, msg.entry, msg.reveal) });
+            break;
+          case 'goto': {
+            const entry =
+              msg.kind === 'line' ? document.entryOfLine(msg.value) : msg.kind === 'record' ? document.entryOfRecord(msg.value) : msg.value;
+            const total = document.info?.entries ?? 0;
+            if (entry < 0 || entry >= total) {
+              post({ type: 'error', message: `There is no ${msg.kind} ${msg.value} in this shard (it has ${total.toLocaleString()} entries${document.info?.complete ? '' : ' indexed so far'}).` });
+            } else post({ type: 'select', entry });
+            break;
+          }
+          case 'openText': {
+            const list = document.byEntry.get(msg.entry) ?? [];
+            const f = list.find((x) => msg.pointer !== undefined && x.pointer === msg.pointer) ?? null;
+            await openAtFinding(document, msg.entry, f ?? undefined, msg.pointer);
+            break;
+          }
+          case 'selected':
+            break;
+        }
+      } catch (err) {
+        post({ type: 'error', message: (err as Error).message });
+      }
+    });
+
+    panel.onDidDispose(() => {
+      sub.dispose();
+      this.editors.delete(editor);
+      if (this.current === editor) {
+        this.current = null;
+        this.activeChanged.fire(null);
+      }
+    });
+
+    this.current = editor;
+    this.activeChanged.fire(editor);
+    try {
+      if (!document.session) await document.load();
+      loaded = true;
+      await sendInit();
+    } catch (err) {
+      loadError = (err as Error).message;
+      document.phase = 'failed';
+      document.error = loadError;
+      this.docsChanged.fire(document);
+      if (ready) post({ type: 'error', message: loadError });
+      void vscode.window.showErrorMessage(`Shardwise: ${loadError}`);
+    }
+  }
+
+  async detail(document: ShardDocument, entry: number, reveal?: string): Promise<DetailView> {
+    const [e] = await document.session!.read(entry, entry + 1);
+    if (!e) throw new Error(`entry ${entry} is not in this shard`);
+    const findings = (document.byEntry.get(entry) ?? []).map((f) => document.viewOf(f));
+    const place = e.line !== null ? `line ${e.line}` : `row ${e.record ?? e.entry}`;
+    const detail: DetailView = {
+      entry,
+      record: e.record,
+      place,
+      truncated: false,
+      tokens: e.record !== null ? document.tally.tokensOf(e.record) : null,
+      findings,
+      reveal,
+    };
+    if (e.value === undefined) {
+      detail.raw = cut(e.text ?? '', DETAIL_STRING_CHARS);
+      detail.truncated = (e.text ?? '').length > DETAIL_STRING_CHARS;
+      return detail;
+    }
+    const { value, truncated } = cutValue(e.value);
+    detail.value = value;
+    detail.truncated = truncated;
+    const config = document.settings.config;
+    const conv = safe(() => extractConversation(e.value, config));
+    if (conv && conv.turns.length) {
+      const counts = await document.session!.turnTokens(e.value, config).catch(() => []);
+      const byPointer = new Map(counts.map((c) => [c.pointer, c.tokens]));
+      detail.turns = conv.turns.map(
+        (t): TurnView => ({
+          index: t.index,
+          role: t.role ?? (typeof t.rawRole === 'string' ? t.rawRole : '(no role)'),
+          content: cut(t.text, DETAIL_STRING_CHARS),
+          tokens: byPointer.get(t.pointer) ?? null,
+          pointer: t.pointer,
+        }),
+      );
+    }
+    const pair = safe(() => extractPair(e.value, config));
+    if (pair) {
+      const side = (s: { text: string } | null) => cut(s?.text ?? '', DETAIL_STRING_CHARS);
+      detail.pair = { prompt: side(pair.prompt), chosen: side(pair.chosen), rejected: side(pair.rejected) };
+    }
+    return detail;
+  }
+
+  revealInActive(document: ShardDocument, entry: number, pointer?: string): boolean {
+    for (const ed of this.editors) {
+      if (ed.document === document) {
+        ed.panel.reveal(ed.panel.viewColumn, false);
+        ed.select(entry, pointer);
+        return true;
+      }
+    }
+    return false;
+  }
+}
+
+function safe<T>(f: () => T): T | null {
+  try {
+    return f();
+  } catch {
+    return null;
+  }
+}

@@ -1,0 +1,78 @@
+// Maps VS Code settings (shardwise.*) onto the engine's CheckConfig for one shard.
+
+import * as vscode from 'vscode';
+import { ENCODINGS, withDefaults, type CheckConfig, type EncodingName } from '../engine/config.js';
+
+export const SECTION = 'shardwise';
+
+export interface HostSettings {
+  config: CheckConfig;
+  /** A clear message when the mapped schema could not be loaded. */
+  schemaProblem?: string;
+  maxProblems: number;
+  workers: number;
+  /** Files larger than this open in a read-only line document instead of the text editor. */
+  textEditorMaxBytes: number;
+  /** Files reached through a non-file scheme are copied up to this size. */
+  virtualFileMaxBytes: number;
+}
+
+/** Glob → RegExp for the `shardwise.schemas` keys: `**` any path, `*` within a segment, `?` one char. */
+export function globToRegExp(glob: string): RegExp {
+  let re = '';
+  for (let i = 0; i < glob.length; i++) {
+    const c = glob[i];
+    if (c === '*') {
+      if (glob[i + 1] === '*') {
+        re += '.*';
+        i++;
+        if (glob[i + 1] === '/') i++;
+      } else re += '[^/]*';
+    } else if (c === '?') re += '[^/]';
+    else re += c.replace(/[.+^${}()|[\]\\]/g, '\\$&');
+  }
+  return new RegExp(`^${re}$`);
+}
+
+export async function settingsFor(uri: vscode.Uri): Promise<HostSettings> {
+  const s = vscode.workspace.getConfiguration(SECTION, uri);
+  const encoding = s.get<string>('tokens.encoding', 'cl100k_base');
+  const config = withDefaults({
+    encoding: (ENCODINGS as readonly string[]).includes(encoding) ? (encoding as EncodingName) : 'cl100k_base',
+    contextLength: Math.max(1, s.get<number>('tokens.contextLength', 8192)),
+    textFields: s.get<string[]>('text.fields', withDefaults().textFields),
+    maxLineBytes: Math.max(1024, s.get<number>('lines.maxBytes', 64 * 1024 * 1024)),
+  });
+  config.chat.roles = s.get<string[]>('chat.roles', config.chat.roles);
+  config.chat.allowRepeatedRoles = s.get<boolean>('chat.allowRepeatedRoles', false);
+  const out: HostSettings = {
+    config,
+    maxProblems: Math.max(1, s.get<number>('problems.max', 1000)),
+    workers: Math.max(0, s.get<number>('workers', 0)),
+    textEditorMaxBytes: s.get<number>('textEditor.maxBytes', 50 * 1024 * 1024),
+    virtualFileMaxBytes: s.get<number>('virtualFiles.maxBytes', 512 * 1024 * 1024),
+  };
+  const schemas = s.get<Record<string, string>>('schemas', {});
+  const folder = vscode.workspace.getWorkspaceFolder(uri);
+  const rel = folder ? vscode.workspace.asRelativePath(uri, false) : uri.path.split('/').pop() ?? '';
+  const base = uri.path.split('/').pop() ?? '';
+  for (const [glob, schemaPath] of Object.entries(schemas)) {
+    const re = globToRegExp(glob);
+    if (!re.test(rel) && !re.test(base)) continue;
+    const schemaUri = resolveSchemaUri(schemaPath, folder, uri);
+    try {
+      const bytes = await vscode.workspace.fs.readFile(schemaUri);
+      out.config.schema = { source: schemaUri.fsPath || schemaUri.toString(), schema: JSON.parse(new TextDecoder().decode(bytes)) };
+    } catch (err) {
+      out.schemaProblem = `The JSON Schema mapped to ${base} by "shardwise.schemas" (${schemaPath}) could not be loaded: ${(err as Error).message}`;
+    }
+    break;
+  }
+  return out;
+}
+
+function resolveSchemaUri(p: string, folder: vscode.WorkspaceFolder | undefined, file: vscode.Uri): vscode.Uri {
+  if (p.startsWith('/') || /^[a-zA-Z]:[\\/]/.test(p)) return vscode.Uri.file(p);
+  const base = folder?.uri ?? vscode.Uri.joinPath(file, '..');
+  return vscode.Uri.joinPath(base, p.replace(/^\.\//, ''));
+}

@@ -1,0 +1,279 @@
+// One open shard: its reading worker (index + pages), its whole-file analysis (worker pool) and
+// what that analysis found. Screens (record view, panel, Problems) only read from here.
+
+import * as vscode from 'vscode';
+import { mkdtemp, writeFile, rm } from 'node:fs/promises';
+import { tmpdir } from 'node:os';
+import { join } from 'node:path';
+import type { EntryOutcome } from '../engine/analyze.js';
+import type { Finding } from '../engine/findings.js';
+import type { Progress, SourceInfo } from '../engine/sources/source.js';
+import { ShardTally } from '../engine/stats/tally.js';
+import { analyzeFile, defaultWorkerCount } from '../node/pool.js';
+import { SourceSession } from '../node/session.js';
+import type { FindingView, ShardSummary } from '../protocol.js';
+import { settingsFor, type HostSettings } from './settings.js';
+
+export function placeOf(f: { line: number | null; column: number | null; record: number | null; entry: number | null }): string {
+  if (f.line !== null) return f.column !== null ? `${f.line}:${f.column}` : `${f.line}`;
+  if (f.record !== null) return `row ${f.record}`;
+  if (f.entry !== null) return `row ${f.entry}`;
+  return 'file';
+}
+
+export class ShardDocument implements vscode.CustomDocument {
+  private readonly changed = new vscode.EventEmitter<void>();
+  /** Fires (throttled by listeners) when entries, findings or the phase change. */
+  readonly onDidChange = this.changed.event;
+  private readonly disposedEmitter = new vscode.EventEmitter<void>();
+  readonly onDidDispose = this.disposedEmitter.event;
+
+  session: SourceSession | null = null;
+  info: SourceInfo | null = null;
+  settings!: HostSettings;
+  tally = new ShardTally();
+  /** Findings of each entry (for row markers and the detail pane). */
+  byEntry = new Map<number, Finding[]>();
+  /** Record index → entry index, learnt from the analysis. */
+  private recordEntry = new Int32Array(0);
+  phase: ShardSummary['phase'] = 'indexing';
+  progress = 0;
+  error?: string;
+  private analysis: AbortController | null = null;
+  private tempDir: string | null = null;
+  /** The local file the engine reads (a temporary copy for non-file schemes). */
+  localPath = '';
+  private generation = 0;
+
+  constructor(readonly uri: vscode.Uri) {}
+
+  get fileName(): string {
+    return this.uri.path.split('/').pop() ?? this.uri.toString();
+  }
+
+  async load(): Promise<void> {
+    this.settings = await settingsFor(this.uri);
+    this.localPath = await this.materialize();
+    const session = new SourceSession(this.localPath, { maxLineBytes: this.settings.config.maxLineBytes }, {
+      onInfo: (info) => {
+        this.info = info;
+        this.fire();
+      },
+      onProgress: (p) => {
+        if (this.info) this.info = { ...this.info, entries: p.entries };
+        if (this.phase === 'indexing') this.progress = p.total ? p.done / p.total : 0;
+        this.fire();
+      },
+      onIndexed: (info) => {
+        this.info = info;
+        this.fire();
+      },
+      onError: (message) => {
+        this.error = message;
+        this.fire();
+      },
+    });
+    this.session = session;
+    await session.start();
+    void this.analyze();
+  }
+
+  /** Copies a file from a non-file scheme into a temporary folder (never written back). */
+  private async materialize(): Promise<string> {
+    if (this.uri.scheme === 'file') return this.uri.fsPath;
+    const stat = await vscode.workspace.fs.stat(this.uri);
+    if (stat.size > this.settings.virtualFileMaxBytes) {
+      throw new Error(
+        `${this.fileName} is ${(stat.size / 2 ** 20).toFixed(0)} MiB on a remote or virtual file system; ` +
+          `Shardwise reads such files only up to ${(this.settings.virtualFileMaxBytes / 2 ** 20).toFixed(0)} MiB ` +
+          `(setting shardwise.virtualFiles.maxBytes). Open it from a local folder or a remote window instead.`,
+      );
+    }
+    this.tempDir = await mkdtemp(join(tmpdir(), 'shardwise-copy-'));
+    const local = join(this.tempDir, this.fileName);
+    await writeFile(local, await vscode.workspace.fs.readFile(this.uri));
+    return local;
+  }
+
+  /** Runs (or re-runs, after a settings change) the whole-file analysis with progress. */
+  async analyze(): Promise<void> {
+    this.analysis?.abort();
+    const ac = new AbortController();
+    this.analysis = ac;
+    const gen = ++this.generation;
+    this.settings = await settingsFor(this.uri);
+    this.tally = new ShardTally();
+    this.byEntry = new Map();
+    this.byId = new Map();
+    this.ids = new WeakMap();
+    this.recordEntry = new Int32Array(0);
+    this.phase = 'analysing';
+    this.progress = 0;
+    this.error = this.settings.schemaProblem;
+    this.fire();
+    const workers = this.settings.workers || defaultWorkerCount();
+    try {
+      await vscode.window.withProgress(
+        { location: vscode.ProgressLocation.Notification, title: `Shardwise: checking ${this.fileName}`, cancellable: true },
+        async (report, token) => {
+          token.onCancellationRequested(() => ac.abort());
+          let lastPct = 0;
+          await analyzeFile(this.localPath, {
+            config: this.settings.config,
+            open: { maxLineBytes: this.settings.config.maxLineBytes },
+            workers,
+            signal: ac.signal,
+            onInfo: (info) => {
+              if (gen !== this.generation) return;
+              for (const f of info.findings) this.addFinding(f);
+            },
+            onProgress: (p: Progress) => {
+              if (gen !== this.generation) return;
+              const pct = p.total ? (100 * p.done) / p.total : 0;
+              this.progress = pct / 100;
+              if (pct - lastPct >= 1) {
+                report.report({ increment: pct - lastPct, message: `${p.entries.toLocaleString()} entries` });
+                lastPct = pct;
+              }
+              this.fire();
+            },
+            onOutcomes: (os) => {
+              if (gen !== this.generation) return;
+              for (const o of os) this.addOutcome(o);
+              this.fire();
+            },
+          });
+        },
+      );
+      if (gen !== this.generation) return;
+      this.phase = 'done';
+      this.progress = 1;
+    } catch (err) {
+      if (gen !== this.generation) return;
+      if ((err as Error).name === 'AbortError') this.phase = 'cancelled';
+      else {
+        this.phase = 'failed';
+        this.error = (err as Error).message;
+      }
+    }
+    this.fire();
+  }
+
+  cancel(): void {
+    this.analysis?.abort();
+    this.session?.cancelIndexing();
+  }
+
+  private addOutcome(o: EntryOutcome): void {
+    this.tally.add(o);
+    if (o.record !== null) {
+      if (o.record >= this.recordEntry.length) {
+        let size = Math.max(1024, this.recordEntry.length);
+        while (size <= o.record) size *= 2;
+        const next = new Int32Array(size).fill(-1);
+        next.set(this.recordEntry);
+        this.recordEntry = next;
+      }
+      this.recordEntry[o.record] = o.entry;
+    }
+    if (o.findings.length) {
+      const list = this.byEntry.get(o.entry) ?? [];
+      list.push(...o.findings);
+      this.byEntry.set(o.entry, list);
+    }
+  }
+
+  private addFinding(f: Finding): void {
+    this.tally.addFinding(f);
+    if (f.entry !== null) {
+      const list = this.byEntry.get(f.entry) ?? [];
+      list.push(f);
+      this.byEntry.set(f.entry, list);
+    }
+  }
+
+  /** The entry holding a record: exact once the analysis passed it, else the record number itself. */
+  entryOfRecord(record: number): number {
+    const e = record < this.recordEntry.length ? this.recordEntry[record] : -1;
+    return e >= 0 ? e : record;
+  }
+
+  /** Entry for a 1-based line (JSONL: one entry per line). */
+  entryOfLine(line: number): number {
+    return Math.max(0, line - 1);
+  }
+
+  summary(): ShardSummary {
+    const t = this.tally.tokenStats(this.settings.config.contextLength);
+    return {
+      path: this.uri.fsPath || this.uri.toString(),
+      fileName: this.fileName,
+      format: this.info?.format ?? 'jsonl',
+      sizeBytes: this.info?.sizeBytes ?? 0,
+      entries: Math.max(this.info?.entries ?? 0, this.tally.entries),
+      records: this.tally.records,
+      blankLines: this.tally.blankLines,
+      invalidLines: this.tally.invalidLines,
+      tokens: {
+        encoding: this.settings.config.encoding,
+        total: t.total,
+        max: t.max,
+        p50: t.p50,
+        p90: t.p90,
+        p99: t.p99,
+        contextLength: this.settings.config.contextLength,
+        overContext: t.overContext,
+      },
+      findingsBySeverity: { ...this.tally.bySeverity },
+      phase: this.phase,
+      progress: this.progress,
+      error: this.error,
+    };
+  }
+
+  private ids = new WeakMap<Finding, number>();
+  private byId = new Map<number, Finding>();
+  private nextId = 0;
+  /** Findings in file order, capped, each with an id that stays valid while the analysis runs on. */
+  findingViews(cap: number): FindingView[] {
+    return this.tally
+      .sortedFindings()
+      .slice(0, cap)
+      .map((f) => {
+        let id = this.ids.get(f);
+        if (id === undefined) {
+          id = this.nextId++;
+          this.ids.set(f, id);
+          this.byId.set(id, f);
+        }
+        return { ...f, id, place: placeOf(f) };
+      });
+  }
+
+  findingById(id: number): Finding | undefined {
+    return this.byId.get(id);
+  }
+
+  viewOf(f: Finding): FindingView {
+    let id = this.ids.get(f);
+    if (id === undefined) {
+      id = this.nextId++;
+      this.ids.set(f, id);
+      this.byId.set(id, f);
+    }
+    return { ...f, id, place: placeOf(f) };
+  }
+
+  private fire(): void {
+    this.changed.fire();
+  }
+
+  dispose(): void {
+    this.analysis?.abort();
+    this.session?.dispose();
+    if (this.tempDir) void rm(this.tempDir, { recursive: true, force: true });
+    this.disposedEmitter.fire();
+    this.changed.dispose();
+    this.disposedEmitter.dispose();
+  }
+}

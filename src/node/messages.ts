@@ -1,0 +1,24 @@
+// Messages between a host thread (extension host or CLI) and its worker threads.
+
+import type { EntryOutcome, Share } from '../engine/analyze.js';
+import type { CheckConfig } from '../engine/config.js';
+import type { OpenOptions } from '../engine/sources/index.js';
+import type { Entry, Progress, SourceInfo } from '../engine/sources/source.js';
+
+export type WorkerRequest =
+  | { id: number; op: 'analyze'; path: string; config: CheckConfig; share: Share; open: OpenOptions }
+  | { id: number; op: 'open'; path: string; open: OpenOptions }
+  | { id: number; op: 'read'; start: number; end: number; columns?: string[] }
+  | { id: number; op: 'turnTokens'; value: unknown; config: CheckConfig }
+  | { id: number; op: 'cancel'; target: number }
+  | { id: number; op: 'memory' };
+
+export type WorkerEvent =
+  | { id: number; kind: 'progress'; progress: Progress }
+  | { id: number; kind: 'info'; info: SourceInfo }
+  | { id: number; kind: 'outcomes'; outcomes: EntryOutcome[] }
+  | { id: number; kind: 'entries'; entries: Entry[] }
+  | { id: number; kind: 'turnTokens'; turns: { pointer: string; role: string | null; tokens: number }[] }
+  | { id: number; kind: 'memory'; rss: number; wasm: number }
+  | { id: number; kind: 'done' }
+  | { id: number; kind: 'error'; message: string; name: string };

@@ -1,0 +1,182 @@
+// A record view's private worker: it opens the shard, indexes it, and serves page reads, so the
+// extension host's thread stays free. A worker whose WebAssembly memory passes a budget is
+// replaced (wasm memory never shrinks).
+
+import { Worker } from 'node:worker_threads';
+import type { CheckConfig } from '../engine/config.js';
+import type { OpenOptions } from '../engine/sources/index.js';
+import type { Entry, Progress, SourceInfo } from '../engine/sources/source.js';
+import type { WorkerEvent, WorkerRequest } from './messages.js';
+import { workerScriptPath } from './pool.js';
+
+type Pending = { resolve: (ev: WorkerEvent) => void; reject: (e: Error) => void };
+
+export interface SessionEvents {
+  onInfo(info: SourceInfo): void;
+  onProgress(p: Progress): void;
+  onIndexed(info: SourceInfo): void;
+  onError(message: string): void;
+}
+
+export class SourceSession {
+  private worker: Worker | null = null;
+  private nextId = 1;
+  private pending = new Map<number, Pending>();
+  private openId = 0;
+  private disposed = false;
+  private indexed = false;
+  private lastInfo: SourceInfo | null = null;
+
+  constructor(
+    private readonly path: string,
+    private readonly open: OpenOptions,
+    private readonly events: SessionEvents,
+    private readonly wasmBudget = 768 * 1024 * 1024,
+    private readonly script = workerScriptPath(),
+  ) {}
+
+  /** Opens the shard and starts indexing; resolves with the first description. */
+  start(): Promise<SourceInfo> {
+    this.spawn();
+    return new Promise<SourceInfo>((resolve, reject) => {
+      let first = true;
+      this.openId = this.nextId++;
+      this.pending.set(this.openId, {
+        resolve: () => undefined,
+        reject,
+      });
+      const id = this.openId;
+      this.route.set(id, (ev) => {
+        switch (ev.kind) {
+          case 'info':
+            this.lastInfo = ev.info;
+            if (first) {
+              first = false;
+              this.events.onInfo(ev.info);
+              resolve(ev.info);
+            } else {
+              this.indexed = ev.info.complete;
+              this.events.onIndexed(ev.info);
+            }
+            break;
+          case 'progress':
+            this.events.onProgress(ev.progress);
+            break;
+          case 'done':
+            this.pending.delete(id);
+            this.route.delete(id);
+            break;
+          case 'error':
+            this.pending.delete(id);
+            this.route.delete(id);
+            if (first) reject(new Error(ev.message));
+            else if (ev.name !== 'AbortError') this.events.onError(ev.message);
+            break;
+        }
+      });
+      this.post({ id, op: 'open', path: this.path, open: this.open });
+    });
+  }
+
+  get isIndexed(): boolean {
+    return this.indexed;
+  }
+
+  cancelIndexing(): void {
+    if (this.openId) this.post({ id: this.nextId++, op: 'cancel', target: this.openId });
+  }
+
+  async read(start: number, end: number, columns?: string[]): Promise<Entry[]> {
+    const ev = await this.request({ id: this.nextId++, op: 'read', start, end, columns });
+    if (ev.kind !== 'entries') throw new Error('unexpected answer from the shard worker');
+    void this.maybeRecycle();
+    return ev.entries;
+  }
+
+  async turnTokens(value: unknown, config: CheckConfig) {
+    const ev = await this.request({ id: this.nextId++, op: 'turnTokens', value, config });
+    if (ev.kind !== 'turnTokens') throw new Error('unexpected answer from the shard worker');
+    return ev.turns;
+  }
+
+  dispose(): void {
+    this.disposed = true;
+    for (const p of this.pending.values()) p.reject(new Error('the record view was closed'));
+    this.pending.clear();
+    void this.worker?.terminate();
+    this.worker = null;
+  }
+
+  // ---- internals ----
+
+  private route = new Map<number, (ev: WorkerEvent) => void>();
+
+  private spawn(): void {
+    const w = new Worker(this.script);
+    this.worker = w;
+    w.on('message', (ev: WorkerEvent) => {
+      const r = this.route.get(ev.id);
+      if (r) return r(ev);
+      const p = this.pending.get(ev.id);
+      if (!p) return;
+      this.pending.delete(ev.id);
+      if (ev.kind === 'error') {
+        const e = new Error(ev.message);
+        e.name = ev.name;
+        p.reject(e);
+      } else p.resolve(ev);
+    });
+    w.on('error', (e) => this.events.onError(`the shard worker failed: ${e.message}`));
+    w.on('exit', (code) => {
+      if (this.worker !== w || this.disposed) return;
+      this.worker = null;
+      for (const p of this.pending.values()) p.reject(new Error(`the shard worker stopped (exit code ${code})`));
+      this.pending.clear();
+      this.events.onError(`the shard worker stopped (exit code ${code})`);
+    });
+  }
+
+  private request(req: WorkerRequest): Promise<WorkerEvent> {
+    if (this.disposed) return Promise.reject(new Error('the record view was closed'));
+    return new Promise((resolve, reject) => {
+      this.pending.set(req.id, { resolve, reject });
+      this.post(req);
+    });
+  }
+
+  private post(req: WorkerRequest): void {
+    this.worker?.postMessage(req);
+  }
+
+  private recycling = false;
+  private async maybeRecycle(): Promise<void> {
+    // Only sources without a text index are replaced: re-opening them costs a footer read.
+    if (this.recycling || this.disposed || !this.lastInfo || this.lastInfo.format === 'jsonl' || this.lastInfo.format === 'json-array') return;
+    try {
+      const ev = await this.request({ id: this.nextId++, op: 'memory' });
+      if (ev.kind !== 'memory' || ev.wasm < this.wasmBudget) return;
+      this.recycling = true;
+      const old = this.worker;
+      this.route.clear();
+      this.spawn();
+      void old?.terminate();
+      await new Promise<void>((resolve, reject) => {
+        const id = (this.openId = this.nextId++);
+        this.route.set(id, (e) => {
+          if (e.kind === 'done') {
+            this.route.delete(id);
+            resolve();
+          } else if (e.kind === 'error') {
+            this.route.delete(id);
+            reject(new Error(e.message));
+          }
+        });
+        this.post({ id, op: 'open', path: this.path, open: this.open });
+      });
+    } catch {
+      // A failed recycle leaves the old behaviour: reads go on in whatever worker exists.
+    } finally {
+      this.recycling = false;
+    }
+  }
+}

@@ -1,0 +1,115 @@
+// Worker-thread entry: runs whole-file analysis shares and serves a record view's reads,
+// so the extension host's main thread never parses, indexes or tokenizes.
+
+import { parentPort } from 'node:worker_threads';
+import { analyzeSource, type EntryOutcome } from '../engine/analyze.js';
+import { ALL_CHECKS } from '../engine/checks/index.js';
+import { turnTokenCounts } from '../engine/checks/tokens.js';
+import { createSource } from '../engine/sources/index.js';
+import type { RecordSource } from '../engine/sources/source.js';
+import type { WorkerEvent, WorkerRequest } from './messages.js';
+import { wasmMemoryBytes } from './wasmMemory.js';
+
+const port = parentPort;
+if (!port) throw new Error('worker.ts must run in a worker thread');
+
+const running = new Map<number, AbortController>();
+let session: RecordSource | null = null;
+let indexing: Promise<unknown> | null = null;
+
+function post(ev: WorkerEvent): void {
+  port!.postMessage(ev);
+}
+
+function fail(id: number, err: unknown): void {
+  const e = err as Error;
+  post({ id, kind: 'error', message: e?.message ?? String(err), name: e?.name ?? 'Error' });
+}
+
+port.on('message', (req: WorkerRequest) => {
+  void handle(req).catch((err) => fail(req.id, err));
+});
+
+async function handle(req: WorkerRequest): Promise<void> {
+  switch (req.op) {
+    case 'analyze': {
+      const ac = new AbortController();
+      running.set(req.id, ac);
+      const source = createSource(req.path, req.open);
+      try {
+        const info = await source.open(ac.signal);
+        if (req.share.index === 0) post({ id: req.id, kind: 'info', info });
+        let batch: EntryOutcome[] = [];
+        let last = Date.now();
+        const flush = () => {
+          if (batch.length) post({ id: req.id, kind: 'outcomes', outcomes: batch });
+          batch = [];
+          last = Date.now();
+        };
+        await analyzeSource(source, {
+          config: req.config,
+          checks: ALL_CHECKS,
+          signal: ac.signal,
+          share: req.share,
+          onProgress: (progress) => post({ id: req.id, kind: 'progress', progress }),
+          onOutcome: (o) => {
+            batch.push(o);
+            if (batch.length >= 500 || Date.now() - last > 200) flush();
+          },
+        });
+        flush();
+        post({ id: req.id, kind: 'done' });
+      } finally {
+        running.delete(req.id);
+        await source.close().catch(() => undefined);
+      }
+      return;
+    }
+    case 'open': {
+      const ac = new AbortController();
+      running.set(req.id, ac);
+      session = createSource(req.path, req.open);
+      const info = await session.open(ac.signal);
+      post({ id: req.id, kind: 'info', info });
+      let lastPost = 0;
+      indexing = session
+        .index({
+          signal: ac.signal,
+          onProgress: (progress) => {
+            const now = Date.now();
+            if (now - lastPost > 100) {
+              lastPost = now;
+              post({ id: req.id, kind: 'progress', progress });
+            }
+          },
+        })
+        .then((final) => {
+          post({ id: req.id, kind: 'info', info: final });
+          post({ id: req.id, kind: 'done' });
+        })
+        .catch((err) => fail(req.id, err))
+        .finally(() => running.delete(req.id));
+      return;
+    }
+    case 'read': {
+      if (!session) throw new Error('no shard is open in this worker');
+      const entries = await session.read(req.start, req.end, { columns: req.columns });
+      post({ id: req.id, kind: 'entries', entries });
+      return;
+    }
+    case 'turnTokens': {
+      post({ id: req.id, kind: 'turnTokens', turns: turnTokenCounts(req.value, req.config) });
+      return;
+    }
+    case 'cancel': {
+      running.get(req.target)?.abort();
+      return;
+    }
+    case 'memory': {
+      post({ id: req.id, kind: 'memory', rss: process.memoryUsage().rss, wasm: wasmMemoryBytes() });
+      return;
+    }
+  }
+}
+
+void indexing;
