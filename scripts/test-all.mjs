@@ -25,6 +25,9 @@ function run(cmd, args, opts = {}) {
   return r;
 }
 
+import { ensureSystemPackages } from './ensure-system.mjs';
+if ((want('webview') || want('workbench')) && !ensureSystemPackages()) process.exit(1);
+
 const layers = [];
 let passed = 0;
 let failed = 0;

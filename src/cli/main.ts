@@ -25,6 +25,8 @@ Options:
   --text-field NAME      field holding a plain record's text (repeatable; default: text, content, document, body, passage)
   --roles LIST           allowed chat roles, comma-separated (default system,user,assistant,tool)
   --allow-repeated-roles do not report the same role twice in a row
+  --require-conversation auto|always|never
+                         report records without a conversation (default auto: when the shard's first records are chats)
   --max-line-bytes N     lines longer than this are findings and are not parsed (default 67108864)
   --workers N            worker threads (default ${defaultWorkerCount()}; 0 = none)
   -h, --help             show this help
@@ -55,6 +57,7 @@ export function parseArgs(argv: string[]): Args | 'help' {
   let schemaPath: string | null = null;
   let roles: string[] | null = null;
   let allowRepeated = false;
+  let requireConversation: boolean | 'auto' = 'auto';
   for (let i = 0; i < rest.length; i++) {
     const a = rest[i];
     const value = (): string => {
@@ -93,6 +96,12 @@ export function parseArgs(argv: string[]): Args | 'help' {
       case '--allow-repeated-roles':
         allowRepeated = true;
         break;
+      case '--require-conversation': {
+        const v = value();
+        if (!['auto', 'always', 'never'].includes(v)) throw new UsageError(`--require-conversation takes auto, always or never, not "${v}"`);
+        requireConversation = v === 'always' ? true : v === 'never' ? false : 'auto';
+        break;
+      }
       case '--max-line-bytes':
         partial.maxLineBytes = positiveInt(name, value());
         break;
@@ -109,6 +118,7 @@ export function parseArgs(argv: string[]): Args | 'help' {
   const config = withDefaults(partial);
   if (roles) config.chat.roles = roles;
   config.chat.allowRepeatedRoles = allowRepeated;
+  config.chat.requireConversation = requireConversation;
   if (schemaPath) config.schema = loadSchema(schemaPath);
   return { files, config, format, workers };
 }
@@ -192,8 +202,8 @@ export async function run(argv: string[], out: NodeJS.WritableStream, err: NodeJ
         workers,
         onInfo: (info) => {
           formatName = info.format;
-          for (const f of info.findings) tally.addFinding(f);
         },
+        onFileFindings: (fs) => fs.forEach((f) => tally.addFinding(f)),
         onOutcomes: (os) => os.forEach((o) => tally.add(o)),
       });
     } catch (e) {

@@ -6,6 +6,7 @@ import type { CheckConfig } from './config.js';
 import type { Finding, RecordIssue, RuleInfo } from './findings.js';
 import type { Entry, Progress, RecordSource } from './sources/source.js';
 import { locatePointer } from './json/scan.js';
+import { settleConfig } from './stats/shape.js';
 
 /** One entry's outcome, as a worker streams it back. */
 export interface EntryOutcome {
@@ -40,12 +41,30 @@ export function inShare(entry: number, share: Share | undefined): boolean {
 
 /** Prepares every check once (compile the schema, load the encoding). Throws a clear Error. */
 export async function prepareChecks(checks: readonly Check[], config: CheckConfig): Promise<void> {
-  for (const c of checks) await c.prepare?.(config);
+  for (const c of checks) {
+    try {
+      await c.prepare?.(config);
+    } catch (err) {
+      // A schema that does not compile is a setup problem, not a finding about the shard.
+      const e = new Error((err as Error)?.message ?? String(err));
+      e.name = 'SetupError';
+      throw e;
+    }
+  }
 }
 
-export async function analyzeSource(source: RecordSource, opts: AnalyzeOptions): Promise<void> {
+/** Errors that stop an analysis rather than becoming a finding about the file. */
+export function isFatal(err: unknown): boolean {
+  const name = (err as Error)?.name;
+  return name === 'AbortError' || name === 'SetupError';
+}
+
+export async function analyzeSource(source: RecordSource, options: AnalyzeOptions): Promise<void> {
+  const opts = { ...options, config: await settleConfig(source, options.config, options.signal) };
   await prepareChecks(opts.checks, opts.config);
-  for await (const entry of source.scan({ signal: opts.signal, onProgress: opts.onProgress })) {
+  const share = opts.share;
+  const want = share && share.count > 1 ? (e: number) => inShare(e, share) : undefined;
+  for await (const entry of source.scan({ signal: opts.signal, onProgress: opts.onProgress, want })) {
     if (opts.signal?.aborted) throw abortError();
     if (!inShare(entry.entry, opts.share)) continue;
     opts.onOutcome(analyzeEntry(entry, opts.checks, opts.config));
@@ -132,4 +151,20 @@ export function abortError(): Error {
   const e = new Error('cancelled');
   e.name = 'AbortError';
   return e;
+}
+
+/** A file that breaks off mid-read keeps what was read; the break itself becomes a finding. */
+export function readFailedFinding(err: unknown): Finding {
+  const msg = err instanceof Error ? err.message : String(err);
+  return {
+    rule: 'read-failed',
+    family: 'read',
+    severity: 'error',
+    message: `reading stopped early: ${msg.replace(/\s+/g, ' ').slice(0, 300)}`,
+    record: null,
+    line: null,
+    column: null,
+    pointer: null,
+    entry: null,
+  };
 }

@@ -8,6 +8,11 @@ export interface ChatConfig {
   roles: string[];
   /** When false, the same role twice in a row is a finding. */
   allowRepeatedRoles: boolean;
+  /**
+   * Whether a record without a conversation field is a finding: 'auto' decides per shard (a shard
+   * whose first records are mostly conversations is a chat shard).
+   */
+  requireConversation?: boolean | 'auto';
 }
 
 export interface SchemaConfig {
@@ -33,7 +38,7 @@ export const DEFAULT_CONFIG: CheckConfig = {
   encoding: 'cl100k_base',
   contextLength: 8192,
   textFields: ['text', 'content', 'document', 'body', 'passage'],
-  chat: { roles: ['system', 'user', 'assistant', 'tool'], allowRepeatedRoles: false },
+  chat: { roles: ['system', 'user', 'assistant', 'tool'], allowRepeatedRoles: false, requireConversation: 'auto' },
   schema: null,
   maxLineBytes: 64 * 1024 * 1024,
 };

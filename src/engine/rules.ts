@@ -3,6 +3,7 @@
 import type { RuleInfo } from './findings.js';
 import { ALL_CHECKS } from './checks/index.js';
 import { JSONL_RULES } from './sources/jsonlRules.js';
+import { COLUMNAR_RULES, JSON_ARRAY_RULES } from './sources/columnarRules.js';
 
 /** Rules raised by the analysis itself rather than by one source or check. */
 export const ANALYSIS_RULES: RuleInfo[] = [
@@ -13,8 +14,7 @@ export const ANALYSIS_RULES: RuleInfo[] = [
 let cache: Map<string, RuleInfo> | null = null;
 
 export function allRules(): RuleInfo[] {
-  const extra: RuleInfo[] = [];
-  return [...ANALYSIS_RULES, ...JSONL_RULES, ...extra, ...ALL_CHECKS.flatMap((c) => c.rules)];
+  return [...ANALYSIS_RULES, ...JSONL_RULES, ...COLUMNAR_RULES, ...JSON_ARRAY_RULES, ...ALL_CHECKS.flatMap((c) => c.rules)];
 }
 
 export function ruleInfo(id: string): RuleInfo | undefined {

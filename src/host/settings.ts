@@ -45,6 +45,8 @@ export async function settingsFor(uri: vscode.Uri): Promise<HostSettings> {
   });
   config.chat.roles = s.get<string[]>('chat.roles', config.chat.roles);
   config.chat.allowRepeatedRoles = s.get<boolean>('chat.allowRepeatedRoles', false);
+  const req = s.get<string>('chat.requireConversation', 'auto');
+  config.chat.requireConversation = req === 'always' ? true : req === 'never' ? false : 'auto';
   const out: HostSettings = {
     config,
     maxProblems: Math.max(1, s.get<number>('problems.max', 1000)),

@@ -123,9 +123,9 @@ export class ShardDocument implements vscode.CustomDocument {
             open: { maxLineBytes: this.settings.config.maxLineBytes },
             workers,
             signal: ac.signal,
-            onInfo: (info) => {
+            onFileFindings: (fs) => {
               if (gen !== this.generation) return;
-              for (const f of info.findings) this.addFinding(f);
+              for (const f of fs) this.addFinding(f);
             },
             onProgress: (p: Progress) => {
               if (gen !== this.generation) return;

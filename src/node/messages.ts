@@ -19,6 +19,6 @@ export type WorkerEvent =
   | { id: number; kind: 'outcomes'; outcomes: EntryOutcome[] }
   | { id: number; kind: 'entries'; entries: Entry[] }
   | { id: number; kind: 'turnTokens'; turns: { pointer: string; role: string | null; tokens: number }[] }
-  | { id: number; kind: 'memory'; rss: number; wasm: number }
+  | { id: number; kind: 'memory'; rss: number; wasm: number; faults: number }
   | { id: number; kind: 'done' }
   | { id: number; kind: 'error'; message: string; name: string };

@@ -4,11 +4,12 @@
 import { availableParallelism } from 'node:os';
 import { join } from 'node:path';
 import { Worker } from 'node:worker_threads';
-import { abortError, analyzeSource, type EntryOutcome, type Share } from '../engine/analyze.js';
+import { abortError, analyzeSource, readFailedFinding, isFatal, type EntryOutcome, type Share } from '../engine/analyze.js';
 import { ALL_CHECKS } from '../engine/checks/index.js';
 import type { CheckConfig } from '../engine/config.js';
 import { createSource, type OpenOptions } from '../engine/sources/index.js';
 import type { Progress, SourceInfo } from '../engine/sources/source.js';
+import type { Finding } from '../engine/findings.js';
 import type { WorkerEvent, WorkerRequest } from './messages.js';
 
 export interface AnalyzeFileOptions {
@@ -20,6 +21,8 @@ export interface AnalyzeFileOptions {
   block?: number;
   signal?: AbortSignal;
   onInfo?: (info: SourceInfo) => void;
+  /** Findings about the file as a whole (from opening it, or found only after a full pass), each once. */
+  onFileFindings?: (findings: Finding[]) => void;
   onProgress?: (p: Progress) => void;
   onOutcomes: (o: EntryOutcome[]) => void;
   /** Where dist/worker.js lives (defaults to beside this bundle). */
@@ -34,7 +37,21 @@ export function workerScriptPath(): string {
   return join(__dirname, 'worker.js');
 }
 
-export async function analyzeFile(path: string, opts: AnalyzeFileOptions): Promise<void> {
+export async function analyzeFile(path: string, options: AnalyzeFileOptions): Promise<void> {
+  const seen = new Set<string>();
+  const opts: AnalyzeFileOptions = {
+    ...options,
+    onInfo: (info) => {
+      options.onInfo?.(info);
+      const fresh = info.findings.filter((f) => {
+        const key = `${f.rule}|${f.entry}|${f.line}|${f.column}|${f.message}`;
+        if (seen.has(key)) return false;
+        seen.add(key);
+        return true;
+      });
+      if (fresh.length) options.onFileFindings?.(fresh);
+    },
+  };
   const workers = opts.workers ?? defaultWorkerCount();
   if (workers <= 0) return analyzeHere(path, opts);
   const block = opts.block ?? 256;
@@ -102,6 +119,7 @@ async function analyzeHere(path: string, opts: AnalyzeFileOptions): Promise<void
     const info = await source.open(opts.signal);
     opts.onInfo?.(info);
     let batch: EntryOutcome[] = [];
+    let broke: Finding | null = null;
     await analyzeSource(source, {
       config: opts.config,
       checks: ALL_CHECKS,
@@ -114,8 +132,13 @@ async function analyzeHere(path: string, opts: AnalyzeFileOptions): Promise<void
           batch = [];
         }
       },
+    }).catch((err) => {
+      if (isFatal(err)) throw err;
+      broke = readFailedFinding(err);
     });
     if (batch.length) opts.onOutcomes(batch);
+    const last = source.info();
+    opts.onInfo?.(broke ? { ...last, findings: [...last.findings, broke] } : last);
   } finally {
     await source.close().catch(() => undefined);
   }

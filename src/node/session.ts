@@ -154,7 +154,8 @@ export class SourceSession {
     if (this.recycling || this.disposed || !this.lastInfo || this.lastInfo.format === 'jsonl' || this.lastInfo.format === 'json-array') return;
     try {
       const ev = await this.request({ id: this.nextId++, op: 'memory' });
-      if (ev.kind !== 'memory' || ev.wasm < this.wasmBudget) return;
+      // A decoder that panicked may hold broken state: replace its worker too.
+      if (ev.kind !== 'memory' || (ev.wasm < this.wasmBudget && ev.faults === 0)) return;
       this.recycling = true;
       const old = this.worker;
       this.route.clear();

@@ -2,13 +2,15 @@
 // so the extension host's main thread never parses, indexes or tokenizes.
 
 import { parentPort } from 'node:worker_threads';
-import { analyzeSource, type EntryOutcome } from '../engine/analyze.js';
+import { analyzeSource, readFailedFinding, isFatal, type EntryOutcome } from '../engine/analyze.js';
+import type { Finding } from '../engine/findings.js';
 import { ALL_CHECKS } from '../engine/checks/index.js';
 import { turnTokenCounts } from '../engine/checks/tokens.js';
+import { loadTokenCounter } from '../engine/tokens/counter.js';
 import { createSource } from '../engine/sources/index.js';
 import type { RecordSource } from '../engine/sources/source.js';
 import type { WorkerEvent, WorkerRequest } from './messages.js';
-import { wasmMemoryBytes } from './wasmMemory.js';
+import { wasmFaults, wasmMemoryBytes } from '../engine/sources/parquet.js';
 
 const port = parentPort;
 if (!port) throw new Error('worker.ts must run in a worker thread');
@@ -46,6 +48,7 @@ async function handle(req: WorkerRequest): Promise<void> {
           batch = [];
           last = Date.now();
         };
+        let broke: Finding | null = null;
         await analyzeSource(source, {
           config: req.config,
           checks: ALL_CHECKS,
@@ -56,8 +59,17 @@ async function handle(req: WorkerRequest): Promise<void> {
             batch.push(o);
             if (batch.length >= 500 || Date.now() - last > 200) flush();
           },
+        }).catch((err) => {
+          if (isFatal(err)) throw err;
+          broke = readFailedFinding(err);
         });
         flush();
+        if (broke) {
+          const info = source.info();
+          post({ id: req.id, kind: 'info', info: { ...info, findings: [...info.findings, broke] } });
+        }
+        // Findings about the file itself (a corrupt compressed stream) are known only after the pass.
+        if (req.share.index === 0) post({ id: req.id, kind: 'info', info: source.info() });
         post({ id: req.id, kind: 'done' });
       } finally {
         running.delete(req.id);
@@ -98,6 +110,7 @@ async function handle(req: WorkerRequest): Promise<void> {
       return;
     }
     case 'turnTokens': {
+      await loadTokenCounter(req.config.encoding);
       post({ id: req.id, kind: 'turnTokens', turns: turnTokenCounts(req.value, req.config) });
       return;
     }
@@ -106,7 +119,7 @@ async function handle(req: WorkerRequest): Promise<void> {
       return;
     }
     case 'memory': {
-      post({ id: req.id, kind: 'memory', rss: process.memoryUsage().rss, wasm: wasmMemoryBytes() });
+      post({ id: req.id, kind: 'memory', rss: process.memoryUsage().rss, wasm: wasmMemoryBytes(), faults: wasmFaults() });
       return;
     }
   }

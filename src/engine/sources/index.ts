@@ -2,6 +2,10 @@
 
 import type { FormatName, RecordSource } from './source.js';
 import { JsonlSource } from './jsonl.js';
+import { ParquetSource } from './parquet.js';
+import { ArrowFileSource } from './arrowFile.js';
+import { ArrowStreamSource } from './arrowStream.js';
+import { JsonArraySource } from './jsonArray.js';
 
 export interface OpenOptions {
   /** Lines longer than this are findings and are not parsed. */
@@ -21,6 +25,10 @@ const FORMATS: FormatEntry[] = [
     endings: ['.jsonl', '.ndjson', '.jsonl.gz', '.ndjson.gz', '.jsonl.zst', '.ndjson.zst'],
     create: (p, o) => new JsonlSource(p, o),
   },
+  { format: 'parquet', endings: ['.parquet'], create: (p) => new ParquetSource(p) },
+  { format: 'arrow-file', endings: ['.arrow', '.feather'], create: (p) => new ArrowFileSource(p) },
+  { format: 'arrow-stream', endings: ['.arrows', '.stream'], create: (p) => new ArrowStreamSource(p) },
+  { format: 'json-array', endings: ['.json'], create: (p, o) => new JsonArraySource(p, { maxElementBytes: o.maxLineBytes }) },
 ];
 
 export function formatOf(path: string): FormatName | null {

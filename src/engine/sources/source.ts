@@ -81,6 +81,11 @@ export interface ScanOptions {
   /** Start at this entry (0 = from the beginning); end before this entry (undefined = to the end). */
   from?: number;
   to?: number;
+  /**
+   * Entries this scan must deliver (a worker's share). A source may skip building the others —
+   * it still counts them, so record numbers stay right — and callers ignore any it does yield.
+   */
+  want?: (entry: number) => boolean;
 }
 
 export interface RecordSource {

@@ -1,0 +1,271 @@
+// What the Arrow file and stream sources share: a layout of messages (schema, dictionaries, batches)
+// found by reading headers only, and decoding of one batch by handing the library just the messages
+// that batch needs.
+
+import { RecordBatchReader, type RecordBatch, type Schema } from 'apache-arrow';
+import type { Finding } from '../../findings.js';
+import type { ByteReader, Entry, FormatName, GroupInfo, RecordSource, ScanOptions, SourceInfo } from '../source.js';
+import { errorText, readFinding } from '../columnarRules.js';
+import { openFileReader, type ReaderFactory } from './byteReader.js';
+import { registerIpcCodecs } from './codecs.js';
+import { END_OF_STREAM, IpcFormatError, MESSAGE_DICTIONARY, unreadableColumns, type MessageHeader } from './ipc.js';
+import { ByteBudgetCache, batchEntries, groupOf, lostEntries } from './rows.js';
+import { schemaColumns } from './toJson.js';
+
+export interface ArrowSourceOptions {
+  /** Opens the file for range reads; tests pass a counting reader. */
+  openReader?: ReaderFactory;
+  /** Bytes of decoded batches kept for paging back and forth. */
+  cacheBytes?: number;
+}
+
+export interface Block {
+  offset: number;
+  metaLength: number;
+  bodyLength: number;
+}
+
+/** What reading the headers found. */
+export interface Layout {
+  schema: Block | null;
+  /** A schema message built from the footer, for files whose stream part omits it. */
+  schemaMessage?: Uint8Array;
+  dictionaries: Block[];
+  batches: (Block & { rows: number; codec?: string })[];
+  facts: Record<string, string>;
+  findings: Finding[];
+  /** Set when nothing can be decoded (big-endian, future version, no schema). */
+  refused?: string;
+}
+
+export function ipcFinding(e: unknown, where: string): Finding {
+  if (e instanceof IpcFormatError) {
+    const rule = e.kind === 'truncated' ? 'read-truncated' : e.kind === 'unsupported' ? 'read-unsupported' : 'read-corrupt';
+    return readFinding(rule, `${where}: ${e.message}`);
+  }
+  return readFinding('read-corrupt', `${where}: ${errorText(e)}`);
+}
+
+export abstract class ArrowSourceBase implements RecordSource {
+  abstract readonly format: FormatName;
+  protected reader: ByteReader | null = null;
+  protected layout: Layout | null = null;
+  protected arrowSchema: Schema | null = null;
+  private firstRows: number[] = [];
+  private current: SourceInfo;
+  private cache: ByteBudgetCache<RecordBatch | Error>;
+  private schemaBytes: Uint8Array | null = null;
+  private dictBytes = new Map<number, Uint8Array>();
+
+  constructor(
+    readonly path: string,
+    protected readonly opts: ArrowSourceOptions = {},
+  ) {
+    registerIpcCodecs();
+    this.cache = new ByteBudgetCache(opts.cacheBytes ?? 64 * 1024 * 1024);
+    this.current = { format: 'arrow-file', path, sizeBytes: 0, entries: 0, complete: false, findings: [] };
+  }
+
+  /** Reads the headers this format needs to place every batch. */
+  protected abstract readLayout(reader: ByteReader, signal?: AbortSignal): Promise<Layout>;
+  /** Whether `open` already knows every batch (file) or `index` must find them (stream). */
+  protected abstract layoutAtOpen: boolean;
+
+  async open(signal?: AbortSignal): Promise<SourceInfo> {
+    if (!this.reader) this.reader = await (this.opts.openReader ?? openFileReader)(this.path);
+    this.current = { format: this.format, path: this.path, sizeBytes: this.reader.size, entries: 0, complete: false, findings: [] };
+    if (this.layoutAtOpen) await this.loadLayout(signal);
+    else await this.loadSchemaOnly();
+    return this.info();
+  }
+
+  async index(opts: ScanOptions = {}): Promise<SourceInfo> {
+    if (!this.reader) await this.open(opts.signal);
+    if (!this.layout) await this.loadLayout(opts.signal);
+    opts.onProgress?.({ done: this.reader!.size, total: this.reader!.size, entries: this.current.entries });
+    return this.info();
+  }
+
+  info(): SourceInfo {
+    return { ...this.current, findings: [...this.current.findings] };
+  }
+
+  /** Stream sources read the schema message at open; the batches wait for `index`. */
+  protected async loadSchemaOnly(): Promise<void> {
+    const layout = await this.readSchemaLayout(this.reader!);
+    await this.describe(layout, false);
+  }
+
+  protected readSchemaLayout(_reader: ByteReader): Promise<Layout> {
+    return this.readLayout(_reader);
+  }
+
+  private async loadLayout(signal?: AbortSignal): Promise<void> {
+    const layout = await this.readLayout(this.reader!, signal);
+    this.layout = layout;
+    await this.describe(layout, true);
+  }
+
+  private async describe(layout: Layout, complete: boolean): Promise<void> {
+    const findings = [...layout.findings];
+    if ((layout.schema || layout.schemaMessage) && !this.arrowSchema) {
+      try {
+        this.schemaBytes = layout.schemaMessage ?? (await this.messageBytes(layout.schema!, false));
+        this.arrowSchema = decodeSchema(this.schemaBytes);
+      } catch (e) {
+        const odd = this.schemaBytes ? unreadableColumns(this.schemaBytes) : [];
+        findings.push(
+          odd.length
+            ? readFinding('read-unsupported', `column${odd.length > 1 ? 's' : ''} ${odd.map((c) => `"${c.name}" (${c.type})`).join(', ')}: a type this reader cannot read`)
+            : ipcFinding(e, 'schema message'),
+        );
+        layout.refused ??= 'the schema does not decode';
+      }
+    }
+    const groups: GroupInfo[] = [];
+    let first = 0;
+    this.firstRows = [];
+    const batches = layout.refused ? [] : layout.batches;
+    batches.forEach((b, index) => {
+      this.firstRows.push(first);
+      const g: GroupInfo = { index, rows: b.rows, firstRow: first, compressedBytes: b.bodyLength };
+      if (b.codec && this.arrowSchema) g.codecs = Object.fromEntries(this.arrowSchema.fields.map((f) => [f.name, b.codec!]));
+      groups.push(g);
+      first += b.rows;
+    });
+    const codecs = [...new Set(batches.map((b) => b.codec ?? 'none'))];
+    this.current = {
+      format: this.format,
+      path: this.path,
+      sizeBytes: this.reader!.size,
+      entries: complete ? first : 0,
+      complete,
+      columns: this.arrowSchema ? schemaColumns(this.arrowSchema) : [],
+      groups: complete ? groups : undefined,
+      facts: { ...layout.facts, ...(complete ? { batches: String(batches.length), compression: codecs.join(', ') || 'none' } : {}) },
+      findings,
+    };
+  }
+
+  private async messageBytes(b: Block, withBody: boolean): Promise<Uint8Array> {
+    return this.reader!.read(b.offset, b.metaLength + (withBody ? b.bodyLength : 0));
+  }
+
+  /** Decodes batch `k`, reading only its message, the schema and the dictionaries before it. */
+  private async decodeBatch(k: number): Promise<RecordBatch | Error> {
+    const hit = this.cache.get(k);
+    if (hit) return hit;
+    const layout = this.layout!;
+    const b = layout.batches[k];
+    let result: RecordBatch | Error;
+    try {
+      const parts: Uint8Array[] = [this.schemaBytes!];
+      for (const d of layout.dictionaries) {
+        // A stream's dictionaries apply from where they appear; a file's all precede its batches.
+        if (this.format === 'arrow-stream' && d.offset > b.offset) break;
+        let bytes = this.dictBytes.get(d.offset);
+        if (!bytes) {
+          bytes = await this.messageBytes(d, true);
+          this.dictBytes.set(d.offset, bytes);
+        }
+        parts.push(bytes);
+      }
+      parts.push(await this.messageBytes(b, true), END_OF_STREAM);
+      const reader = RecordBatchReader.from(concat(parts));
+      const batch = reader.next().value as RecordBatch | undefined;
+      if (!batch) throw new Error('the batch message holds no batch');
+      if (batch.numRows !== b.rows) throw new Error(`the batch holds ${batch.numRows} rows where its header says ${b.rows}`);
+      result = batch;
+    } catch (e) {
+      result = e instanceof Error ? e : new Error(String(e));
+    }
+    this.cache.set(k, result, b.bodyLength + b.metaLength);
+    return result;
+  }
+
+  async read(start: number, end: number, opts: { columns?: string[]; signal?: AbortSignal } = {}): Promise<Entry[]> {
+    if (!this.layout) await this.index({ signal: opts.signal });
+    const total = this.current.entries;
+    const s = Math.max(0, start);
+    const e = Math.min(end, total);
+    const out: Entry[] = [];
+    if (s >= e) return out;
+    for (let k = groupOf(this.firstRows, s); k < this.firstRows.length && this.firstRows[k] < e; k++) {
+      opts.signal?.throwIfAborted();
+      const first = this.firstRows[k];
+      const rows = this.layout!.batches[k].rows;
+      const from = Math.max(0, s - first);
+      const to = Math.min(rows, e - first);
+      const batch = await this.decodeBatch(k);
+      if (batch instanceof Error) {
+        out.push(...lostEntries(k, first, from, to, unsupportedOrCorrupt(batch), `batch ${k} does not decode: ${describeArrowError(batch, this.arrowSchema)}`));
+      } else {
+        out.push(...batchEntries(batch, k, first, from, to, opts.columns));
+      }
+    }
+    return out;
+  }
+
+  async *scan(opts: ScanOptions = {}): AsyncIterable<Entry> {
+    if (!this.layout) await this.index({ signal: opts.signal });
+    const total = this.current.entries;
+    const from = opts.from ?? 0;
+    const to = Math.min(opts.to ?? total, total);
+    for (let k = groupOf(this.firstRows, from); k < this.firstRows.length && this.firstRows[k] < to; k++) {
+      opts.signal?.throwIfAborted();
+      const first = this.firstRows[k];
+      const rows = this.layout!.batches[k].rows;
+      const entries = await this.read(Math.max(from, first), Math.min(to, first + rows), { signal: opts.signal });
+      for (const e of entries) yield e;
+      // Scans pass once; keep the cache for paging.
+      this.cache.delete(k);
+      opts.onProgress?.({ done: Math.min(to, first + rows) - from, total: to - from, entries: total });
+    }
+  }
+
+  async close(): Promise<void> {
+    this.cache.clear();
+    this.dictBytes.clear();
+    const r = this.reader;
+    this.reader = null;
+    await r?.close();
+  }
+}
+
+function decodeSchema(schemaMessage: Uint8Array): Schema {
+  const reader = RecordBatchReader.from(concat([schemaMessage, END_OF_STREAM]));
+  reader.open();
+  if (!reader.schema) throw new Error('no schema in the schema message');
+  return reader.schema;
+}
+
+function concat(parts: Uint8Array[]): Uint8Array {
+  const n = parts.reduce((a, p) => a + p.length, 0);
+  const out = new Uint8Array(n);
+  let o = 0;
+  for (const p of parts) {
+    out.set(p, o);
+    o += p.length;
+  }
+  return out;
+}
+
+function unsupportedOrCorrupt(e: Error): string {
+  return /unrecognized|not supported|unsupported|unknown type|codec/i.test(e.message) ? 'read-unsupported' : 'read-corrupt';
+}
+
+/** The library's error, plus the columns whose types it is known not to read. */
+function describeArrowError(e: Error, schema: Schema | null): string {
+  const text = errorText(e);
+  if (!schema) return text;
+  const odd = schema.fields.filter((f) => /view|run.?end/i.test(String(f.type))).map((f) => `"${f.name}"`);
+  return odd.length ? `${text} (columns of a type this reader may not read: ${odd.join(', ')})` : text;
+}
+
+export function headerBlock(h: MessageHeader): Block {
+  return { offset: h.offset, metaLength: h.metaLength, bodyLength: h.bodyLength };
+}
+
+export function isDictionary(h: MessageHeader): boolean {
+  return h.type === MESSAGE_DICTIONARY;
+}

@@ -1,0 +1,57 @@
+// Rules the columnar and JSON-array sources raise while reading, and one way to build their findings.
+
+import type { Family, Finding, RuleInfo, Severity } from '../findings.js';
+
+export const COLUMNAR_RULES: RuleInfo[] = [
+  { id: 'read-footer-invalid', family: 'read', severity: 'error', summary: 'The file has no valid footer or header, so its layout cannot be known.' },
+  { id: 'read-truncated', family: 'read', severity: 'error', summary: 'A message, page or record batch is cut short.' },
+  { id: 'read-corrupt', family: 'read', severity: 'error', summary: 'Bytes that do not decode: a corrupt page, batch or value.' },
+  { id: 'read-unsupported', family: 'read', severity: 'error', summary: 'A type, codec, encryption or version the reader cannot read.' },
+  { id: 'read-stream-unterminated', family: 'read', severity: 'warning', summary: 'The stream ends between messages without its end-of-stream marker (a writer may still be running).' },
+  { id: 'number-unsafe', family: 'json', severity: 'warning', summary: 'An integer beyond ±(2^53−1): most JSON readers lose its exact value.' },
+];
+
+/** Rules only the JSON-array source raises. */
+export const JSON_ARRAY_RULES: RuleInfo[] = [
+  { id: 'array-structure', family: 'json', severity: 'error', summary: 'The file is not one JSON array of records, or the array is broken between elements.' },
+  { id: 'array-element-syntax', family: 'json', severity: 'error', summary: 'An element of the array is not valid JSON (RFC 8259).' },
+];
+
+const ALL = new Map([...COLUMNAR_RULES, ...JSON_ARRAY_RULES].map((r) => [r.id, r]));
+
+export interface FindingPlace {
+  record?: number | null;
+  entry?: number | null;
+  line?: number | null;
+  column?: number | null;
+  pointer?: string | null;
+  group?: number;
+  rowInGroup?: number;
+}
+
+/** A finding of one of our rules; severity and family come from the rule unless overridden. */
+export function readFinding(rule: string, message: string, place: FindingPlace = {}, severity?: Severity): Finding {
+  const info = ALL.get(rule);
+  const family: Family = info?.family ?? 'read';
+  const f: Finding = {
+    rule,
+    family,
+    severity: severity ?? info?.severity ?? 'error',
+    message,
+    record: place.record ?? null,
+    line: place.line ?? null,
+    column: place.column ?? null,
+    pointer: place.pointer ?? null,
+    entry: place.entry ?? null,
+  };
+  if (place.group !== undefined) f.group = place.group;
+  if (place.rowInGroup !== undefined) f.rowInGroup = place.rowInGroup;
+  return f;
+}
+
+/** The message of anything thrown, in one line, never longer than a screen row or two. */
+export function errorText(e: unknown): string {
+  const raw = e instanceof Error ? e.message : typeof e === 'string' ? e : String(e);
+  const one = raw.replace(/\s+/g, ' ').trim();
+  return one.length > 300 ? `${one.slice(0, 300)}…` : one || 'unknown error';
+}

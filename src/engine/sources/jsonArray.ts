@@ -1,0 +1,289 @@
+// JSON array shards (.json holding one array of records): a streaming tokenizer finds each
+// top-level element's byte range, line and column without parsing the file whole; each element is
+// then parsed alone (RFC 8259), so a broken element is one finding, not a lost file.
+
+import type { Finding } from '../findings.js';
+import type { ByteReader, Entry, RecordSource, ScanOptions, SourceInfo } from './source.js';
+import { readFinding } from './columnarRules.js';
+import { openFileReader, type ReaderFactory } from './columnar/byteReader.js';
+
+export interface JsonArraySourceOptions {
+  openReader?: ReaderFactory;
+  /** An element longer than this is a finding and is not parsed. */
+  maxElementBytes?: number;
+  /** Bytes read per step while indexing. */
+  chunkBytes?: number;
+}
+
+interface Span {
+  offset: number;
+  length: number;
+  line: number;
+  column: number;
+  /** Findings the tokenizer raised inside this element (unsafe integers, a cut-short end). */
+  findings?: Finding[];
+}
+
+const MAX_SAFE = 2n ** 53n - 1n;
+const WS = new Set([0x20, 0x09, 0x0a, 0x0d]);
+
+export class JsonArraySource implements RecordSource {
+  readonly format = 'json-array' as const;
+  private reader: ByteReader | null = null;
+  private spans: Span[] = [];
+  private current: SourceInfo;
+  private indexing: Promise<SourceInfo> | null = null;
+  private readonly decoder = new TextDecoder('utf-8', { fatal: true });
+
+  constructor(
+    readonly path: string,
+    private readonly opts: JsonArraySourceOptions = {},
+  ) {
+    this.current = { format: 'json-array', path, sizeBytes: 0, entries: 0, complete: false, findings: [] };
+  }
+
+  async open(_signal?: AbortSignal): Promise<SourceInfo> {
+    if (!this.reader) {
+      this.reader = await (this.opts.openReader ?? openFileReader)(this.path);
+      this.current = { format: 'json-array', path: this.path, sizeBytes: this.reader.size, entries: 0, complete: false, findings: [], facts: { format: 'JSON array' } };
+    }
+    return this.info();
+  }
+
+  info(): SourceInfo {
+    return { ...this.current, findings: [...this.current.findings] };
+  }
+
+  index(opts: ScanOptions = {}): Promise<SourceInfo> {
+    this.indexing ??= this.runIndex(opts);
+    return this.indexing;
+  }
+
+  private async runIndex(opts: ScanOptions): Promise<SourceInfo> {
+    await this.open(opts.signal);
+    const reader = this.reader!;
+    const size = reader.size;
+    const chunk = this.opts.chunkBytes ?? 1 << 20;
+    const fileFindings: Finding[] = [];
+    // Tokenizer state, carried across chunks.
+    let state: 'before' | 'open' | 'element' | 'after' | 'closed' | 'broken' = 'before';
+    let depth = 0;
+    let inString = false;
+    let escaped = false;
+    let line = 1;
+    let column = 1;
+    let cur: Span | null = null;
+    let lastNonWs = -1;
+    let num = '';
+    let numLine = 0;
+    let numColumn = 0;
+    let sawBom = false;
+    const finishElement = () => {
+      if (!cur) return;
+      cur.length = lastNonWs + 1 - cur.offset;
+      this.spans.push(cur);
+      cur = null;
+    };
+    const flushNumber = () => {
+      if (num && !/[.eE]/.test(num) && num.replace('-', '').length >= 16) {
+        try {
+          const v = BigInt(num);
+          if ((v > MAX_SAFE || v < -MAX_SAFE) && cur) {
+            (cur.findings ??= []).push(
+              readFinding('number-unsafe', `integer ${num} is beyond ±(2^53−1); most JSON readers lose its exact value (RFC 8259 §6)`, {
+                line: numLine,
+                column: numColumn,
+                record: this.spans.length,
+                entry: this.spans.length,
+              }),
+            );
+          }
+        } catch {
+          // Not an integer literal after all; the element's own parse reports it.
+        }
+      }
+      num = '';
+    };
+    const broken = (message: string) => {
+      fileFindings.push(readFinding('array-structure', message, { line, column }));
+      state = 'broken';
+    };
+    for (let at = 0; at < size && (state as string) !== 'broken'; at += chunk) {
+      opts.signal?.throwIfAborted();
+      const bytes = await reader.read(at, Math.min(chunk, size - at));
+      for (let k = 0; k < bytes.length; k++) {
+        const b = bytes[k];
+        const pos = at + k;
+        if (pos === 0 && b === 0xef && bytes[1] === 0xbb && bytes[2] === 0xbf) {
+          sawBom = true;
+        }
+        if (sawBom && pos < 3) continue;
+        if (state === 'element') {
+          if (inString) {
+            if (escaped) escaped = false;
+            else if (b === 0x5c) escaped = true;
+            else if (b === 0x22) inString = false;
+            lastNonWs = pos;
+          } else if (b === 0x22) {
+            flushNumber();
+            inString = true;
+            lastNonWs = pos;
+          } else if (b === 0x5b || b === 0x7b) {
+            flushNumber();
+            depth++;
+            lastNonWs = pos;
+          } else if (b === 0x5d || b === 0x7d) {
+            flushNumber();
+            if (depth === 0 && b === 0x5d) {
+              finishElement();
+              state = 'closed';
+            } else {
+              if (depth > 0) depth--;
+              lastNonWs = pos;
+            }
+          } else if (b === 0x2c && depth === 0) {
+            flushNumber();
+            finishElement();
+            state = 'open';
+          } else if (!WS.has(b)) {
+            if ((b >= 0x30 && b <= 0x39) || b === 0x2d || b === 0x2b || b === 0x2e || b === 0x65 || b === 0x45) {
+              if (!num) {
+                numLine = line;
+                numColumn = column;
+              }
+              num += String.fromCharCode(b);
+            } else flushNumber();
+            lastNonWs = pos;
+          } else flushNumber();
+        } else if (!WS.has(b)) {
+          if (state === 'before') {
+            if (b === 0x5b) state = 'open';
+            else broken(`the file does not hold a JSON array: it starts with "${String.fromCharCode(b)}" where "[" was expected`);
+          } else if (state === 'open') {
+            if (b === 0x5d && this.spans.length === 0) state = 'closed';
+            else if (b === 0x2c || b === 0x5d) broken(`an element is missing before "${String.fromCharCode(b)}"`);
+            else {
+              state = 'element';
+              depth = 0;
+              cur = { offset: pos, length: 0, line, column };
+              lastNonWs = pos;
+              k--; // Re-read this byte as the element's first.
+              continue;
+            }
+          } else if (state === 'closed') {
+            broken('text follows the end of the array');
+          }
+        }
+        if ((state as string) === 'broken') break;
+        // Line and UTF-16 column bookkeeping: continuation bytes add nothing, 4-byte leads add two units.
+        if (b === 0x0a) {
+          line++;
+          column = 1;
+        } else if ((b & 0xc0) !== 0x80) column += b >= 0xf0 ? 2 : 1;
+      }
+      this.current.entries = this.spans.length;
+      opts.onProgress?.({ done: Math.min(size, at + chunk), total: size, entries: this.spans.length });
+    }
+    if (state === 'element') {
+      flushNumber();
+      const cut = cur as Span | null;
+      if (cut) {
+        cut.length = size - cut.offset;
+        (cut.findings ??= []).push(
+          readFinding('read-truncated', 'the file ends inside this element', { line: cut.line, column: cut.column, record: this.spans.length, entry: this.spans.length }),
+        );
+        this.spans.push(cut);
+      }
+      fileFindings.push(readFinding('array-structure', 'the file ends before the array is closed with "]"', { line, column }));
+    } else if (state === 'open') {
+      fileFindings.push(readFinding('array-structure', 'the file ends before the array is closed with "]"', { line, column }));
+    } else if (state === 'before') {
+      fileFindings.push(readFinding('array-structure', size === 0 ? 'the file is empty: no JSON array' : 'the file holds only white space: no JSON array', { line, column }));
+    }
+    if (sawBom) fileFindings.push(readFinding('array-structure', 'the file starts with a byte order mark, which JSON text must not (RFC 8259 §8.1)', { line: 1, column: 1 }, 'warning'));
+    this.current = { ...this.current, entries: this.spans.length, complete: true, findings: fileFindings };
+    return this.info();
+  }
+
+  async read(start: number, end: number, opts: { columns?: string[]; signal?: AbortSignal } = {}): Promise<Entry[]> {
+    if (!this.current.complete) await this.index({ signal: opts.signal });
+    const s = Math.max(0, start);
+    const e = Math.min(end, this.spans.length);
+    const out: Entry[] = [];
+    const max = this.opts.maxElementBytes ?? 64 * 1024 * 1024;
+    // Read runs of small elements in one go; a huge element is never read.
+    let k = s;
+    while (k < e) {
+      opts.signal?.throwIfAborted();
+      let j = k;
+      let bytes = 0;
+      while (j < e && this.spans[j].length <= max && bytes < 8 << 20) {
+        bytes = this.spans[j].offset + this.spans[j].length - this.spans[k].offset;
+        j++;
+      }
+      if (j === k) {
+        out.push(this.entryOf(k, null));
+        k++;
+        continue;
+      }
+      const base = this.spans[k].offset;
+      const buf = await this.reader!.read(base, this.spans[j - 1].offset + this.spans[j - 1].length - base);
+      for (let m = k; m < j; m++) {
+        const sp = this.spans[m];
+        out.push(this.entryOf(m, buf.subarray(sp.offset - base, sp.offset - base + sp.length)));
+      }
+      k = j;
+    }
+    return out;
+  }
+
+  private entryOf(k: number, bytes: Uint8Array | null): Entry {
+    const sp = this.spans[k];
+    const place = { record: k, entry: k, line: sp.line, column: sp.column };
+    const findings = [...(sp.findings ?? [])];
+    const entry: Entry = { entry: k, record: k, line: sp.line, column: sp.column, byteOffset: sp.offset, findings };
+    if (!bytes) {
+      findings.push(readFinding('array-element-syntax', `the element is ${sp.length} bytes, beyond the ${this.opts.maxElementBytes ?? 64 * 1024 * 1024}-byte limit; it is not parsed`, place));
+      entry.record = null;
+      return entry;
+    }
+    let text: string;
+    try {
+      text = this.decoder.decode(bytes);
+    } catch {
+      findings.push(readFinding('array-element-syntax', 'the element is not valid UTF-8 (RFC 8259 §8.1)', place));
+      entry.record = null;
+      return entry;
+    }
+    entry.text = text;
+    if (findings.some((f) => f.rule === 'read-truncated')) {
+      entry.record = null;
+      return entry;
+    }
+    try {
+      entry.value = JSON.parse(text);
+    } catch (e) {
+      findings.push(readFinding('array-element-syntax', `the element is not valid JSON: ${(e as Error).message}`, place));
+      entry.record = null;
+    }
+    return entry;
+  }
+
+  async *scan(opts: ScanOptions = {}): AsyncIterable<Entry> {
+    await this.index({ signal: opts.signal });
+    const total = this.spans.length;
+    const from = opts.from ?? 0;
+    const to = Math.min(opts.to ?? total, total);
+    for (let k = from; k < to; k += 1000) {
+      const entries = await this.read(k, Math.min(to, k + 1000), { signal: opts.signal });
+      for (const e of entries) yield e;
+      opts.onProgress?.({ done: Math.min(to, k + 1000) - from, total: to - from, entries: total });
+    }
+  }
+
+  async close(): Promise<void> {
+    const r = this.reader;
+    this.reader = null;
+    await r?.close();
+  }
+}

@@ -1,0 +1,289 @@
+// Parquet shards through parquet-wasm: `open` reads the footer only; a page decodes only the row
+// groups (and columns) it shows; decoded row groups are cached within a byte budget.
+
+import { tableFromIPC, type RecordBatch, type Schema } from 'apache-arrow';
+import type { Finding } from '../findings.js';
+import type { ByteReader, Entry, GroupInfo, RecordSource, ScanOptions, SourceInfo } from './source.js';
+import { errorText, readFinding } from './columnarRules.js';
+import { blobOf, openFileReader, type ReaderFactory } from './columnar/byteReader.js';
+import { ByteBudgetCache, batchEntries, groupOf, lostEntries } from './columnar/rows.js';
+import { schemaColumns } from './columnar/toJson.js';
+import { guardWasm } from './columnar/wasmGuard.js';
+
+export { wasmFaults } from './columnar/wasmGuard.js';
+
+type ParquetWasm = typeof import('parquet-wasm/node');
+type ParquetFile = import('parquet-wasm/node').ParquetFile;
+
+let wasm: ParquetWasm | null = null;
+
+/** Loads parquet-wasm once; its node build reads parquet_wasm_bg.wasm from beside itself (or the bundle). */
+async function loadWasm(): Promise<ParquetWasm> {
+  if (!wasm) wasm = (await import('parquet-wasm/node')) as ParquetWasm;
+  return wasm;
+}
+
+/** Size of parquet-wasm's linear memory in bytes (it never shrinks); 0 before the module loads. */
+export function wasmMemoryBytes(): number {
+  return wasm ? wasm.wasmMemory().buffer.byteLength : 0;
+}
+
+export interface ParquetSourceOptions {
+  /** Opens the file for range reads; tests pass a counting reader. */
+  openReader?: ReaderFactory;
+  /** Bytes of decoded row groups kept for paging back and forth. */
+  cacheBytes?: number;
+  /**
+   * A row group whose requested columns decode to more than this is refused, not decoded: wasm
+   * memory is capped at 4 GiB and never shrinks.
+   */
+  maxDecodedBytes?: number;
+}
+
+/** Parquet Thrift `CompressionCodec` names, lower-case (parquet-format). */
+const CODEC_NAMES = ['uncompressed', 'snappy', 'gzip', 'brotli', 'lz4 (hadoop framing)', 'zstd', 'lz4 raw', 'lzo'];
+
+const MAGIC = [0x50, 0x41, 0x52]; // "PAR"
+
+interface Decoded {
+  batches: RecordBatch[];
+  /** Row (in group) each batch starts at. */
+  starts: number[];
+}
+
+export class ParquetSource implements RecordSource {
+  readonly format = 'parquet' as const;
+  private reader: ByteReader | null = null;
+  private file: ParquetFile | null = null;
+  private current: SourceInfo;
+  private groups: GroupInfo[] = [];
+  private firstRows: number[] = [];
+  private fieldNames: string[] = [];
+  private cache: ByteBudgetCache<Decoded | Error>;
+  /** Bytes each group decodes to, per column (top-level name), from the footer. */
+  private groupColumnBytes: Map<string, number>[] = [];
+
+  constructor(
+    readonly path: string,
+    private readonly opts: ParquetSourceOptions = {},
+  ) {
+    this.cache = new ByteBudgetCache(opts.cacheBytes ?? 128 * 1024 * 1024);
+    this.current = { format: 'parquet', path, sizeBytes: 0, entries: 0, complete: false, findings: [] };
+  }
+
+  async open(_signal?: AbortSignal): Promise<SourceInfo> {
+    if (this.reader) return this.info();
+    this.reader = await (this.opts.openReader ?? openFileReader)(this.path);
+    const size = this.reader.size;
+    const findings: Finding[] = [];
+    const facts: Record<string, string> = { format: 'Parquet' };
+    this.current = { format: 'parquet', path: this.path, sizeBytes: size, entries: 0, complete: true, columns: [], groups: [], facts, findings };
+    const problem = await this.checkEnds(size);
+    if (problem) {
+      findings.push(problem);
+      return this.info();
+    }
+    let pw: ParquetWasm;
+    try {
+      pw = await loadWasm();
+    } catch (e) {
+      // Not the file's fault: the install is broken, so say so instead of blaming the shard.
+      throw new Error(`${this.path}: the Parquet reader (parquet-wasm) did not load: ${errorText(e)}`);
+    }
+    let file: ParquetFile;
+    try {
+      file = await guardWasm(() => pw.ParquetFile.fromFile(blobOf(this.reader!) as unknown as Blob));
+    } catch (e) {
+      const text = errorText(e);
+      findings.push(readFinding(/encrypt/i.test(text) ? 'read-unsupported' : 'read-footer-invalid', `the footer does not decode: ${text}`));
+      return this.info();
+    }
+    this.file = file;
+    try {
+      this.describe(file, facts);
+    } catch (e) {
+      findings.push(readFinding('read-footer-invalid', `the footer's metadata does not decode: ${errorText(e)}`));
+      return this.info();
+    }
+    try {
+      const schema: Schema = tableFromIPC(file.schema().intoIPCStream()).schema;
+      this.fieldNames = schema.fields.map((f) => f.name);
+      this.current.columns = schemaColumns(schema);
+    } catch (e) {
+      findings.push(readFinding('read-unsupported', `the schema does not convert to Arrow types: ${errorText(e)}`));
+    }
+    return this.info();
+  }
+
+  /** Magic at both ends; an encrypted footer ("PARE") is named, not decoded. */
+  private async checkEnds(size: number): Promise<Finding | null> {
+    if (size < 12) return readFinding('read-footer-invalid', `the file is ${size} bytes: too short for Parquet (magic, footer, magic)`);
+    const head = await this.reader!.read(0, 4);
+    const tail = await this.reader!.read(size - 8, 8);
+    const isMagic = (b: Uint8Array, last: number) => MAGIC.every((m, k) => b[k] === m) && b[3] === last;
+    if (isMagic(tail.subarray(4), 0x45)) return readFinding('read-unsupported', 'the footer is encrypted (Parquet modular encryption); this reader does not decrypt');
+    if (!isMagic(head, 0x31)) return readFinding('read-footer-invalid', 'the file does not start with the Parquet magic "PAR1"');
+    if (!isMagic(tail.subarray(4), 0x31)) return readFinding('read-truncated', 'the file does not end with the Parquet magic "PAR1": the footer is missing or cut short');
+    const footerLen = new DataView(tail.buffer, tail.byteOffset, 4).getUint32(0, true);
+    if (footerLen === 0 || footerLen > size - 12) return readFinding('read-footer-invalid', `the footer declares ${footerLen} bytes in a ${size}-byte file`);
+    return null;
+  }
+
+  private describe(file: ParquetFile, facts: Record<string, string>): void {
+    const md = file.metadata();
+    const fmd = md.fileMetadata();
+    const createdBy = fmd.createdBy();
+    if (createdBy) facts['created by'] = createdBy;
+    facts['format version'] = String(fmd.version());
+    facts['row groups'] = String(md.numRowGroups());
+    const codecs = new Set<string>();
+    let first = 0;
+    this.groups = [];
+    this.firstRows = [];
+    this.groupColumnBytes = [];
+    for (let k = 0; k < md.numRowGroups(); k++) {
+      const rg = md.rowGroup(k);
+      const rows = rg.numRows();
+      const perColumn: Record<string, string> = {};
+      const bytes = new Map<string, number>();
+      let compressed = 0;
+      let uncompressed = 0;
+      for (const c of rg.columns()) {
+        const path = c.columnPath().join('.');
+        const codec = CODEC_NAMES[c.compression()] ?? `codec ${c.compression()}`;
+        perColumn[path] = codec;
+        codecs.add(codec);
+        compressed += c.compressedSize();
+        uncompressed += c.uncompressedSize();
+        const top = c.columnPath()[0] ?? path;
+        bytes.set(top, (bytes.get(top) ?? 0) + c.uncompressedSize());
+      }
+      this.groups.push({ index: k, rows, firstRow: first, compressedBytes: compressed, uncompressedBytes: uncompressed, codecs: perColumn });
+      this.firstRows.push(first);
+      this.groupColumnBytes.push(bytes);
+      first += rows;
+    }
+    facts.compression = [...codecs].join(', ') || 'none';
+    const total = fmd.numRows();
+    if (total !== first) {
+      this.current.findings.push(readFinding('read-corrupt', `the footer counts ${total} rows but its row groups hold ${first}`, {}, 'warning'));
+    }
+    this.current.entries = first;
+    this.current.groups = this.groups;
+  }
+
+  async index(opts: ScanOptions = {}): Promise<SourceInfo> {
+    if (!this.reader) await this.open(opts.signal);
+    opts.onProgress?.({ done: this.current.entries, total: this.current.entries, entries: this.current.entries });
+    return this.info();
+  }
+
+  info(): SourceInfo {
+    return { ...this.current, findings: [...this.current.findings] };
+  }
+
+  async read(start: number, end: number, opts: { columns?: string[]; signal?: AbortSignal } = {}): Promise<Entry[]> {
+    if (!this.reader) await this.open(opts.signal);
+    const s = Math.max(0, start);
+    const e = Math.min(end, this.current.entries);
+    const out: Entry[] = [];
+    if (s >= e || !this.file) return out;
+    const columns = opts.columns?.filter((c) => this.fieldNames.includes(c));
+    for (let k = groupOf(this.firstRows, s); k < this.groups.length && this.firstRows[k] < e; k++) {
+      opts.signal?.throwIfAborted();
+      const g = this.groups[k];
+      const from = Math.max(0, s - g.firstRow);
+      const to = Math.min(g.rows, e - g.firstRow);
+      if (to <= from) continue;
+      const decoded = await this.decodeGroup(k, columns);
+      if (decoded instanceof Error) {
+        const rule = /unsupported|not supported|not yet implemented|encrypt|budget/i.test(decoded.message) ? 'read-unsupported' : 'read-corrupt';
+        out.push(...lostEntries(k, g.firstRow, from, to, rule, `row group ${k} does not decode: ${errorText(decoded)}`));
+        continue;
+      }
+      for (let b = 0; b < decoded.batches.length; b++) {
+        const bStart = decoded.starts[b];
+        const batch = decoded.batches[b];
+        const lo = Math.max(from, bStart);
+        const hi = Math.min(to, bStart + batch.numRows);
+        if (lo >= hi) continue;
+        const rows = batchEntries(batch, k, g.firstRow + bStart, lo - bStart, hi - bStart, undefined);
+        // batchEntries counts rows inside the batch; the view wants them inside the row group.
+        for (const r of rows) {
+          r.rowInGroup = r.entry - g.firstRow;
+          for (const f of r.findings) f.rowInGroup = r.rowInGroup;
+        }
+        out.push(...rows);
+      }
+    }
+    return out;
+  }
+
+  /** Decodes the requested columns of one row group, refusing what would blow the memory budget. */
+  private async decodeGroup(k: number, columns: string[] | undefined): Promise<Decoded | Error> {
+    const key = `${k}|${columns ? columns.join('\u0000') : '*'}`;
+    const cacheKey = hashKey(key);
+    const hit = this.cache.get(cacheKey);
+    if (hit && (hit as Decoded & { key?: string }).key === key) return hit;
+    const needs = columns
+      ? columns.reduce((a, c) => a + (this.groupColumnBytes[k].get(c) ?? 0), 0)
+      : [...this.groupColumnBytes[k].values()].reduce((a, b) => a + b, 0);
+    const budget = this.opts.maxDecodedBytes ?? 1024 * 1024 * 1024;
+    let result: Decoded | Error;
+    if (needs > budget) {
+      result = new Error(`its columns decode to ${needs} bytes, beyond the ${budget}-byte budget for one row group`);
+    } else {
+      try {
+        const table = await guardWasm(() => this.file!.read({ rowGroups: [k], ...(columns ? { columns } : {}) }));
+        const arrow = tableFromIPC(table.intoIPCStream());
+        const starts: number[] = [];
+        let at = 0;
+        for (const b of arrow.batches) {
+          starts.push(at);
+          at += b.numRows;
+        }
+        if (at !== this.groups[k].rows) throw new Error(`it holds ${at} rows where the footer says ${this.groups[k].rows}`);
+        result = Object.assign({ batches: arrow.batches, starts }, { key });
+      } catch (e) {
+        result = e instanceof Error ? e : new Error(String(e));
+      }
+    }
+    this.cache.set(cacheKey, result, Math.max(needs, 1024));
+    return result;
+  }
+
+  async *scan(opts: ScanOptions = {}): AsyncIterable<Entry> {
+    if (!this.reader) await this.open(opts.signal);
+    const total = this.current.entries;
+    const from = opts.from ?? 0;
+    const to = Math.min(opts.to ?? total, total);
+    if (from >= to) return;
+    for (let k = groupOf(this.firstRows, from); k < this.groups.length && this.firstRows[k] < to; k++) {
+      opts.signal?.throwIfAborted();
+      const g = this.groups[k];
+      const entries = await this.read(Math.max(from, g.firstRow), Math.min(to, g.firstRow + g.rows), { signal: opts.signal });
+      for (const e of entries) yield e;
+      opts.onProgress?.({ done: Math.min(to, g.firstRow + g.rows) - from, total: to - from, entries: total });
+    }
+  }
+
+  async close(): Promise<void> {
+    this.cache.clear();
+    try {
+      this.file?.free();
+    } catch {
+      // Already freed by the module: nothing left to release.
+    }
+    this.file = null;
+    const r = this.reader;
+    this.reader = null;
+    await r?.close();
+  }
+}
+
+/** Cache keys are numbers; collisions are caught by comparing the stored key string. */
+function hashKey(s: string): number {
+  let h = 2166136261;
+  for (let i = 0; i < s.length; i++) h = Math.imul(h ^ s.charCodeAt(i), 16777619);
+  return h >>> 0;
+}

@@ -1,0 +1,150 @@
+// Token counts for a named encoding, exact to the reference tokenizer. The rank tables come from
+// js-tiktoken and are large, so each is loaded on first use and kept for the process.
+
+import type { EncodingName } from '../config.js';
+import { BytePairEncoder, decodeRanks, type EncoderOptions, type RankTable } from './bpe.js';
+import { PATTERNS, type PatternName } from './patterns.js';
+
+export interface TokenCounter {
+  readonly encoding: EncodingName;
+  /** Number of tokens in text; special-token spellings count as ordinary text. */
+  count(text: string): number;
+  /** Token ids of text; special-token spellings are encoded as ordinary text. */
+  encode(text: string): number[];
+  /** Token ids with every special-token spelling encoded as its special token. */
+  encodeWithSpecial(text: string): number[];
+  /** Special-token spellings of the encoding and their ids. */
+  readonly specialTokens: Readonly<Record<string, number>>;
+}
+
+export interface SpecialTokenHit {
+  token: string;
+  /** UTF-16 offset of the spelling in the text. */
+  index: number;
+}
+
+/**
+ * Special-token spellings per encoding (openai/tiktoken, tiktoken_ext/openai_public.py).
+ * Known without loading the rank table, so a check can look for them cheaply.
+ */
+export const SPECIAL_TOKENS: Readonly<Record<EncodingName, Readonly<Record<string, number>>>> = {
+  cl100k_base: {
+    '<|endoftext|>': 100257,
+    '<|fim_prefix|>': 100258,
+    '<|fim_middle|>': 100259,
+    '<|fim_suffix|>': 100260,
+    '<|endofprompt|>': 100276,
+  },
+  o200k_base: {
+    '<|endoftext|>': 199999,
+    '<|endofprompt|>': 200018,
+  },
+};
+
+const loaded = new Map<EncodingName, TokenCounter>();
+const loading = new Map<EncodingName, Promise<TokenCounter>>();
+
+async function importTable(encoding: EncodingName): Promise<RankTable> {
+  // Literal specifiers so a bundler can split each table into its own lazily loaded chunk.
+  switch (encoding) {
+    case 'cl100k_base':
+      return (await import('js-tiktoken/ranks/cl100k_base')).default;
+    case 'o200k_base':
+      return (await import('js-tiktoken/ranks/o200k_base')).default;
+    default:
+      throw new Error(`unknown token encoding "${String(encoding)}" (known: cl100k_base, o200k_base)`);
+  }
+}
+
+/** Loads the encoding's rank table once; later calls return the same counter. */
+export function loadTokenCounter(encoding: EncodingName): Promise<TokenCounter> {
+  const ready = loaded.get(encoding);
+  if (ready) return Promise.resolve(ready);
+  let pending = loading.get(encoding);
+  if (!pending) {
+    pending = importTable(encoding).then((table) => {
+      const counter = createTokenCounter(encoding, table);
+      loaded.set(encoding, counter);
+      loading.delete(encoding);
+      return counter;
+    });
+    pending.catch(() => loading.delete(encoding));
+    loading.set(encoding, pending);
+  }
+  return pending;
+}
+
+/** The loaded counter for an encoding; throws when `loadTokenCounter` has not finished for it. */
+export function getTokenCounter(encoding: EncodingName): TokenCounter {
+  const counter = loaded.get(encoding);
+  if (!counter) {
+    throw new Error(`token encoding "${String(encoding)}" is not loaded yet: await loadTokenCounter("${String(encoding)}") first`);
+  }
+  return counter;
+}
+
+/** What a rank table and a pattern family give, before the table is named as one of ours. */
+export type BpeCounter = Omit<TokenCounter, 'encoding'>;
+
+/** Builds a counter from any rank table and the pattern family it uses (gpt2, cl100k_base, o200k_base). */
+export function createBpeCounter(table: RankTable, pattern: PatternName, options?: EncoderOptions): BpeCounter {
+  const bpe = new BytePairEncoder(decodeRanks(table.bpe_ranks), PATTERNS[pattern], options);
+  const specialTokens = Object.freeze({ ...table.special_tokens });
+  return {
+    specialTokens,
+    count: (text) => bpe.countOrdinary(text),
+    encode: (text) => bpe.encodeOrdinary(text),
+    encodeWithSpecial(text) {
+      const out: number[] = [];
+      // A loop, not spread: a long text has more ids than a call may take arguments.
+      const append = (ids: number[]) => {
+        for (const id of ids) out.push(id);
+      };
+      let from = 0;
+      for (const hit of findSpellings(text, specialTokens)) {
+        append(bpe.encodeOrdinary(text.slice(from, hit.index)));
+        out.push(specialTokens[hit.token]!);
+        from = hit.index + hit.token.length;
+      }
+      append(bpe.encodeOrdinary(text.slice(from)));
+      return out;
+    },
+  };
+}
+
+/** Builds one of our encodings' counters from its rank table. */
+export function createTokenCounter(encoding: EncodingName, table: RankTable, options?: EncoderOptions): TokenCounter {
+  return { encoding, ...createBpeCounter(table, encoding, options) };
+}
+
+/** Where text spells one of the encoding's special tokens, left to right, without overlaps. */
+export function findSpecialTokenText(text: string, encoding: EncodingName): SpecialTokenHit[] {
+  const tokens = SPECIAL_TOKENS[encoding];
+  if (!tokens) throw new Error(`unknown token encoding "${String(encoding)}"`);
+  return findSpellings(text, tokens);
+}
+
+/**
+ * Control markers of widely used chat templates (common practice: the ChatML markers and the
+ * end-of-text marker used by open-weight model templates). They are not special tokens of the
+ * encodings above, but a pipeline that renders chats through such a template would read them as
+ * turn boundaries.
+ */
+export const CHAT_TEMPLATE_MARKERS: readonly string[] = ['<|im_start|>', '<|im_end|>', '<|im_sep|>', '<|eot_id|>', '<|start_header_id|>', '<|end_header_id|>', '<|begin_of_text|>'];
+
+const MARKER_TABLE: Record<string, number> = Object.fromEntries(CHAT_TEMPLATE_MARKERS.map((m, i) => [m, i]));
+
+export function findChatMarkerText(text: string): SpecialTokenHit[] {
+  return findSpellings(text, MARKER_TABLE);
+}
+
+function findSpellings(text: string, tokens: Readonly<Record<string, number>>): SpecialTokenHit[] {
+  const names = Object.keys(tokens);
+  if (names.length === 0 || !text.includes('|')) return [];
+  // Longest first, so that a spelling that is a prefix of another never hides it.
+  const alternatives = names.sort((a, b) => b.length - a.length).map((n) => n.replace(/[\\^$.*+?()[\]{}|]/g, '\\$&'));
+  const re = new RegExp(alternatives.join('|'), 'g');
+  const hits: SpecialTokenHit[] = [];
+  for (const m of text.matchAll(re)) hits.push({ token: m[0], index: m.index! });
+  return hits;
+}

@@ -1,0 +1,73 @@
+// The HTML shell of both webviews. Pure: no 'vscode' import, so the Chromium tests load the same page.
+// The Content-Security-Policy allows only our own origin's styles and fonts and one nonce'd script.
+
+export interface WebviewHtmlOptions {
+  kind: 'recordView' | 'panel';
+  /** The webview's resource origin (`webview.cspSource`). */
+  cspSource: string;
+  nonce: string;
+  scriptUri: string;
+  styleUris: string[];
+  codiconUri: string;
+  title: string;
+}
+
+const HTML_ESCAPES: Record<string, string> = {
+  '&': '&amp;',
+  '<': '&lt;',
+  '>': '&gt;',
+  '"': '&quot;',
+  "'": '&#39;',
+};
+
+/** Escapes text for an HTML text node or a quoted attribute value. */
+export function escapeHtml(s: string): string {
+  return String(s).replace(/[&<>"']/g, (c) => HTML_ESCAPES[c]);
+}
+
+// A CSP source list item must not carry `;` or `,` (they would open a new directive or policy) nor quotes.
+const CSP_SOURCE = /^[A-Za-z0-9+.\-:/*_ ]+$/;
+const NONCE = /^[A-Za-z0-9+/=_-]{16,}$/;
+
+export function contentSecurityPolicy(cspSource: string, nonce: string): string {
+  if (!CSP_SOURCE.test(cspSource)) throw new Error(`unsafe webview resource origin: ${JSON.stringify(cspSource)}`);
+  if (!NONCE.test(nonce)) throw new Error('the script nonce must be at least 16 base64 characters');
+  return [
+    "default-src 'none'",
+    `img-src ${cspSource} data:`,
+    `style-src ${cspSource}`,
+    `font-src ${cspSource}`,
+    `script-src 'nonce-${nonce}'`,
+  ].join('; ') + ';';
+}
+
+export function renderWebviewHtml(o: WebviewHtmlOptions): string {
+  const csp = contentSecurityPolicy(o.cspSource, o.nonce);
+  const styles = [o.codiconUri, ...o.styleUris]
+    .map((u) => `    <link rel="stylesheet" href="${escapeHtml(u)}">`)
+    .join('\n');
+  return `<!DOCTYPE html>
+<html lang="en">
+  <head>
+    <meta charset="utf-8">
+    <meta http-equiv="Content-Security-Policy" content="${escapeHtml(csp)}">
+    <meta name="viewport" content="width=device-width, initial-scale=1">
+${styles}
+    <title>${escapeHtml(o.title)}</title>
+  </head>
+  <body class="sw-body sw-kind-${o.kind === 'panel' ? 'panel' : 'recordView'}">
+    <div id="sw-root" class="sw-root" data-view="${o.kind === 'panel' ? 'panel' : 'recordView'}"></div>
+    <script nonce="${escapeHtml(o.nonce)}" src="${escapeHtml(o.scriptUri)}"></script>
+  </body>
+</html>
+`;
+}
+
+/** 32 random bytes as base64: a fresh nonce for every page load. */
+export function makeNonce(): string {
+  const bytes = new Uint8Array(32);
+  globalThis.crypto.getRandomValues(bytes);
+  let bin = '';
+  for (const b of bytes) bin += String.fromCharCode(b);
+  return btoa(bin);
+}

@@ -1,0 +1,146 @@
+// Helpers shared by the record view and the side panel. Browser code: DOM only.
+// Every string that reaches the DOM goes through textContent or a DOM property, never through HTML parsing.
+
+import type { Severity } from '../engine/findings.js';
+
+export interface VsCodeApi<Out> {
+  postMessage(message: Out): void;
+  getState(): unknown;
+  setState(state: unknown): void;
+}
+
+declare function acquireVsCodeApi(): VsCodeApi<unknown>;
+
+/** The API may be acquired only once per webview, so both views call this once at start. */
+export function connect<Out>(): VsCodeApi<Out> {
+  return acquireVsCodeApi() as VsCodeApi<Out>;
+}
+
+/** Creates an element with an optional class list and text (set as text, never parsed). */
+export function h<K extends keyof HTMLElementTagNameMap>(
+  tag: K,
+  className?: string,
+  text?: string,
+): HTMLElementTagNameMap[K] {
+  const e = document.createElement(tag);
+  if (className) e.className = className;
+  if (text !== undefined) e.textContent = text;
+  return e;
+}
+
+/** A codicon glyph; `name` is one of ours, never host text. */
+export function icon(name: string, extraClass?: string): HTMLSpanElement {
+  const s = h('span', `codicon codicon-${name}${extraClass ? ` ${extraClass}` : ''}`);
+  s.setAttribute('aria-hidden', 'true');
+  return s;
+}
+
+export function iconButton(name: string, title: string, className: string): HTMLButtonElement {
+  const b = h('button', `sw-icon-button ${className}`);
+  b.type = 'button';
+  b.title = title;
+  b.setAttribute('aria-label', title);
+  b.append(icon(name));
+  return b;
+}
+
+const SEVERITY_ICON: Record<Severity, string> = { error: 'error', warning: 'warning', info: 'info' };
+
+export function isSeverity(x: unknown): x is Severity {
+  return x === 'error' || x === 'warning' || x === 'info';
+}
+
+export function severityIcon(severity: Severity): HTMLSpanElement {
+  const s = icon(SEVERITY_ICON[severity], `sw-sev sw-sev-${severity}`);
+  s.title = severity;
+  return s;
+}
+
+const countFormat = new Intl.NumberFormat('en-US');
+
+export function formatCount(n: number | null | undefined): string {
+  if (n === null || n === undefined || !Number.isFinite(n)) return '–';
+  return countFormat.format(n);
+}
+
+export function formatBytes(n: number | null | undefined): string {
+  if (n === null || n === undefined || !Number.isFinite(n)) return '–';
+  const units = ['B', 'KiB', 'MiB', 'GiB', 'TiB'];
+  let v = n;
+  let u = 0;
+  while (v >= 1024 && u < units.length - 1) {
+    v /= 1024;
+    u++;
+  }
+  return u === 0 ? `${v} B` : `${v.toFixed(v < 10 ? 2 : v < 100 ? 1 : 0)} ${units[u]}`;
+}
+
+/** Coerces host text to a string: the host is trusted to send strings, but a bad value must not throw. */
+export function str(x: unknown): string {
+  if (typeof x === 'string') return x;
+  if (x === null || x === undefined) return '';
+  if (typeof x === 'number' || typeof x === 'boolean') return String(x);
+  try {
+    return JSON.stringify(x) ?? '';
+  } catch {
+    return String(x);
+  }
+}
+
+export type GotoTarget = { kind: 'record' | 'line' | 'entry'; value: number };
+
+/**
+ * Reads the go-to box. What the user types is 1-based as the view shows it:
+ * `12` → record #12, `line 40` / `L40` → line 40, `row 7` → row 7. Record and row are posted 0-based
+ * (as Finding.record and Finding.entry count); lines stay 1-based (as Finding.line counts).
+ */
+export function parseGoto(text: string): GotoTarget | null {
+  const t = text.trim().toLowerCase();
+  let m = /^#?\s*(\d{1,15})$/.exec(t);
+  if (m) return positive(m[1], 'record', 1);
+  m = /^(?:line|l|:)\s*(\d{1,15})$/.exec(t);
+  if (m) return positive(m[1], 'line', 0);
+  m = /^(?:row|r)\s*(\d{1,15})$/.exec(t);
+  if (m) return positive(m[1], 'entry', 1);
+  return null;
+}
+
+function positive(digits: string, kind: GotoTarget['kind'], minus: number): GotoTarget | null {
+  const n = Number(digits);
+  if (!Number.isSafeInteger(n) || n < 1) return null;
+  return { kind, value: n - minus };
+}
+
+/** Keeps a small most-recently-used cache (Map iteration order is insertion order). */
+export class Lru<K, V> {
+  private readonly map = new Map<K, V>();
+  constructor(private readonly capacity: number) {}
+  get(key: K): V | undefined {
+    const v = this.map.get(key);
+    if (v !== undefined) {
+      this.map.delete(key);
+      this.map.set(key, v);
+    }
+    return v;
+  }
+  peek(key: K): V | undefined {
+    return this.map.get(key);
+  }
+  set(key: K, value: V): void {
+    this.map.delete(key);
+    this.map.set(key, value);
+    while (this.map.size > this.capacity) {
+      const oldest = this.map.keys().next().value as K;
+      this.map.delete(oldest);
+    }
+  }
+  delete(key: K): void {
+    this.map.delete(key);
+  }
+  clear(): void {
+    this.map.clear();
+  }
+  get size(): number {
+    return this.map.size;
+  }
+}

@@ -1,0 +1,285 @@
+// The side panel: a summary of the open shard (records, token percentiles, progress) and its findings,
+// filterable by severity and text; a finding reveals its record or opens the text at its line.
+// Browser code: DOM only. All host text is untrusted and reaches the DOM as text.
+
+import type { Severity } from '../engine/findings.js';
+import { isMessage, type FindingView, type HostToPanel, type PanelToHost, type ShardSummary } from '../protocol.js';
+import { connect, formatBytes, formatCount, h, icon, iconButton, isSeverity, severityIcon, str } from './common.js';
+
+/** Findings rendered at once; the rest wait behind a "show more" button. */
+const RENDER_BATCH = 500;
+const SEVERITIES: Severity[] = ['error', 'warning', 'info'];
+const SEVERITY_LABEL: Record<Severity, string> = { error: 'Errors', warning: 'Warnings', info: 'Notes' };
+
+interface PanelState {
+  hidden: Severity[];
+  text: string;
+}
+
+const vscode = connect<PanelToHost>();
+const saved = (vscode.getState() ?? {}) as Partial<PanelState>;
+const hidden = new Set<Severity>(Array.isArray(saved.hidden) ? saved.hidden.filter(isSeverity) : []);
+let filterText = typeof saved.text === 'string' ? saved.text : '';
+let summary: ShardSummary | null = null;
+let findings: FindingView[] = [];
+let totalFindings = 0;
+let renderLimit = RENDER_BATCH;
+
+const root = document.getElementById('sw-root') ?? document.body.appendChild(h('div', 'sw-root'));
+root.classList.add('sw-panel');
+
+const emptyEl = h('div', 'sw-empty');
+const emptyText = h('p', 'sw-empty-text');
+emptyEl.append(icon('inbox', 'sw-empty-icon'), emptyText);
+
+const content = h('div', 'sw-panel-content');
+const summaryEl = h('section', 'sw-summary');
+summaryEl.setAttribute('aria-label', 'Shard summary');
+const findingsSection = h('section', 'sw-findings-section');
+findingsSection.setAttribute('aria-label', 'Findings');
+const filterBar = h('div', 'sw-filter-bar');
+const sevButtons = new Map<Severity, HTMLButtonElement>();
+for (const sev of SEVERITIES) {
+  const b = h('button', 'sw-sev-toggle');
+  b.type = 'button';
+  b.dataset.severity = sev;
+  b.title = `Show or hide ${SEVERITY_LABEL[sev].toLowerCase()}`;
+  b.append(severityIcon(sev), h('span', 'sw-count', '0'));
+  b.addEventListener('click', () => {
+    if (hidden.has(sev)) hidden.delete(sev);
+    else hidden.add(sev);
+    saveState();
+    renderFindings();
+  });
+  sevButtons.set(sev, b);
+  filterBar.append(b);
+}
+const textWrap = h('label', 'sw-filter-text-wrap');
+const textInput = h('input', 'sw-filter-text');
+textInput.type = 'search';
+textInput.placeholder = 'Filter by rule, message or place';
+textInput.setAttribute('aria-label', 'Filter findings');
+textInput.value = filterText;
+textWrap.append(icon('filter'), textInput);
+filterBar.append(textWrap);
+const capNote = h('div', 'sw-capped');
+const listEl = h('div', 'sw-findings');
+listEl.setAttribute('role', 'listbox');
+listEl.setAttribute('aria-label', 'Findings');
+const moreButton = h('button', 'sw-button sw-findings-more');
+moreButton.type = 'button';
+findingsSection.append(filterBar, capNote, listEl, moreButton);
+content.append(summaryEl, findingsSection);
+root.append(emptyEl, content);
+content.hidden = true;
+emptyEl.hidden = true;
+
+function saveState(): void {
+  vscode.setState({ hidden: [...hidden], text: filterText } satisfies PanelState);
+}
+
+textInput.addEventListener('input', () => {
+  filterText = textInput.value;
+  renderLimit = RENDER_BATCH;
+  saveState();
+  renderFindings();
+});
+
+moreButton.addEventListener('click', () => {
+  renderLimit += RENDER_BATCH;
+  renderFindings();
+});
+
+// ---- summary ----
+const PHASE_TEXT: Record<ShardSummary['phase'], string> = {
+  indexing: 'Indexing',
+  analysing: 'Analysing',
+  done: 'Done',
+  failed: 'Failed',
+  cancelled: 'Cancelled',
+};
+
+function stat(label: string, value: string, key: string, cls = ''): HTMLElement {
+  const s = h('div', `sw-stat${cls ? ` ${cls}` : ''}`);
+  s.dataset.stat = key;
+  s.append(h('span', 'sw-stat-label', label), h('span', 'sw-stat-value', value));
+  return s;
+}
+
+function renderSummary(s: ShardSummary): void {
+  summaryEl.replaceChildren();
+  const head = h('div', 'sw-summary-head');
+  head.append(icon('database'), h('span', 'sw-file-name', str(s.fileName)));
+  head.title = str(s.path);
+  const phase = PHASE_TEXT[s.phase] ?? str(s.phase);
+  const phaseEl = h('span', `sw-badge sw-phase sw-phase-${PHASE_TEXT[s.phase] ? s.phase : 'other'}`, phase);
+  head.append(phaseEl);
+  summaryEl.append(head);
+  summaryEl.append(h('div', 'sw-muted sw-summary-sub', `${str(s.format)} · ${formatBytes(s.sizeBytes)}`));
+
+  if (s.phase === 'indexing' || s.phase === 'analysing') {
+    const pct = Math.round(Math.max(0, Math.min(1, Number(s.progress) || 0)) * 100);
+    const bar = h('div', 'sw-progress');
+    bar.setAttribute('role', 'progressbar');
+    bar.setAttribute('aria-valuenow', String(pct));
+    bar.title = `${phase} ${pct}%`;
+    const fill = h('div', 'sw-progress-fill');
+    fill.style.width = `${pct}%`;
+    bar.append(fill);
+    summaryEl.append(bar);
+  }
+  if (s.phase === 'failed' && s.error !== undefined) {
+    const err = h('div', 'sw-banner sw-banner-error');
+    err.setAttribute('role', 'alert');
+    err.append(icon('error'), h('span', 'sw-banner-text', str(s.error)));
+    summaryEl.append(err);
+  }
+
+  const grid = h('div', 'sw-stats');
+  grid.append(
+    stat('Records', formatCount(s.records), 'records'),
+    stat('Blank lines', formatCount(s.blankLines), 'blankLines', s.blankLines > 0 ? 'sw-stat-flag' : ''),
+    stat('Invalid lines', formatCount(s.invalidLines), 'invalidLines', s.invalidLines > 0 ? 'sw-stat-bad' : ''),
+  );
+  summaryEl.append(grid);
+
+  const t = s.tokens;
+  if (t && typeof t === 'object') {
+    const tok = h('div', 'sw-tokens');
+    const tHead = h('div', 'sw-tokens-head');
+    tHead.append(icon('symbol-numeric'), h('span', '', 'Tokens'), h('span', 'sw-badge sw-encoding', str(t.encoding)));
+    tok.append(tHead);
+    const tg = h('div', 'sw-stats');
+    tg.append(
+      stat('Total', formatCount(t.total), 'total'),
+      stat('p50', formatCount(t.p50), 'p50'),
+      stat('p90', formatCount(t.p90), 'p90'),
+      stat('p99', formatCount(t.p99), 'p99'),
+      stat('Max', formatCount(t.max), 'max'),
+    );
+    tok.append(tg);
+    const over = h('div', `sw-over${t.overContext > 0 ? ' sw-over-some' : ''}`);
+    over.dataset.stat = 'overContext';
+    over.append(
+      icon(t.overContext > 0 ? 'warning' : 'pass'),
+      h(
+        'span',
+        '',
+        `Over ${formatCount(t.contextLength)} tokens: ${formatCount(t.overContext)} ${t.overContext === 1 ? 'record' : 'records'}`,
+      ),
+    );
+    tok.append(over);
+    summaryEl.append(tok);
+  }
+}
+
+// ---- findings ----
+function matches(f: FindingView, needle: string): boolean {
+  if (!needle) return true;
+  return `${str(f.rule)}\n${str(f.message)}\n${str(f.place)}`.toLowerCase().includes(needle);
+}
+
+function renderFindings(): void {
+  const bySev = summary?.findingsBySeverity;
+  for (const sev of SEVERITIES) {
+    const b = sevButtons.get(sev)!;
+    const n = bySev && typeof bySev === 'object' ? Number(bySev[sev]) || 0 : findings.filter((f) => f.severity === sev).length;
+    b.querySelector('.sw-count')!.textContent = formatCount(n);
+    const on = !hidden.has(sev);
+    b.classList.toggle('sw-off', !on);
+    b.setAttribute('aria-pressed', String(on));
+  }
+  const needle = filterText.trim().toLowerCase();
+  const shown = findings.filter((f) => !hidden.has(isSeverity(f.severity) ? f.severity : 'info') && matches(f, needle));
+  const focusedId = (document.activeElement as HTMLElement | null)?.closest?.('.sw-finding')?.getAttribute('data-id');
+
+  listEl.replaceChildren();
+  const frag = document.createDocumentFragment();
+  for (const f of shown.slice(0, renderLimit)) frag.append(findingItem(f));
+  listEl.append(frag);
+  if (!shown.length) {
+    const none = h('div', 'sw-muted sw-no-findings');
+    if (findings.length) none.append(icon('filter'), h('span', '', 'No finding matches the filter.'));
+    else if (summary && summary.phase === 'done') none.append(icon('pass'), h('span', '', 'No findings in this shard.'));
+    else none.append(h('span', '', 'No findings yet.'));
+    listEl.append(none);
+  }
+  moreButton.hidden = shown.length <= renderLimit;
+  moreButton.textContent = `Show ${formatCount(Math.min(RENDER_BATCH, shown.length - renderLimit))} more`;
+
+  const notes: string[] = [];
+  if (totalFindings > findings.length) notes.push(`Showing ${formatCount(findings.length)} of ${formatCount(totalFindings)} findings`);
+  if (shown.length !== findings.length) notes.push(`${formatCount(shown.length)} match the filter`);
+  capNote.textContent = notes.join(' · ');
+  capNote.hidden = notes.length === 0;
+
+  if (focusedId) (listEl.querySelector(`.sw-finding[data-id="${Number(focusedId)}"]`) as HTMLElement | null)?.focus();
+}
+
+function findingItem(f: FindingView): HTMLElement {
+  const sev: Severity = isSeverity(f.severity) ? f.severity : 'info';
+  const item = h('div', 'sw-finding');
+  item.tabIndex = 0;
+  item.setAttribute('role', 'option');
+  item.dataset.id = String(f.id);
+  item.dataset.severity = sev;
+  item.dataset.rule = str(f.rule);
+  item.title = 'Show this record';
+  const text = h('div', 'sw-finding-text');
+  const top = h('div', 'sw-finding-top');
+  top.append(h('span', 'sw-rule', str(f.rule)), h('span', 'sw-place', str(f.place)));
+  text.append(top, h('div', 'sw-message', str(f.message)));
+  const open = iconButton('go-to-file', 'Open at line', 'sw-open-text');
+  open.addEventListener('click', (ev) => {
+    ev.stopPropagation();
+    vscode.postMessage({ type: 'openText', id: f.id });
+  });
+  item.append(severityIcon(sev), text, open);
+  item.addEventListener('click', () => vscode.postMessage({ type: 'reveal', id: f.id }));
+  item.addEventListener('keydown', (ev) => {
+    if (ev.target !== item) return;
+    if (ev.key === 'Enter' || ev.key === ' ') {
+      ev.preventDefault();
+      vscode.postMessage({ type: 'reveal', id: f.id });
+    } else if (ev.key === 'ArrowDown' || ev.key === 'ArrowUp') {
+      ev.preventDefault();
+      const sib = ev.key === 'ArrowDown' ? item.nextElementSibling : item.previousElementSibling;
+      if (sib instanceof HTMLElement && sib.classList.contains('sw-finding')) sib.focus();
+    }
+  });
+  return item;
+}
+
+// ---- messages ----
+function onMessage(m: HostToPanel): void {
+  if (m.type === 'empty') {
+    summary = null;
+    findings = [];
+    totalFindings = 0;
+    emptyText.textContent = str(m.message) || 'Open a shard to see its summary and findings here.';
+    emptyEl.hidden = false;
+    content.hidden = true;
+  } else if (m.type === 'state') {
+    if (!m.summary || typeof m.summary !== 'object') return;
+    summary = m.summary;
+    findings = Array.isArray(m.findings) ? m.findings.filter((f) => f && typeof f === 'object') : [];
+    totalFindings = Math.max(findings.length, Number(m.totalFindings) || 0);
+    emptyEl.hidden = true;
+    content.hidden = false;
+    renderSummary(summary);
+    renderFindings();
+  }
+}
+
+window.addEventListener('message', (ev: MessageEvent) => {
+  const m = ev.data;
+  if (!isMessage(m)) return;
+  try {
+    onMessage(m as HostToPanel);
+  } catch (err) {
+    emptyText.textContent = `The panel could not show a message from the extension: ${str((err as Error)?.message ?? err)}`;
+    emptyEl.hidden = false;
+  }
+});
+
+vscode.postMessage({ type: 'ready' });

@@ -1,0 +1,975 @@
+// The record view: a header describing the shard, a virtual-scrolled table of entries paged from the
+// host, and a detail pane (conversation, preference pair, JSON tree, findings) for the selected entry.
+// Browser code: DOM only. All host text is untrusted and reaches the DOM as text.
+
+import type { Severity } from '../engine/findings.js';
+import type { ColumnInfo, FormatName, GroupInfo } from '../engine/sources/source.js';
+import {
+  isMessage,
+  type DetailView,
+  type FindingView,
+  type HostToRecordView,
+  type RecordViewToHost,
+  type RowView,
+  type TurnView,
+} from '../protocol.js';
+import {
+  connect,
+  formatBytes,
+  formatCount,
+  h,
+  icon,
+  iconButton,
+  isSeverity,
+  Lru,
+  parseGoto,
+  severityIcon,
+  str,
+} from './common.js';
+
+/** Keep in step with `--sw-row-height` in recordView.css. */
+const ROW_HEIGHT = 24;
+/** Rows per `requestRows` page. */
+const PAGE = 128;
+/** Pages kept in memory. */
+const CACHE_PAGES = 64;
+/** Rows rendered above and below the visible ones. */
+const OVERSCAN = 8;
+/** Browsers cap element heights (tens of millions of px); past this the scroll position is scaled. */
+const MAX_SPACER = 8_000_000;
+/** Page requests wait for the scrolling to pause this long, so a fast drag does not flood the host. */
+const REQUEST_DELAY_MS = 40;
+/** Children of one JSON container rendered before a "show more" button. */
+const TREE_BATCH = 500;
+const TREE_MAX_DEPTH = 200;
+const COLUMNAR: ReadonlySet<FormatName> = new Set<FormatName>(['parquet', 'arrow-file', 'arrow-stream']);
+
+type InitMessage = Extract<HostToRecordView, { type: 'init' }>;
+type Tab = 'conversation' | 'pair' | 'json' | 'findings';
+
+interface Page {
+  rows: (RowView | undefined)[];
+  /** Entries known when the page was answered: a short page is re-asked only once more are known. */
+  entriesAt: number;
+}
+
+interface SavedState {
+  fileName: string;
+  selected: number;
+}
+
+const vscode = connect<RecordViewToHost>();
+
+// ---- state ----
+let info: InitMessage | null = null;
+let entries = 0;
+let complete = true;
+let progress = 0;
+let columns: ColumnInfo[] = [];
+const pages = new Lru<number, Page>(CACHE_PAGES);
+const pending = new Map<number, number>(); // requestId → page
+const inFlight = new Set<number>();
+let nextRequestId = 1;
+let selected = -1;
+let detail: DetailView | null = null;
+let detailFor = -1;
+let activeTab: Tab | null = null;
+let renderQueued = false;
+let requestTimer: ReturnType<typeof setTimeout> | undefined;
+
+// ---- skeleton ----
+const root = document.getElementById('sw-root') ?? document.body.appendChild(h('div', 'sw-root'));
+root.classList.add('sw-record-view');
+
+const header = h('header', 'sw-header');
+const titleLine = h('div', 'sw-title-line');
+const fileIcon = icon('table', 'sw-file-icon');
+const fileNameEl = h('span', 'sw-file-name', '');
+const formatEl = h('span', 'sw-badge sw-format');
+const sizeEl = h('span', 'sw-size');
+const entriesEl = h('span', 'sw-entries');
+const indexingEl = h('span', 'sw-indexing');
+const indexBar = h('div', 'sw-progress');
+const indexBarFill = h('div', 'sw-progress-fill');
+indexBar.append(indexBarFill);
+indexBar.setAttribute('role', 'progressbar');
+indexingEl.append(icon('loading', 'codicon-modifier-spin'), h('span', 'sw-indexing-text'), indexBar);
+titleLine.append(fileIcon, fileNameEl, formatEl, sizeEl, entriesEl, indexingEl);
+const factsEl = h('div', 'sw-facts');
+const structureEl = h('details', 'sw-structure');
+header.append(titleLine, factsEl, structureEl);
+
+const banner = h('div', 'sw-banner sw-banner-error');
+banner.setAttribute('role', 'alert');
+banner.hidden = true;
+
+const toolbar = h('div', 'sw-toolbar');
+const gotoLabel = h('label', 'sw-goto');
+const gotoInput = h('input', 'sw-goto-input');
+gotoInput.type = 'text';
+gotoInput.spellcheck = false;
+gotoInput.placeholder = 'Go to: 12 · line 40 · row 7';
+gotoInput.setAttribute('aria-label', 'Go to record, line or row');
+gotoLabel.append(icon('arrow-right'), gotoInput);
+const gotoHint = h('span', 'sw-goto-hint');
+const detailToggle = iconButton('split-horizontal', 'Show or hide the detail pane', 'sw-detail-toggle');
+toolbar.append(gotoLabel, gotoHint, h('span', 'sw-spacer-flex'), detailToggle);
+
+const main = h('div', 'sw-main');
+const tableEl = h('section', 'sw-table');
+tableEl.setAttribute('aria-label', 'Entries');
+const headWrap = h('div', 'sw-table-head');
+const headRow = h('div', 'sw-row sw-row-head');
+headWrap.append(headRow);
+const viewport = h('div', 'sw-viewport');
+viewport.tabIndex = 0;
+viewport.setAttribute('role', 'grid');
+const spacer = h('div', 'sw-spacer');
+const rowsLayer = h('div', 'sw-rows');
+spacer.append(rowsLayer);
+viewport.append(spacer);
+const emptyNote = h('div', 'sw-table-empty');
+tableEl.append(headWrap, viewport, emptyNote);
+
+const splitter = h('div', 'sw-splitter');
+splitter.setAttribute('role', 'separator');
+splitter.title = 'Drag to resize';
+
+const detailEl = h('section', 'sw-detail');
+detailEl.setAttribute('aria-label', 'Entry detail');
+detailEl.tabIndex = -1;
+const detailHead = h('div', 'sw-detail-head');
+const detailTitle = h('span', 'sw-detail-title');
+const detailTokens = h('span', 'sw-badge sw-detail-tokens');
+const openLineButton = h('button', 'sw-button sw-open-line');
+openLineButton.type = 'button';
+openLineButton.append(icon('go-to-file'), h('span', '', 'Open at line'));
+const detailClose = iconButton('close', 'Hide the detail pane', 'sw-detail-close');
+detailHead.append(detailTitle, detailTokens, h('span', 'sw-spacer-flex'), openLineButton, detailClose);
+const tabsEl = h('div', 'sw-tabs');
+tabsEl.setAttribute('role', 'tablist');
+const tabBody = h('div', 'sw-tab-body');
+detailEl.append(detailHead, tabsEl, tabBody);
+detailEl.hidden = true;
+splitter.hidden = true;
+
+main.append(tableEl, splitter, detailEl);
+root.append(header, banner, toolbar, main);
+
+// ---- header ----
+function renderHeader(): void {
+  if (!info) return;
+  fileNameEl.textContent = str(info.fileName);
+  fileNameEl.title = str(info.fileName);
+  formatEl.textContent = str(info.format);
+  sizeEl.textContent = formatBytes(info.sizeBytes);
+  fileIcon.className = `codicon codicon-${COLUMNAR.has(info.format) ? 'table' : 'json'} sw-file-icon`;
+  document.title = str(info.fileName);
+
+  factsEl.replaceChildren();
+  for (const [k, v] of Object.entries(info.facts ?? {})) {
+    const f = h('span', 'sw-fact');
+    f.append(h('span', 'sw-fact-key', str(k)), h('span', 'sw-fact-value', str(v)));
+    factsEl.append(f);
+  }
+  factsEl.hidden = factsEl.childElementCount === 0;
+  renderStructure();
+  renderEntriesCount();
+}
+
+function renderEntriesCount(): void {
+  const unit = info && COLUMNAR.has(info.format) ? 'rows' : 'entries';
+  entriesEl.textContent = `${formatCount(entries)} ${unit}`;
+  indexingEl.hidden = complete;
+  const pct = Math.round(Math.max(0, Math.min(1, progress)) * 100);
+  indexingEl.querySelector('.sw-indexing-text')!.textContent = `indexing ${pct}%`;
+  indexBarFill.style.width = `${pct}%`;
+  indexBar.setAttribute('aria-valuenow', String(pct));
+  emptyNote.hidden = entries > 0;
+  emptyNote.textContent = complete ? 'This shard holds no entries.' : 'Reading the shard…';
+}
+
+function renderStructure(): void {
+  structureEl.replaceChildren();
+  const groups: GroupInfo[] = info?.groups ?? [];
+  const columnar = info ? COLUMNAR.has(info.format) : false;
+  const groupWord = info?.format === 'parquet' ? 'row groups' : 'batches';
+  const summary = h('summary', 'sw-structure-summary');
+  summary.append(icon('symbol-structure'), h('span', '', 'Structure'));
+  const parts = [`${formatCount(columns.length)} ${columns.length === 1 ? 'column' : 'columns'}`];
+  if (columnar || groups.length) parts.push(`${formatCount(groups.length)} ${groupWord}`);
+  summary.append(h('span', 'sw-muted', parts.join(' · ')));
+  structureEl.append(summary);
+
+  const body = h('div', 'sw-structure-body');
+  const colTable = h('table', 'sw-columns-table');
+  const ch = colTable.createTHead().insertRow();
+  for (const t of ['Column', 'Type']) ch.append(h('th', '', t));
+  const cb = colTable.createTBody();
+  for (const c of columns) {
+    const r = cb.insertRow();
+    r.dataset.column = str(c.name);
+    r.insertCell().textContent = str(c.name);
+    const tc = r.insertCell();
+    tc.className = 'sw-type';
+    tc.textContent = str(c.type);
+  }
+  body.append(colTable);
+
+  if (groups.length) {
+    const gTable = h('table', 'sw-groups-table');
+    const gh = gTable.createTHead().insertRow();
+    for (const t of [groupWord === 'batches' ? 'Batch' : 'Row group', 'Rows', 'First row', 'Compressed', 'Uncompressed', 'Codecs'])
+      gh.append(h('th', '', t));
+    const gb = gTable.createTBody();
+    for (const g of groups) {
+      const r = gb.insertRow();
+      r.dataset.group = String(g.index);
+      r.insertCell().textContent = formatCount(g.index);
+      r.insertCell().textContent = formatCount(g.rows);
+      r.insertCell().textContent = formatCount(g.firstRow);
+      r.insertCell().textContent = g.compressedBytes === undefined ? '–' : formatBytes(g.compressedBytes);
+      r.insertCell().textContent = g.uncompressedBytes === undefined ? '–' : formatBytes(g.uncompressedBytes);
+      const codecs = [...new Set(Object.values(g.codecs ?? {}).map(str))];
+      r.insertCell().textContent = codecs.length ? codecs.join(', ') : '–';
+    }
+    body.append(gTable);
+  }
+  structureEl.append(body);
+  structureEl.hidden = columns.length === 0 && groups.length === 0;
+}
+
+// ---- table ----
+function fieldColumns(): ColumnInfo[] {
+  return columns;
+}
+
+function renderHeadRow(): void {
+  headRow.replaceChildren();
+  const fixed: [string, string, string][] = [
+    ['record', '#', 'Record number'],
+    info && COLUMNAR.has(info.format) ? ['place', 'Row', 'Row in the file'] : ['place', 'Line', 'Line in the file'],
+    ['tokens', 'Tokens', 'Tokens in the record'],
+    ['marker', '', 'Findings'],
+  ];
+  for (const [col, label, title] of fixed) {
+    const c = h('div', `sw-cell sw-col-${col}`, label);
+    c.dataset.col = col;
+    c.title = title;
+    if (col === 'marker') c.append(icon('issues'));
+    headRow.append(c);
+  }
+  for (const f of fieldColumns()) {
+    const c = h('div', 'sw-cell sw-col-field');
+    c.dataset.col = 'field';
+    c.dataset.field = str(f.name);
+    c.title = `${str(f.name)}: ${str(f.type)}`;
+    c.append(h('span', 'sw-field-name', str(f.name)), h('span', 'sw-field-type', str(f.type)));
+    headRow.append(c);
+  }
+  const n = fieldColumns().length;
+  const template = `var(--sw-col-record) var(--sw-col-place) var(--sw-col-tokens) var(--sw-col-marker)${
+    n ? ` repeat(${n}, minmax(var(--sw-col-field-min), 1fr))` : ' 1fr'
+  }`;
+  tableEl.style.setProperty('--sw-grid', template);
+  tableEl.style.setProperty('--sw-fields', String(n));
+}
+
+function rowAt(entry: number): RowView | undefined {
+  return pages.peek(Math.floor(entry / PAGE))?.rows[entry % PAGE];
+}
+
+interface Geometry {
+  viewH: number;
+  spacerH: number;
+  maxScroll: number;
+  contentMax: number;
+}
+
+function geometry(): Geometry {
+  const viewH = viewport.clientHeight;
+  const total = entries * ROW_HEIGHT;
+  const spacerH = Math.min(total, MAX_SPACER);
+  return { viewH, spacerH, maxScroll: Math.max(0, spacerH - viewH), contentMax: Math.max(0, total - viewH) };
+}
+
+/** The content position (in unscaled px) the scroll bar stands at. */
+function contentPos(g: Geometry): number {
+  const st = Math.min(viewport.scrollTop, g.maxScroll);
+  return g.maxScroll > 0 ? st * (g.contentMax / g.maxScroll) : 0;
+}
+
+function setContentPos(pos: number): void {
+  const g = geometry();
+  const p = Math.max(0, Math.min(g.contentMax, pos));
+  viewport.scrollTop = g.contentMax > 0 ? p * (g.maxScroll / g.contentMax) : 0;
+}
+
+function visibleRange(): { first: number; count: number } {
+  const g = geometry();
+  const pos = contentPos(g);
+  const first = Math.floor(pos / ROW_HEIGHT);
+  return { first, count: Math.max(1, Math.floor(g.viewH / ROW_HEIGHT)) };
+}
+
+function queueRender(): void {
+  if (renderQueued) return;
+  renderQueued = true;
+  requestAnimationFrame(() => {
+    renderQueued = false;
+    renderRows();
+  });
+}
+
+function renderRows(): void {
+  const g = geometry();
+  spacer.style.height = `${g.spacerH}px`;
+  const st = Math.min(viewport.scrollTop, g.maxScroll);
+  const pos = contentPos(g);
+  const first = Math.floor(pos / ROW_HEIGHT);
+  const offset = pos - first * ROW_HEIGHT;
+  const visible = Math.ceil((g.viewH + offset) / ROW_HEIGHT) + 1;
+  const start = Math.max(0, first - OVERSCAN);
+  const end = Math.min(entries, first + visible + OVERSCAN);
+  rowsLayer.style.transform = `translateY(${st - offset - (first - start) * ROW_HEIGHT}px)`;
+  const frag = document.createDocumentFragment();
+  for (let e = start; e < end; e++) frag.append(buildRow(e));
+  rowsLayer.replaceChildren(frag);
+  scheduleRequests(start, end);
+}
+
+function buildRow(entry: number): HTMLElement {
+  const r = rowAt(entry);
+  const row = h('div', 'sw-row');
+  row.dataset.entry = String(entry);
+  row.setAttribute('role', 'row');
+  if (entry === selected) {
+    row.classList.add('sw-selected');
+    row.setAttribute('aria-selected', 'true');
+  }
+  const cell = (col: string, text: string): HTMLElement => {
+    const c = h('div', `sw-cell sw-col-${col}`, text);
+    c.dataset.col = col;
+    c.setAttribute('role', 'gridcell');
+    return c;
+  };
+  if (!r) {
+    row.classList.add('sw-row-loading');
+    row.append(cell('record', ''), cell('place', ''), cell('tokens', ''), cell('marker', ''));
+    const filler = cell('loading', '…');
+    filler.classList.add('sw-cell-span');
+    row.append(filler);
+    return row;
+  }
+  row.append(
+    cell('record', r.record === null || r.record === undefined ? '–' : formatCount(r.record + 1)),
+    cell('place', str(r.place)),
+    cell('tokens', r.tokens === null || r.tokens === undefined ? '' : formatCount(r.tokens)),
+  );
+  const marker = cell('marker', '');
+  if (isSeverity(r.severity)) {
+    row.dataset.severity = r.severity;
+    marker.append(severityIcon(r.severity));
+    if (r.findingCount > 1) marker.append(h('span', 'sw-marker-count', formatCount(r.findingCount)));
+    marker.title = `${formatCount(r.findingCount)} ${r.findingCount === 1 ? 'finding' : 'findings'}`;
+  }
+  row.append(marker);
+  if (r.record === null || r.record === undefined || r.raw !== undefined) {
+    row.classList.add('sw-row-raw');
+    const raw = str(r.raw);
+    const c = cell('raw', raw === '' ? '(blank line)' : raw);
+    c.classList.add('sw-cell-span');
+    c.title = raw.slice(0, 2000);
+    row.append(c);
+    return row;
+  }
+  const cells = r.cells && typeof r.cells === 'object' ? r.cells : {};
+  for (const f of fieldColumns()) {
+    const name = str(f.name);
+    const has = Object.prototype.hasOwnProperty.call(cells, name);
+    const text = has ? str(cells[name]) : '';
+    const c = cell('field', text);
+    c.dataset.field = name;
+    if (!has) c.classList.add('sw-cell-absent');
+    else c.title = text.slice(0, 2000);
+    row.append(c);
+  }
+  return row;
+}
+
+function scheduleRequests(start: number, end: number): void {
+  clearTimeout(requestTimer);
+  const wanted = missingPages(start, end);
+  if (!wanted.length) return;
+  // The first screen and small moves are asked for at once; a drag waits for a pause.
+  if (pages.size === 0 || wanted.length === 1) {
+    requestPages(wanted);
+    return;
+  }
+  requestTimer = setTimeout(() => {
+    const r = currentRenderedRange();
+    requestPages(missingPages(r.start, r.end));
+  }, REQUEST_DELAY_MS);
+}
+
+function currentRenderedRange(): { start: number; end: number } {
+  const { first, count } = visibleRange();
+  return { start: Math.max(0, first - OVERSCAN), end: Math.min(entries, first + count + 1 + OVERSCAN) };
+}
+
+function missingPages(start: number, end: number): number[] {
+  const out: number[] = [];
+  if (end <= start) return out;
+  for (let p = Math.floor(start / PAGE); p <= Math.floor((end - 1) / PAGE); p++) {
+    if (inFlight.has(p)) continue;
+    const page = pages.peek(p);
+    const need = Math.min(PAGE, entries - p * PAGE);
+    if (page && (page.rows.filter(Boolean).length >= need || page.entriesAt >= entries)) continue;
+    out.push(p);
+  }
+  return out;
+}
+
+function requestPages(list: number[]): void {
+  for (const p of list) {
+    if (inFlight.has(p)) continue;
+    const requestId = nextRequestId++;
+    pending.set(requestId, p);
+    inFlight.add(p);
+    const start = p * PAGE;
+    vscode.postMessage({ type: 'requestRows', requestId, start, count: Math.min(PAGE, Math.max(0, entries - start)) });
+  }
+}
+
+function onRows(m: Extract<HostToRecordView, { type: 'rows' }>): void {
+  const p = pending.get(m.requestId);
+  if (p === undefined) return; // stale: asked before a reload, or never asked
+  pending.delete(m.requestId);
+  inFlight.delete(p);
+  const page: Page = { rows: new Array(PAGE), entriesAt: entries };
+  const rows = Array.isArray(m.rows) ? m.rows : [];
+  const base = p * PAGE;
+  const start = Number.isSafeInteger(m.start) ? m.start : base;
+  rows.forEach((r, i) => {
+    if (!r || typeof r !== 'object') return;
+    const e = Number.isSafeInteger(r.entry) ? r.entry : start + i;
+    if (e >= base && e < base + PAGE) page.rows[e - base] = r;
+  });
+  pages.set(p, page);
+  queueRender();
+}
+
+function resetRows(): void {
+  pages.clear();
+  pending.clear();
+  inFlight.clear();
+  clearTimeout(requestTimer);
+}
+
+// ---- selection ----
+function select(entry: number, opts: { fromHost?: boolean; reveal?: string; align?: 'nearest' | 'center' } = {}): void {
+  if (entries <= 0 && !opts.fromHost) return;
+  const e = opts.fromHost ? Math.max(0, entry) : Math.max(0, Math.min(entries - 1, entry));
+  const changed = e !== selected;
+  selected = e;
+  scrollToEntry(e, opts.align ?? 'nearest');
+  queueRender();
+  vscode.setState({ fileName: info?.fileName ?? '', selected } satisfies SavedState);
+  if (!opts.fromHost && changed) vscode.postMessage({ type: 'selected', entry: e });
+  if (changed || opts.reveal !== undefined || opts.fromHost) {
+    detailFor = e;
+    showDetailLoading(e);
+    const msg: RecordViewToHost = { type: 'requestDetail', entry: e };
+    if (opts.reveal !== undefined) msg.reveal = opts.reveal;
+    vscode.postMessage(msg);
+  }
+}
+
+function scrollToEntry(entry: number, align: 'nearest' | 'center'): void {
+  const g = geometry();
+  const pos = contentPos(g);
+  const top = entry * ROW_HEIGHT;
+  if (align === 'center') {
+    setContentPos(top - (g.viewH - ROW_HEIGHT) / 2);
+  } else if (top < pos) {
+    setContentPos(top);
+  } else if (top + ROW_HEIGHT > pos + g.viewH) {
+    setContentPos(top + ROW_HEIGHT - g.viewH);
+  }
+}
+
+viewport.addEventListener('scroll', () => {
+  headWrap.scrollLeft = viewport.scrollLeft;
+  queueRender();
+});
+
+viewport.addEventListener('click', (ev) => {
+  const row = (ev.target as Element).closest?.('.sw-row[data-entry]') as HTMLElement | null;
+  if (!row) return;
+  viewport.focus();
+  select(Number(row.dataset.entry));
+});
+
+viewport.addEventListener('dblclick', (ev) => {
+  const row = (ev.target as Element).closest?.('.sw-row[data-entry]') as HTMLElement | null;
+  if (row) openDetailPane(true);
+});
+
+viewport.addEventListener('keydown', (ev) => {
+  if (entries <= 0) return;
+  const { count } = visibleRange();
+  const cur = selected < 0 ? visibleRange().first - 1 : selected;
+  let next: number | null = null;
+  switch (ev.key) {
+    case 'ArrowDown':
+      next = cur + 1;
+      break;
+    case 'ArrowUp':
+      next = cur - 1;
+      break;
+    case 'PageDown':
+      next = cur + count;
+      break;
+    case 'PageUp':
+      next = cur - count;
+      break;
+    case 'Home':
+      next = 0;
+      break;
+    case 'End':
+      next = entries - 1;
+      break;
+    case 'Enter':
+      ev.preventDefault();
+      if (selected >= 0) openDetailPane(true);
+      return;
+    default:
+      return;
+  }
+  ev.preventDefault();
+  select(Math.max(0, Math.min(entries - 1, next)));
+});
+
+new ResizeObserver(() => queueRender()).observe(viewport);
+
+// ---- go to ----
+gotoInput.addEventListener('keydown', (ev) => {
+  if (ev.key === 'Escape') {
+    gotoInput.value = '';
+    gotoInput.classList.remove('sw-invalid');
+    gotoHint.textContent = '';
+    viewport.focus();
+    return;
+  }
+  if (ev.key !== 'Enter') return;
+  ev.preventDefault();
+  const target = parseGoto(gotoInput.value);
+  if (!target) {
+    gotoInput.classList.add('sw-invalid');
+    gotoInput.setAttribute('aria-invalid', 'true');
+    gotoHint.textContent = 'Type a record number (12), a line (line 40, L40) or a row (row 7).';
+    return;
+  }
+  gotoInput.classList.remove('sw-invalid');
+  gotoInput.removeAttribute('aria-invalid');
+  gotoHint.textContent = '';
+  vscode.postMessage({ type: 'goto', kind: target.kind, value: target.value });
+});
+gotoInput.addEventListener('input', () => {
+  gotoInput.classList.remove('sw-invalid');
+  gotoInput.removeAttribute('aria-invalid');
+});
+
+// ---- detail ----
+let detailOpen = true;
+
+function openDetailPane(focus: boolean): void {
+  detailOpen = true;
+  detailEl.hidden = selected < 0;
+  splitter.hidden = detailEl.hidden;
+  if (focus && !detailEl.hidden) {
+    (tabsEl.querySelector('.sw-tab-active') as HTMLElement | null)?.focus() ?? detailEl.focus();
+  }
+}
+
+detailToggle.addEventListener('click', () => {
+  if (detailOpen && !detailEl.hidden) {
+    detailOpen = false;
+    detailEl.hidden = true;
+    splitter.hidden = true;
+  } else openDetailPane(false);
+});
+detailClose.addEventListener('click', () => {
+  detailOpen = false;
+  detailEl.hidden = true;
+  splitter.hidden = true;
+  viewport.focus();
+});
+openLineButton.addEventListener('click', () => {
+  if (selected >= 0) vscode.postMessage({ type: 'openText', entry: detail?.entry ?? selected });
+});
+
+function showDetailLoading(entry: number): void {
+  if (!detailOpen) return;
+  detailEl.hidden = false;
+  splitter.hidden = false;
+  detailEl.classList.add('sw-detail-loading');
+  detailTitle.textContent = rowAt(entry) ? placeTitle(rowAt(entry)!.record, str(rowAt(entry)!.place)) : `Entry ${formatCount(entry + 1)}`;
+}
+
+function placeTitle(record: number | null | undefined, place: string): string {
+  const rec = record === null || record === undefined ? 'No record' : `Record #${formatCount(record + 1)}`;
+  const columnar = info ? COLUMNAR.has(info.format) : false;
+  return place ? `${rec} · ${columnar || /^row\b/i.test(place) ? place : `line ${place}`}` : rec;
+}
+
+function onDetail(d: DetailView): void {
+  if (!d || typeof d !== 'object') return;
+  if (d.entry !== detailFor) return; // an answer for a selection the user has moved past
+  detail = d;
+  detailEl.classList.remove('sw-detail-loading');
+  if (!detailOpen) return;
+  detailEl.hidden = false;
+  splitter.hidden = false;
+  detailEl.dataset.entry = String(d.entry);
+  detailTitle.textContent = placeTitle(d.record, str(d.place));
+  detailTokens.textContent = d.tokens === null || d.tokens === undefined ? '' : `${formatCount(d.tokens)} tokens`;
+  detailTokens.hidden = d.tokens === null || d.tokens === undefined;
+  openLineButton.hidden = info ? COLUMNAR.has(info.format) : false;
+
+  const tabs: [Tab, string, string, number | null][] = [];
+  const turns = Array.isArray(d.turns) ? d.turns : null;
+  const findings = Array.isArray(d.findings) ? d.findings : [];
+  if (turns) tabs.push(['conversation', 'Conversation', 'comment-discussion', turns.length]);
+  if (d.pair && typeof d.pair === 'object') tabs.push(['pair', 'Pair', 'git-compare', null]);
+  tabs.push(['json', d.value === undefined ? 'Raw' : 'JSON', 'json', null]);
+  tabs.push(['findings', 'Findings', 'issues', findings.length]);
+  const names = tabs.map((t) => t[0]);
+  let tab: Tab = activeTab && names.includes(activeTab) ? activeTab : names[0];
+  if (d.reveal !== undefined) tab = 'json';
+
+  tabsEl.replaceChildren();
+  for (const [id, label, ic, count] of tabs) {
+    const b = h('button', 'sw-tab');
+    b.type = 'button';
+    b.dataset.tab = id;
+    b.setAttribute('role', 'tab');
+    b.append(icon(ic), h('span', '', label));
+    if (count !== null) b.append(h('span', 'sw-count', formatCount(count)));
+    if (id === 'findings' && findings.length) {
+      const worst = findings.some((f) => f.severity === 'error') ? 'error' : findings.some((f) => f.severity === 'warning') ? 'warning' : 'info';
+      b.dataset.severity = worst;
+    }
+    b.addEventListener('click', () => {
+      activeTab = id;
+      showTab(id);
+    });
+    tabsEl.append(b);
+  }
+  showTab(tab);
+  if (d.reveal !== undefined) revealPointer(str(d.reveal));
+}
+
+function showTab(tab: Tab): void {
+  if (!detail) return;
+  for (const b of tabsEl.querySelectorAll<HTMLElement>('.sw-tab')) {
+    const on = b.dataset.tab === tab;
+    b.classList.toggle('sw-tab-active', on);
+    b.setAttribute('aria-selected', String(on));
+  }
+  tabBody.replaceChildren();
+  tabBody.dataset.tab = tab;
+  if (detail.truncated) {
+    const note = h('div', 'sw-note');
+    note.append(icon('info'), h('span', '', 'Long values are cut in this view. Open at line to read them in full.'));
+    tabBody.append(note);
+  }
+  switch (tab) {
+    case 'conversation':
+      tabBody.append(renderConversation(detail.turns ?? []));
+      break;
+    case 'pair':
+      if (detail.pair) tabBody.append(renderPair(detail.pair));
+      break;
+    case 'json':
+      tabBody.append(detail.value === undefined ? renderRaw(detail.raw) : renderTree(detail.value));
+      break;
+    case 'findings':
+      tabBody.append(renderDetailFindings(detail.findings ?? []));
+      break;
+  }
+}
+
+const KNOWN_ROLES = new Set(['system', 'user', 'assistant', 'tool']);
+
+function renderConversation(turns: TurnView[]): HTMLElement {
+  const list = h('div', 'sw-conversation');
+  if (!turns.length) list.append(h('div', 'sw-muted', 'This conversation has no turns.'));
+  for (const t of turns) {
+    if (!t || typeof t !== 'object') continue;
+    const role = str(t.role);
+    const turn = h('article', `sw-turn sw-role-${KNOWN_ROLES.has(role) ? role : 'other'}`);
+    turn.dataset.role = role;
+    turn.dataset.turn = String(t.index);
+    turn.dataset.pointer = str(t.pointer);
+    const head = h('div', 'sw-turn-head');
+    head.append(h('span', 'sw-role', role || '(no role)'));
+    if (t.tokens !== null && t.tokens !== undefined) head.append(h('span', 'sw-turn-tokens', `${formatCount(t.tokens)} tokens`));
+    head.append(h('span', 'sw-spacer-flex'));
+    const show = iconButton('json', 'Show this turn in the JSON tree', 'sw-turn-to-json');
+    show.addEventListener('click', () => {
+      activeTab = 'json';
+      showTab('json');
+      revealPointer(str(t.pointer));
+    });
+    head.append(show);
+    turn.append(head, h('div', 'sw-turn-content', str(t.content)));
+    list.append(turn);
+  }
+  return list;
+}
+
+function renderPair(pair: { prompt: string; chosen: string; rejected: string }): HTMLElement {
+  const box = h('div', 'sw-pair');
+  const side = (cls: string, label: string, ic: string, text: unknown): HTMLElement => {
+    const s = h('div', `sw-pair-side sw-pair-${cls}`);
+    const head = h('div', 'sw-pair-head');
+    head.append(icon(ic), h('span', '', label));
+    s.append(head, h('div', 'sw-pair-text', str(text)));
+    return s;
+  };
+  box.append(side('prompt', 'Prompt', 'comment', pair.prompt));
+  const sides = h('div', 'sw-pair-sides');
+  sides.append(side('chosen', 'Chosen', 'thumbsup', pair.chosen), side('rejected', 'Rejected', 'thumbsdown', pair.rejected));
+  box.append(sides);
+  return box;
+}
+
+function renderRaw(raw: string | undefined): HTMLElement {
+  const box = h('div', 'sw-raw');
+  const text = str(raw);
+  box.textContent = text === '' ? '(blank line)' : text;
+  return box;
+}
+
+// ---- JSON tree ----
+function pointerToken(key: string | number): string {
+  return String(key).replace(/~/g, '~0').replace(/\//g, '~1');
+}
+
+function renderTree(value: unknown): HTMLElement {
+  const tree = h('div', 'sw-tree');
+  tree.setAttribute('role', 'tree');
+  tree.append(treeNode(null, value, '', 0));
+  return tree;
+}
+
+function treeNode(key: string | null, value: unknown, pointer: string, depth: number): HTMLElement {
+  const node = h('div', 'sw-node');
+  node.dataset.pointer = pointer;
+  node.setAttribute('role', 'treeitem');
+  const line = h('div', 'sw-node-line');
+  const isArr = Array.isArray(value);
+  const isObj = !isArr && value !== null && typeof value === 'object';
+  if (isArr || isObj) {
+    const t = iconButton('chevron-down', 'Fold', 'sw-node-toggle');
+    t.addEventListener('click', () => node.classList.toggle('sw-collapsed'));
+    line.append(t);
+  } else line.append(h('span', 'sw-node-leaf-pad'));
+  if (key !== null) line.append(h('span', 'sw-key', key), h('span', 'sw-punct', ': '));
+  node.append(line);
+  if (depth >= TREE_MAX_DEPTH) {
+    line.append(h('span', 'sw-muted', '… nested too deep to show'));
+    return node;
+  }
+  if (isArr || isObj) {
+    const items: [string, unknown][] = isArr
+      ? (value as unknown[]).map((v, i) => [String(i), v])
+      : Object.entries(value as Record<string, unknown>);
+    line.append(h('span', 'sw-summary', isArr ? `[${formatCount(items.length)}]` : `{${formatCount(items.length)}}`));
+    const children = h('div', 'sw-node-children');
+    node.append(children);
+    if (depth >= 6) node.classList.add('sw-collapsed');
+    let shown = 0;
+    const more = h('button', 'sw-button sw-tree-more');
+    more.type = 'button';
+    const showBatch = (): void => {
+      const stop = Math.min(items.length, shown + TREE_BATCH);
+      for (; shown < stop; shown++) {
+        const [k, v] = items[shown];
+        children.insertBefore(treeNode(k, v, `${pointer}/${pointerToken(k)}`, depth + 1), more.isConnected ? more : null);
+      }
+      if (shown < items.length) {
+        more.textContent = `Show ${formatCount(Math.min(TREE_BATCH, items.length - shown))} more of ${formatCount(items.length - shown)}`;
+        if (!more.isConnected) children.append(more);
+      } else more.remove();
+    };
+    more.addEventListener('click', showBatch);
+    showBatch();
+    return node;
+  }
+  const v = h('span', `sw-value sw-t-${value === null ? 'null' : typeof value}`);
+  v.textContent = typeof value === 'string' ? JSON.stringify(value) : str(value);
+  line.append(v);
+  return node;
+}
+
+/** Scrolls the node at `pointer` (or its nearest shown ancestor) into view and marks it. */
+function revealPointer(pointer: string): void {
+  const tree = tabBody.querySelector('.sw-tree');
+  if (!tree) return;
+  for (const old of tree.querySelectorAll('.sw-node-revealed')) old.classList.remove('sw-node-revealed');
+  const byPointer = new Map<string, HTMLElement>();
+  for (const n of tree.querySelectorAll<HTMLElement>('.sw-node')) byPointer.set(n.dataset.pointer ?? '', n);
+  let p = pointer;
+  let node = byPointer.get(p);
+  while (!node && p !== '') {
+    p = p.slice(0, Math.max(0, p.lastIndexOf('/')));
+    node = byPointer.get(p);
+  }
+  if (!node) return;
+  for (let a: HTMLElement | null = node; a && a !== tree; a = a.parentElement) a.classList.remove('sw-collapsed');
+  node.classList.add('sw-node-revealed');
+  node.scrollIntoView({ block: 'center' });
+}
+
+function renderDetailFindings(findings: FindingView[]): HTMLElement {
+  const list = h('div', 'sw-detail-findings');
+  if (!findings.length) {
+    const ok = h('div', 'sw-muted sw-all-clear');
+    ok.append(icon('pass'), h('span', '', 'No findings for this entry.'));
+    list.append(ok);
+  }
+  for (const f of findings) {
+    if (!f || typeof f !== 'object') continue;
+    const item = h('div', 'sw-finding sw-detail-finding');
+    item.tabIndex = 0;
+    item.setAttribute('role', 'button');
+    item.dataset.id = String(f.id);
+    if (f.pointer !== null && f.pointer !== undefined) item.dataset.pointer = str(f.pointer);
+    const sev: Severity = isSeverity(f.severity) ? f.severity : 'info';
+    item.dataset.severity = sev;
+    item.title = 'Open the text at this place';
+    item.append(
+      severityIcon(sev),
+      h('span', 'sw-rule', str(f.rule)),
+      h('span', 'sw-message', str(f.message)),
+      h('span', 'sw-place', str(f.place)),
+    );
+    const open = (): void => {
+      const m: RecordViewToHost = { type: 'openText', entry: detail?.entry ?? selected };
+      if (f.pointer !== null && f.pointer !== undefined) m.pointer = str(f.pointer);
+      vscode.postMessage(m);
+    };
+    item.addEventListener('click', open);
+    item.addEventListener('keydown', (ev) => {
+      if (ev.key === 'Enter' || ev.key === ' ') {
+        ev.preventDefault();
+        open();
+      }
+    });
+    list.append(item);
+  }
+  return list;
+}
+
+// ---- splitter: drag to resize the detail pane ----
+splitter.addEventListener('pointerdown', (ev) => {
+  splitter.setPointerCapture(ev.pointerId);
+  const vertical = getComputedStyle(main).flexDirection === 'column';
+  const rect = main.getBoundingClientRect();
+  const move = (e: PointerEvent): void => {
+    const size = vertical ? rect.bottom - e.clientY : rect.right - e.clientX;
+    const max = (vertical ? rect.height : rect.width) - 120;
+    main.style.setProperty('--sw-detail-size', `${Math.max(160, Math.min(max, size))}px`);
+  };
+  const up = (): void => {
+    splitter.removeEventListener('pointermove', move);
+    splitter.removeEventListener('pointerup', up);
+    queueRender();
+  };
+  splitter.addEventListener('pointermove', move);
+  splitter.addEventListener('pointerup', up);
+});
+
+// ---- messages ----
+function onInit(m: InitMessage): void {
+  const sameFile = info?.fileName === m.fileName;
+  info = m;
+  entries = Math.max(0, Number(m.entries) || 0);
+  complete = !!m.complete;
+  progress = complete ? 1 : 0;
+  columns = Array.isArray(m.columns) ? m.columns.filter((c) => c && typeof c === 'object') : [];
+  resetRows();
+  banner.hidden = true;
+  renderHeader();
+  renderHeadRow();
+  if (!sameFile) {
+    selected = -1;
+    detail = null;
+    detailFor = -1;
+    detailEl.hidden = true;
+    splitter.hidden = true;
+    viewport.scrollTop = 0;
+  }
+  renderRows();
+  const saved = vscode.getState() as Partial<SavedState> | undefined;
+  if (!sameFile && saved && saved.fileName === m.fileName && Number.isSafeInteger(saved.selected) && saved.selected! >= 0) {
+    if (saved.selected! < entries) select(saved.selected!, { align: 'center' });
+  }
+}
+
+function onMessage(m: HostToRecordView): void {
+  switch (m.type) {
+    case 'init':
+      onInit(m);
+      break;
+    case 'entries': {
+      const was = entries;
+      entries = Math.max(0, Number(m.entries) || 0);
+      complete = !!m.complete;
+      progress = Number(m.progress) || 0;
+      renderEntriesCount();
+      if (entries !== was) queueRender();
+      break;
+    }
+    case 'rows':
+      onRows(m);
+      break;
+    case 'detail':
+      onDetail(m.detail);
+      break;
+    case 'select': {
+      if (!Number.isSafeInteger(m.entry) || m.entry < 0) break;
+      openDetailPane(false);
+      detailOpen = true;
+      select(m.entry, { fromHost: true, reveal: m.pointer === undefined ? undefined : str(m.pointer), align: 'center' });
+      break;
+    }
+    case 'columns':
+      columns = Array.isArray(m.columns) ? m.columns.filter((c) => c && typeof c === 'object') : [];
+      resetRows(); // cached rows lack cells for new columns
+      renderHeadRow();
+      renderStructure();
+      renderRows();
+      break;
+    case 'error':
+      banner.replaceChildren(icon('error'), h('span', 'sw-banner-text', str(m.message)));
+      banner.hidden = false;
+      break;
+  }
+}
+
+window.addEventListener('message', (ev: MessageEvent) => {
+  const m = ev.data;
+  if (!isMessage(m)) return;
+  try {
+    onMessage(m as HostToRecordView);
+  } catch (err) {
+    banner.replaceChildren(icon('error'), h('span', 'sw-banner-text', `This view could not show a message from the extension: ${str((err as Error)?.message ?? err)}`));
+    banner.hidden = false;
+  }
+});
+
+renderEntriesCount();
+vscode.postMessage({ type: 'ready' });

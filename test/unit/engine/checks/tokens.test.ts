@@ -1,0 +1,150 @@
+// The tokens check: record counts are sums of the reference tokenizer's counts over the record's text.
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { get_encoding, type Tiktoken as ReferenceEncoder } from 'tiktoken';
+import { withDefaults, type CheckConfig } from '../../../../src/engine/config.js';
+import type { RecordResult } from '../../../../src/engine/checks/check.js';
+import { TOKENS_RULES, tokensCheck, turnTokenCounts } from '../../../../src/engine/checks/tokens.js';
+
+let cl100k: ReferenceEncoder;
+let o200k: ReferenceEncoder;
+/** Oracle: tiktoken (WASM), the reference implementation, counting without special tokens. */
+const ref = (text: string, enc: ReferenceEncoder = cl100k) => enc.encode_ordinary(text).length;
+
+function run(value: unknown, config: CheckConfig = withDefaults()): RecordResult {
+  const out: RecordResult = { issues: [] };
+  tokensCheck.checkRecord({ record: 0, value }, config, out);
+  return out;
+}
+
+beforeAll(() => {
+  cl100k = get_encoding('cl100k_base');
+  o200k = get_encoding('o200k_base');
+});
+afterAll(() => {
+  cl100k.free();
+  o200k.free();
+});
+
+describe('tokensCheck', () => {
+  it('asks for prepare when the encoding is not loaded', () => {
+    expect(() => run({ text: 'hi' }, withDefaults({ encoding: 'o200k_base' }))).toThrow(/not loaded yet/);
+  });
+
+  it('declares its rules in the tokens family', async () => {
+    await tokensCheck.prepare!(withDefaults());
+    expect(tokensCheck.rules).toBe(TOKENS_RULES);
+    expect(TOKENS_RULES.map((r) => r.id).sort()).toEqual(['tokens-no-text', 'tokens-over-context', 'tokens-special-text']);
+    expect(TOKENS_RULES.every((r) => r.family === 'tokens')).toBe(true);
+  });
+
+  it('counts a chat record as the sum of its turns', async () => {
+    await tokensCheck.prepare!(withDefaults());
+    const turns = [
+      { role: 'system', content: 'You are the repair desk of the Spoke & Sprocket co-op.' },
+      { role: 'user', content: 'My chain skips on the 11-tooth cog\u3000— why?' },
+      { role: 'assistant', content: 'Check the hanger alignment first, then cable tension.\n\n1. Shift…' },
+    ];
+    const out = run({ messages: turns });
+    expect(out.tokens).toBe(turns.reduce((n, t) => n + ref(t.content), 0));
+    expect(out.issues).toEqual([]);
+  });
+
+  it('counts only the text parts of list-of-parts content', async () => {
+    await tokensCheck.prepare!(withDefaults());
+    const url = 'https://example.invalid/photos/derailleur-hanger-bent.jpg?size=large&token=' + 'x'.repeat(200);
+    const one = run({ messages: [{ role: 'user', content: [{ type: 'text', text: 'Is this bent?' }, { type: 'image_url', image_url: { url } }] }] });
+    expect(one.tokens).toBe(ref('Is this bent?'));
+    // Several text parts are read as one text joined by newlines (conversation.ts convention).
+    const two = run({ messages: [{ role: 'user', content: [{ type: 'text', text: 'Front view.' }, { type: 'image_url', image_url: { url } }, { type: 'text', text: 'Side view.' }] }] });
+    expect(two.tokens).toBe(ref('Front view.\nSide view.'));
+  });
+
+  it('counts a preference pair as prompt + chosen + rejected', async () => {
+    await tokensCheck.prepare!(withDefaults());
+    const prompt = 'How tight should the stem bolts be?';
+    const chosen = 'Follow the torque printed on the stem, usually 5 N·m.';
+    const rejected = 'As tight as you can get them!!!';
+    expect(run({ prompt, chosen, rejected }).tokens).toBe(ref(prompt) + ref(chosen) + ref(rejected));
+    const asTurns = run({
+      chosen: [{ role: 'user', content: prompt }, { role: 'assistant', content: chosen }],
+      rejected: [{ role: 'user', content: prompt }, { role: 'assistant', content: rejected }],
+    });
+    expect(asTurns.tokens).toBe(2 * ref(prompt) + ref(chosen) + ref(rejected));
+  });
+
+  it('counts the first configured text field, else every top-level string', async () => {
+    await tokensCheck.prepare!(withDefaults());
+    expect(run({ id: 7, body: 'second', text: 'first field wins' }).tokens).toBe(ref('first field wins'));
+    expect(run({ text: 'custom order', passage: 'chosen' }, withDefaults({ textFields: ['passage', 'text'] })).tokens).toBe(ref('chosen'));
+    expect(run({ prompt: 'Fix a flat?', completion: ' Patch or swap the tube.' }).tokens).toBe(ref('Fix a flat?') + ref(' Patch or swap the tube.'));
+  });
+
+  it('reports a record without text once, as info, and counts 0', async () => {
+    await tokensCheck.prepare!(withDefaults());
+    const out = run({ id: 3, price: 12.5 });
+    expect(out.tokens).toBe(0);
+    expect(out.issues.map((i) => i.rule)).toEqual(['tokens-no-text']);
+    // A value that is not an object is a record-not-object finding already: no second finding.
+    for (const value of [42, null, [1, 2]]) {
+      const o = run(value);
+      expect(o.tokens).toBe(0);
+      expect(o.issues).toEqual([]);
+    }
+    // An empty chat is a chat (the chat check reports it), not a record without text.
+    expect(run({ messages: [] }).issues).toEqual([]);
+  });
+
+  it('warns when the count is over the context length, naming both numbers', async () => {
+    await tokensCheck.prepare!(withDefaults());
+    const text = 'true the wheel '.repeat(20);
+    const count = ref(text);
+    const over = run({ text }, withDefaults({ contextLength: count - 1 }));
+    expect(over.issues).toHaveLength(1);
+    expect(over.issues[0]!.rule).toBe('tokens-over-context');
+    expect(over.issues[0]!.pointer).toBe('');
+    expect(over.issues[0]!.message).toContain(String(count));
+    expect(over.issues[0]!.message).toContain(String(count - 1));
+    expect(run({ text }, withDefaults({ contextLength: count })).issues).toEqual([]);
+  });
+
+  it('warns where text spells a special token, pointing at the turn content', async () => {
+    await tokensCheck.prepare!(withDefaults());
+    const value = {
+      messages: [
+        { role: 'user', content: 'hello' },
+        { role: 'assistant', content: 'Done.<|endoftext|> and again <|endoftext|><|fim_prefix|>' },
+      ],
+    };
+    const out = run(value);
+    // Special-token spellings count as ordinary text (reference encode_ordinary).
+    expect(out.tokens).toBe(ref('hello') + ref(value.messages[1]!.content));
+    expect(out.issues).toHaveLength(1);
+    expect(out.issues[0]).toMatchObject({ rule: 'tokens-special-text', pointer: '/messages/1/content' });
+    expect(out.issues[0]!.message).toContain('"<|endoftext|>"');
+    expect(out.issues[0]!.message).toContain('"<|fim_prefix|>"');
+    expect(out.issues[0]!.message).toContain('3 times');
+  });
+
+  it('uses the configured encoding for counts and special tokens', async () => {
+    const config = withDefaults({ encoding: 'o200k_base' });
+    await tokensCheck.prepare!(config);
+    const text = 'Fill <|fim_prefix|> here; tyres 700×28c 🚲';
+    const out = run({ text }, config);
+    expect(out.tokens).toBe(ref(text, o200k));
+    // o200k_base has no fill-in-the-middle tokens (tiktoken_ext/openai_public.py).
+    expect(out.issues).toEqual([]);
+  });
+});
+
+describe('turnTokenCounts', () => {
+  it('gives each turn its pointer, role and count', async () => {
+    await tokensCheck.prepare!(withDefaults());
+    const value = { conversations: [{ from: 'human', value: 'Brake squeal?' }, { from: 'gpt', value: 'Clean the rotor with alcohol.' }] };
+    expect(turnTokenCounts(value, withDefaults())).toEqual([
+      { pointer: '/conversations/0', role: 'user', tokens: ref('Brake squeal?') },
+      { pointer: '/conversations/1', role: 'assistant', tokens: ref('Clean the rotor with alcohol.') },
+    ]);
+    expect(turnTokenCounts({ text: 'plain' }, withDefaults())).toEqual([{ pointer: '/text', role: null, tokens: ref('plain') }]);
+    expect(turnTokenCounts({ id: 1 }, withDefaults())).toEqual([]);
+  });
+});

@@ -1,0 +1,151 @@
+// The scripted host side of the webview tests: protocol messages a host would send for a large
+// JSONL shard of chat records, including deliberately hostile text.
+
+export const HOSTILE = [
+  '<script>window.__pwned=1</script>',
+  '<img src=x onerror="window.__pwned=1">',
+  '"><svg onload="window.__pwned=1">',
+];
+export const HOSTILE_TEXT = HOSTILE.join(' ');
+
+export const COLUMNS = [
+  { name: 'id', type: 'string' },
+  { name: 'messages', type: 'list<struct<role: string, content: string>>' },
+  { name: 'source', type: 'string' },
+];
+
+export function initMessage(entries, overrides = {}) {
+  return {
+    type: 'init',
+    fileName: 'workshop-chats.jsonl',
+    format: 'jsonl',
+    sizeBytes: entries * 612,
+    columns: COLUMNS,
+    facts: { compression: 'none', encoding: 'cl100k_base' },
+    entries,
+    complete: true,
+    ...overrides,
+  };
+}
+
+/** Every entry's row, computed from its index so a test can say what a row must show. */
+export function rowFor(e) {
+  const blank = e % 1000 === 999;
+  const severity = blank ? 'warning' : e % 25 === 7 ? 'error' : e % 10 === 3 ? 'info' : null;
+  const row = {
+    entry: e,
+    record: blank ? null : e - Math.floor(e / 1000),
+    place: String(e + 1),
+    line: e + 1,
+    tokens: blank ? null : 20 + ((e * 37) % 900),
+    severity,
+    findingCount: severity ? 1 + (e % 3) : 0,
+    cells: blank ? {} : { id: `chat-${e}`, messages: `[{"role":"user","content":"my chain skips on gear ${e % 11}"}…`, source: 'counter' },
+  };
+  if (blank) row.raw = '';
+  return row;
+}
+
+export function rowsAnswer(m) {
+  const rows = [];
+  for (let e = m.start; e < m.start + m.count; e++) rows.push(rowFor(e));
+  return { type: 'rows', requestId: m.requestId, start: m.start, rows };
+}
+
+export const TURNS = [
+  { role: 'system', content: 'You are the repair desk assistant of a volunteer bicycle workshop.', tokens: 14 },
+  { role: 'user', content: 'My rear derailleur clicks twice\nbut the chain only moves once.', tokens: 15 },
+  { role: 'assistant', content: 'Check the cable tension: turn the barrel adjuster a quarter turn anticlockwise.', tokens: 19 },
+  { role: 'user', content: 'Done, it shifts cleanly now.', tokens: 8 },
+];
+
+export function chatDetail(entry, extra = {}) {
+  const value = {
+    id: `chat-${entry}`,
+    messages: TURNS.map(({ role, content }) => ({ role, content })),
+    'a/b~c': { nested: [1, 2, { deep: true }] },
+    source: 'counter',
+  };
+  return {
+    entry,
+    record: entry,
+    place: String(entry + 1),
+    value,
+    truncated: false,
+    turns: TURNS.map((t, i) => ({ index: i, role: t.role, content: t.content, tokens: t.tokens, pointer: `/messages/${i}` })),
+    tokens: TURNS.reduce((s, t) => s + t.tokens, 0),
+    findings: [
+      {
+        id: 41,
+        rule: 'turn-order',
+        family: 'chat',
+        severity: 'warning',
+        message: 'Two user turns in a row',
+        record: entry,
+        line: entry + 1,
+        column: 14,
+        pointer: '/messages/3',
+        entry,
+        place: `${entry + 1}:14`,
+      },
+    ],
+    ...extra,
+  };
+}
+
+/** A host that pages rows and answers detail requests with a chat record. */
+export function scriptedHost({ detailFor = chatDetail } = {}) {
+  return async (m, view) => {
+    if (m.type === 'requestRows') await view.send(rowsAnswer(m));
+    else if (m.type === 'requestDetail') {
+      const d = detailFor(m.entry);
+      if (m.reveal !== undefined) d.reveal = m.reveal;
+      await view.send({ type: 'detail', detail: d });
+    }
+  };
+}
+
+export function finding(id, severity, rule, message, entry) {
+  return {
+    id,
+    rule,
+    family: 'chat',
+    severity,
+    message,
+    record: entry,
+    line: entry + 1,
+    column: 1,
+    pointer: '',
+    entry,
+    place: `${entry + 1}:1`,
+  };
+}
+
+export function panelState(overrides = {}) {
+  const findings = [
+    finding(1, 'error', 'json-syntax', 'Expected a value after the comma', 12),
+    finding(2, 'warning', 'turn-order', 'Two assistant turns in a row', 40),
+    finding(3, 'info', 'token-budget', 'Record uses 91% of the context length', 77),
+    finding(4, 'warning', 'blank-line', 'Blank line between records', 118),
+  ];
+  return {
+    type: 'state',
+    summary: {
+      path: '/data/workshop-chats.jsonl',
+      fileName: 'workshop-chats.jsonl',
+      format: 'jsonl',
+      sizeBytes: 4_812_331,
+      entries: 5120,
+      records: 5117,
+      blankLines: 2,
+      invalidLines: 1,
+      tokens: { encoding: 'cl100k_base', total: 1_734_220, max: 9210, p50: 302, p90: 811, p99: 2402, contextLength: 8192, overContext: 3 },
+      findingsBySeverity: { error: 1, warning: 2, info: 1 },
+      phase: 'done',
+      progress: 1,
+    },
+    findings,
+    totalFindings: findings.length,
+    ...overrides,
+  };
+}

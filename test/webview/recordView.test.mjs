@@ -1,0 +1,447 @@
+// The record view in headless Chromium, driven by a scripted host over the protocol.
+import { after, before, describe, test } from 'node:test';
+import assert from 'node:assert/strict';
+import { launchBrowser, openView, screenshot, startServer } from './harness.mjs';
+import { chatDetail, HOSTILE, HOSTILE_TEXT, initMessage, rowFor, rowsAnswer, scriptedHost } from './fixtures.mjs';
+
+const ROW_HEIGHT = 24; // recordView.ts ROW_HEIGHT
+const PAGE = 128; // recordView.ts PAGE
+
+let browser;
+let server;
+before(async () => {
+  server = await startServer();
+  browser = await launchBrowser();
+});
+after(async () => {
+  await browser?.close();
+  await server?.close();
+});
+
+async function renderedRows(page) {
+  return page.$$eval('.sw-rows .sw-row[data-entry]', (rows) =>
+    rows.map((r) => ({
+      entry: Number(r.dataset.entry),
+      loading: r.classList.contains('sw-row-loading'),
+      record: r.querySelector('[data-col="record"]')?.textContent,
+      place: r.querySelector('[data-col="place"]')?.textContent,
+      tokens: r.querySelector('[data-col="tokens"]')?.textContent,
+      id: r.querySelector('[data-field="id"]')?.textContent,
+      raw: r.querySelector('[data-col="raw"]')?.textContent,
+      severity: r.dataset.severity ?? null,
+      selected: r.classList.contains('sw-selected'),
+      top: r.getBoundingClientRect().top,
+    })),
+  );
+}
+
+/** Rows inside the scroll viewport's visible box. */
+async function visibleRows(page) {
+  const box = await page.$eval('.sw-viewport', (v) => {
+    const r = v.getBoundingClientRect();
+    return { top: r.top, bottom: r.bottom };
+  });
+  const rows = await renderedRows(page);
+  return rows.filter((r) => r.top >= box.top - 1 && r.top + ROW_HEIGHT <= box.bottom + 1);
+}
+
+async function waitLoaded(page) {
+  await page.waitForFunction(() => {
+    const rows = document.querySelectorAll('.sw-rows .sw-row[data-entry]');
+    return rows.length > 0 && !document.querySelector('.sw-rows .sw-row-loading');
+  });
+}
+
+const fmt = (n) => new Intl.NumberFormat('en-US').format(n);
+
+describe('record view', () => {
+  test('renders the visible rows of a 100,000-entry shard with their place and token cells', async () => {
+    const view = await openView(browser, server, { kind: 'recordView', onMessage: scriptedHost() });
+    try {
+      await view.send(initMessage(100_000));
+      const req = await view.waitForPost((m) => m.type === 'requestRows');
+      assert.equal(req.start, 0);
+      assert.ok(req.count > 0 && req.count <= 200, `page size ${req.count}`);
+      await waitLoaded(view.page);
+      const rows = await visibleRows(view.page);
+      assert.ok(rows.length >= 20, `expected a screenful of rows, got ${rows.length}`);
+      assert.equal(rows[0].entry, 0);
+      for (const r of rows) {
+        const want = rowFor(r.entry);
+        assert.equal(r.place, want.place);
+        assert.equal(r.tokens, want.tokens === null ? '' : fmt(want.tokens));
+        assert.equal(r.record, fmt(want.record + 1));
+        assert.equal(r.id, want.cells.id);
+      }
+      // Only visible rows plus a small overscan are in the DOM, not the shard.
+      const inDom = (await renderedRows(view.page)).length;
+      assert.ok(inDom < 80, `${inDom} rows in the DOM`);
+      const spacer = await view.page.$eval('.sw-spacer', (s) => s.getBoundingClientRect().height);
+      assert.equal(spacer, 100_000 * ROW_HEIGHT);
+      assert.match(await view.page.textContent('.sw-entries'), /100,000/);
+      await screenshot(view.page, 'record-view-table-dark');
+      assert.deepEqual(view.errors, []);
+    } finally {
+      await view.close();
+    }
+  });
+
+  test('scrolling to the middle requests the page holding that entry and renders it', async () => {
+    const view = await openView(browser, server, { kind: 'recordView', onMessage: scriptedHost() });
+    try {
+      await view.send(initMessage(100_000));
+      await waitLoaded(view.page);
+      const before = view.posted.length;
+      await view.page.$eval('.sw-viewport', (v, y) => (v.scrollTop = y), 50_000 * ROW_HEIGHT);
+      const req = await view.waitForPost((m) => m.type === 'requestRows' && m.start > 0, { from: before });
+      assert.equal(req.start % PAGE, 0);
+      assert.ok(req.start <= 50_000 && 50_000 < req.start + PAGE + 64, `asked for ${req.start}`);
+      await waitLoaded(view.page);
+      const rows = await visibleRows(view.page);
+      assert.equal(rows[0].entry, 50_000);
+      for (const r of rows) assert.equal(r.place, rowFor(r.entry).place);
+    } finally {
+      await view.close();
+    }
+  });
+
+  test('scales the scroll range for millions of entries and still reaches the last one', async () => {
+    const view = await openView(browser, server, { kind: 'recordView', onMessage: scriptedHost() });
+    try {
+      const n = 5_000_000;
+      await view.send(initMessage(n));
+      await waitLoaded(view.page);
+      // Chromium stops laying out elements past ~16.7 M px (common practice: keep spacers far below that).
+      const spacer = await view.page.$eval('.sw-spacer', (s) => s.getBoundingClientRect().height);
+      assert.ok(spacer < 16_000_000, `spacer ${spacer}px`);
+      await view.page.$eval('.sw-viewport', (v) => (v.scrollTop = v.scrollHeight));
+      await waitLoaded(view.page);
+      const rows = await visibleRows(view.page);
+      assert.equal(rows.at(-1).entry, n - 1);
+      assert.equal(rows.at(-1).place, rowFor(n - 1).place);
+      // A host selection deep inside the scaled range lands on the right row, in view.
+      await view.send({ type: 'select', entry: 2_500_000 });
+      await waitLoaded(view.page);
+      const sel = (await visibleRows(view.page)).filter((r) => r.selected);
+      assert.deepEqual(sel.map((r) => [r.entry, r.place]), [[2_500_000, rowFor(2_500_000).place]]);
+      await view.page.focus('.sw-viewport');
+      await view.page.keyboard.press('ArrowDown');
+      await waitLoaded(view.page);
+      const sel2 = (await visibleRows(view.page)).filter((r) => r.selected);
+      assert.deepEqual(sel2.map((r) => r.entry), [2_500_001]);
+    } finally {
+      await view.close();
+    }
+  });
+
+  test('answers to unknown or superseded requests are ignored', async () => {
+    const view = await openView(browser, server, { kind: 'recordView' });
+    try {
+      await view.send(initMessage(1000));
+      const req = await view.waitForPost((m) => m.type === 'requestRows');
+      // A reply to a request never made must not fill the table.
+      const bogus = rowsAnswer({ requestId: req.requestId + 1000, start: 0, count: 50 });
+      bogus.rows.forEach((r) => (r.place = 'stale'));
+      await view.send(bogus);
+      // A reload (a second init) supersedes the first request; its late answer is dropped too.
+      await view.send(initMessage(1000, { fileName: 'reloaded.jsonl' }));
+      const req2 = await view.waitForPost((m) => m.type === 'requestRows' && m.requestId !== req.requestId);
+      const late = rowsAnswer(req);
+      late.rows.forEach((r) => (r.place = 'stale'));
+      await view.send(late);
+      await view.send(rowsAnswer(req2));
+      await waitLoaded(view.page);
+      const rows = await visibleRows(view.page);
+      assert.ok(rows.length > 0);
+      for (const r of rows) assert.equal(r.place, rowFor(r.entry).place);
+    } finally {
+      await view.close();
+    }
+  });
+
+  test('keyboard: arrows, PageDown, End and Home move the selection and post it', async () => {
+    const view = await openView(browser, server, { kind: 'recordView', onMessage: scriptedHost() });
+    try {
+      await view.send(initMessage(100_000));
+      await waitLoaded(view.page);
+      await view.page.click('.sw-rows .sw-row[data-entry="2"]');
+      let mark = view.posted.length;
+      assert.deepEqual(await view.waitForPost((m) => m.type === 'selected'), { type: 'selected', entry: 2 });
+      await view.waitForPost((m) => m.type === 'requestDetail' && m.entry === 2);
+
+      mark = view.posted.length;
+      await view.page.keyboard.press('ArrowDown');
+      assert.equal((await view.waitForPost((m) => m.type === 'selected', { from: mark })).entry, 3);
+      await view.waitForPost((m) => m.type === 'requestDetail' && m.entry === 3, { from: mark });
+
+      mark = view.posted.length;
+      await view.page.keyboard.press('ArrowUp');
+      assert.equal((await view.waitForPost((m) => m.type === 'selected', { from: mark })).entry, 2);
+
+      const pageRows = Math.floor((await view.page.$eval('.sw-viewport', (v) => v.clientHeight)) / ROW_HEIGHT);
+      mark = view.posted.length;
+      await view.page.keyboard.press('PageDown');
+      assert.equal((await view.waitForPost((m) => m.type === 'selected', { from: mark })).entry, 2 + pageRows);
+
+      mark = view.posted.length;
+      await view.page.keyboard.press('End');
+      assert.equal((await view.waitForPost((m) => m.type === 'selected', { from: mark })).entry, 99_999);
+      await waitLoaded(view.page);
+      const sel = (await visibleRows(view.page)).filter((r) => r.selected);
+      assert.deepEqual(sel.map((r) => r.entry), [99_999]);
+
+      mark = view.posted.length;
+      await view.page.keyboard.press('Home');
+      assert.equal((await view.waitForPost((m) => m.type === 'selected', { from: mark })).entry, 0);
+
+      // Enter opens the detail pane and moves focus into it.
+      await view.page.click('.sw-detail-close');
+      assert.equal(await view.page.isHidden('.sw-detail'), true);
+      await view.page.focus('.sw-viewport');
+      await view.page.keyboard.press('Enter');
+      await view.page.waitForSelector('.sw-detail', { state: 'visible' });
+      assert.ok(await view.page.evaluate(() => document.querySelector('.sw-detail').contains(document.activeElement)));
+    } finally {
+      await view.close();
+    }
+  });
+
+  test('go to posts the right target for a record, a line and a row, and refuses nonsense', async () => {
+    const view = await openView(browser, server, { kind: 'recordView', onMessage: scriptedHost() });
+    try {
+      await view.send(initMessage(100_000));
+      const cases = [
+        ['12', { type: 'goto', kind: 'record', value: 11 }],
+        ['line 40', { type: 'goto', kind: 'line', value: 40 }],
+        ['L40', { type: 'goto', kind: 'line', value: 40 }],
+        ['row 7', { type: 'goto', kind: 'entry', value: 6 }],
+      ];
+      for (const [text, want] of cases) {
+        const mark = view.posted.length;
+        await view.page.fill('.sw-goto-input', text);
+        await view.page.press('.sw-goto-input', 'Enter');
+        assert.deepEqual(await view.waitForPost((m) => m.type === 'goto', { from: mark }), want, text);
+      }
+      const mark = view.posted.length;
+      for (const bad of ['twelve', 'line -3', '0', '']) {
+        await view.page.fill('.sw-goto-input', bad);
+        await view.page.press('.sw-goto-input', 'Enter');
+        assert.equal(await view.page.$eval('.sw-goto-input', (i) => i.classList.contains('sw-invalid')), true, bad);
+      }
+      await new Promise((r) => setTimeout(r, 100));
+      assert.equal(view.posted.slice(mark).filter((m) => m.type === 'goto').length, 0);
+    } finally {
+      await view.close();
+    }
+  });
+
+  test('the detail shows the conversation turns with their roles and token counts', async () => {
+    for (const theme of ['dark', 'light']) {
+      const view = await openView(browser, server, { kind: 'recordView', theme, onMessage: scriptedHost() });
+      try {
+        await view.send(initMessage(100_000));
+        await waitLoaded(view.page);
+        await view.page.click('.sw-rows .sw-row[data-entry="7"]');
+        await view.page.waitForSelector('.sw-turn');
+        const turns = await view.page.$$eval('.sw-turn', (ts) =>
+          ts.map((t) => ({
+            role: t.querySelector('.sw-role').textContent,
+            dataRole: t.dataset.role,
+            tokens: t.querySelector('.sw-turn-tokens')?.textContent,
+            content: t.querySelector('.sw-turn-content').textContent,
+          })),
+        );
+        const want = chatDetail(7).turns;
+        assert.equal(turns.length, want.length);
+        turns.forEach((t, i) => {
+          assert.equal(t.role, want[i].role);
+          assert.equal(t.dataRole, want[i].role);
+          assert.equal(t.tokens, `${want[i].tokens} tokens`);
+          assert.equal(t.content, want[i].content);
+        });
+        // Role colours come from theme variables: user and assistant turns must differ.
+        const colours = await view.page.$$eval('.sw-turn', (ts) => ts.map((t) => getComputedStyle(t).borderLeftColor));
+        assert.notEqual(colours[1], colours[2]);
+        assert.match(await view.page.textContent('.sw-detail-tokens'), /56 tokens/);
+        await screenshot(view.page, `record-view-conversation-${theme}`);
+
+        // The open-at-line button posts openText for the record.
+        let mark = view.posted.length;
+        await view.page.click('.sw-open-line');
+        assert.deepEqual(await view.waitForPost((m) => m.type === 'openText', { from: mark }), { type: 'openText', entry: 7 });
+
+        // A finding of the record opens the text at its pointer.
+        await view.page.click('.sw-tab[data-tab="findings"]');
+        mark = view.posted.length;
+        await view.page.click('.sw-detail-finding[data-id="41"]');
+        assert.deepEqual(await view.waitForPost((m) => m.type === 'openText', { from: mark }), {
+          type: 'openText',
+          entry: 7,
+          pointer: '/messages/3',
+        });
+        await view.page.click('.sw-tab[data-tab="json"]');
+        await screenshot(view.page, `record-view-json-${theme}`);
+        assert.deepEqual(view.errors, []);
+      } finally {
+        await view.close();
+      }
+    }
+  });
+
+  test('a host select with a pointer scrolls to the entry and highlights that JSON node', async () => {
+    const view = await openView(browser, server, { kind: 'recordView', onMessage: scriptedHost() });
+    try {
+      await view.send(initMessage(100_000));
+      await waitLoaded(view.page);
+      const mark = view.posted.length;
+      // RFC 6901 §3: '/' in a key is written '~1' and '~' is written '~0'.
+      const pointer = '/a~1b~0c/nested/2/deep';
+      await view.send({ type: 'select', entry: 70_000, pointer });
+      const req = await view.waitForPost((m) => m.type === 'requestDetail', { from: mark });
+      assert.deepEqual(req, { type: 'requestDetail', entry: 70_000, reveal: pointer });
+      await view.page.waitForSelector('.sw-node-revealed');
+      const revealed = await view.page.$$eval('.sw-node-revealed', (ns) => ns.map((n) => n.dataset.pointer));
+      assert.deepEqual(revealed, [pointer]);
+      // The key shown is the unescaped one (RFC 6901 §4).
+      assert.equal(await view.page.$eval('.sw-node[data-pointer="/a~1b~0c"] > .sw-node-line > .sw-key', (k) => k.textContent), 'a/b~c');
+      assert.equal(await view.page.$eval('.sw-tab-active', (t) => t.dataset.tab), 'json');
+      await waitLoaded(view.page);
+      const sel = (await visibleRows(view.page)).filter((r) => r.selected).map((r) => r.entry);
+      assert.deepEqual(sel, [70_000]);
+      const inView = await view.page.$eval('.sw-node-revealed', (n) => {
+        const r = n.getBoundingClientRect();
+        const b = document.querySelector('.sw-tab-body').getBoundingClientRect();
+        return r.top >= b.top && r.bottom <= b.bottom;
+      });
+      assert.ok(inView, 'the revealed node is scrolled into view');
+      await screenshot(view.page, 'record-view-reveal-dark');
+      // A pointer below what the tree shows falls back to its nearest shown ancestor.
+      await view.send({ type: 'select', entry: 70_001, pointer: '/messages/9/content' });
+      await view.page.waitForFunction(() => document.querySelector('.sw-detail')?.dataset.entry === '70001');
+      await view.page.waitForSelector('.sw-node-revealed');
+      assert.deepEqual(await view.page.$$eval('.sw-node-revealed', (ns) => ns.map((n) => n.dataset.pointer)), ['/messages']);
+    } finally {
+      await view.close();
+    }
+  });
+
+  test('hostile record text shows as literal text and runs nothing, with no CSP violation needed', async () => {
+    const hostileRow = (e) => ({
+      ...rowFor(e),
+      place: HOSTILE[0],
+      cells: { id: HOSTILE[1], messages: HOSTILE[0], source: HOSTILE[2], [HOSTILE[1]]: 'x' },
+    });
+    const hostileDetail = (entry) => ({
+      ...chatDetail(entry),
+      place: HOSTILE[1],
+      value: { [HOSTILE[0]]: HOSTILE[1], list: [HOSTILE[2]] },
+      turns: HOSTILE.map((t, i) => ({ index: i, role: t, content: t, tokens: 1, pointer: `/list/${i}` })),
+      pair: { prompt: HOSTILE[0], chosen: HOSTILE[1], rejected: HOSTILE[2] },
+      findings: [{ ...chatDetail(entry).findings[0], rule: HOSTILE[2], message: HOSTILE_TEXT, place: HOSTILE[0] }],
+    });
+    const view = await openView(browser, server, {
+      kind: 'recordView',
+      title: HOSTILE_TEXT,
+      onMessage: async (m, v) => {
+        if (m.type === 'requestRows') {
+          const a = rowsAnswer(m);
+          a.rows = a.rows.map((r) => hostileRow(r.entry));
+          a.rows[1] = { ...a.rows[1], record: null, raw: HOSTILE_TEXT };
+          await v.send(a);
+        } else if (m.type === 'requestDetail') await v.send({ type: 'detail', detail: hostileDetail(m.entry) });
+      },
+    });
+    try {
+      await view.send(
+        initMessage(500, {
+          fileName: HOSTILE_TEXT,
+          columns: [...initMessage(1).columns, { name: HOSTILE[1], type: HOSTILE[0] }],
+          facts: { [HOSTILE[0]]: HOSTILE[1] },
+        }),
+      );
+      await waitLoaded(view.page);
+      await view.page.click('.sw-rows .sw-row[data-entry="0"]');
+      await view.page.waitForSelector('.sw-turn');
+      for (const tab of ['pair', 'json', 'findings', 'conversation']) await view.page.click(`.sw-tab[data-tab="${tab}"]`);
+      await view.send({ type: 'error', message: HOSTILE_TEXT });
+      await view.page.click('.sw-tab[data-tab="json"]');
+      await new Promise((r) => setTimeout(r, 200));
+
+      assert.equal(await view.page.evaluate(() => window.__pwned), undefined);
+      // Nothing was parsed as markup: no element the host text names exists anywhere.
+      assert.equal(await view.page.$$eval('img, svg, script:not([nonce])', (x) => x.length), 0);
+      assert.equal(await view.page.textContent('.sw-file-name'), HOSTILE_TEXT);
+      assert.equal(await view.page.textContent('.sw-rows .sw-row[data-entry="0"] [data-col="place"]'), HOSTILE[0]);
+      assert.equal(await view.page.textContent('.sw-rows .sw-row[data-entry="0"] [data-field="id"]'), HOSTILE[1]);
+      assert.equal(await view.page.textContent('.sw-rows .sw-row[data-entry="1"] [data-col="raw"]'), HOSTILE_TEXT);
+      assert.equal(await view.page.textContent('.sw-banner-text'), HOSTILE_TEXT);
+      const keys = await view.page.$$eval('.sw-key', (ks) => ks.map((k) => k.textContent));
+      assert.ok(keys.includes(HOSTILE[0]));
+      // The title went through the HTML shell's escaping (HTML Living Standard: text in <title> is RCDATA).
+      assert.equal(await view.page.title(), HOSTILE_TEXT);
+      // W3C CSP Level 3 §5.3: a blocked inline script raises securitypolicyviolation; escaping must make that unnecessary.
+      assert.deepEqual(await view.cspViolations(), []);
+      assert.deepEqual(view.errors, []);
+      await screenshot(view.page, 'record-view-hostile-dark');
+    } finally {
+      await view.close();
+    }
+  });
+
+  test('columnar header shows row groups and column types in the structure section', async () => {
+    const view = await openView(browser, server, { kind: 'recordView', theme: 'light', onMessage: scriptedHost() });
+    try {
+      await view.send(
+        initMessage(3000, {
+          fileName: 'preference-pairs.parquet',
+          format: 'parquet',
+          columns: [
+            { name: 'prompt', type: 'string' },
+            { name: 'chosen', type: 'string' },
+            { name: 'rejected', type: 'string' },
+          ],
+          groups: [
+            { index: 0, rows: 2048, firstRow: 0, compressedBytes: 301_222, uncompressedBytes: 912_004, codecs: { prompt: 'ZSTD', chosen: 'ZSTD', rejected: 'ZSTD' } },
+            { index: 1, rows: 952, firstRow: 2048, compressedBytes: 140_010, uncompressedBytes: 420_771, codecs: { prompt: 'ZSTD', chosen: 'ZSTD', rejected: 'SNAPPY' } },
+          ],
+          facts: { writer: 'workshop export 1.2' },
+        }),
+      );
+      await view.page.click('.sw-structure-summary');
+      const groups = await view.page.$$eval('.sw-groups-table tbody tr', (rs) => rs.map((r) => [...r.cells].map((c) => c.textContent)));
+      assert.equal(groups.length, 2);
+      assert.deepEqual(groups[1].slice(0, 3), ['1', '952', '2,048']);
+      assert.equal(groups[1][5], 'ZSTD, SNAPPY');
+      const cols = await view.page.$$eval('.sw-columns-table tbody tr', (rs) => rs.map((r) => r.dataset.column));
+      assert.deepEqual(cols, ['prompt', 'chosen', 'rejected']);
+      assert.match(await view.page.textContent('.sw-entries'), /3,000 rows/);
+      await waitLoaded(view.page);
+      await screenshot(view.page, 'record-view-structure-light');
+    } finally {
+      await view.close();
+    }
+  });
+
+  test('indexing progress shows while the entry count grows, and new rows become reachable', async () => {
+    const view = await openView(browser, server, { kind: 'recordView', onMessage: scriptedHost() });
+    try {
+      await view.send(initMessage(40, { complete: false }));
+      await waitLoaded(view.page);
+      assert.equal(await view.page.isVisible('.sw-indexing'), true);
+      await view.send({ type: 'entries', entries: 60_000, complete: false, progress: 0.4 });
+      assert.match(await view.page.textContent('.sw-indexing'), /40%/);
+      const width = await view.page.$eval('.sw-indexing .sw-progress-fill', (f) => f.style.width);
+      assert.equal(width, '40%');
+      await view.send({ type: 'entries', entries: 150_000, complete: true, progress: 1 });
+      assert.equal(await view.page.isHidden('.sw-indexing'), true);
+      assert.match(await view.page.textContent('.sw-entries'), /150,000/);
+      // The first page was answered when only 40 entries were known; it must be asked again for more.
+      await waitLoaded(view.page);
+      const rows = await visibleRows(view.page);
+      assert.ok(rows.length > 20);
+      for (const r of rows) assert.equal(r.place, rowFor(r.entry).place);
+    } finally {
+      await view.close();
+    }
+  });
+});

@@ -1,0 +1,316 @@
+// Workbench tests: the packaged extension in the real VS Code workbench (code-server), driven by
+// Chromium. Each step takes a screenshot into test-output/workbench/. Last line: "N passed, M failed".
+import { cpSync, existsSync, mkdirSync, readdirSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import { basename, join } from 'node:path';
+import { vsixForRun } from '../../scripts/package.mjs';
+import { chromiumPath } from '../../scripts/workbench/ensure.mjs';
+import { root } from '../../scripts/workbench/paths.mjs';
+import { startCodeServer } from '../../scripts/workbench/server.mjs';
+import { arrowFacts, jsonlFacts, parquetFacts, shardBytes } from './oracle.mjs';
+import { Workbench, countOf, launchBrowser, waitFor } from './workbench.mjs';
+
+const outDir = join(root, 'test-output', 'workbench');
+const demoDir = join(root, 'demo-data');
+const manifest = JSON.parse(readFileSync(join(root, 'package.json'), 'utf8'));
+
+const results = [];
+const cleanups = [];
+let shotNo = 0;
+let wb;
+
+async function cleanup() {
+  while (cleanups.length) await cleanups.pop()().catch((e) => console.error(`cleanup: ${e.message}`));
+}
+for (const sig of ['SIGINT', 'SIGTERM']) {
+  process.on(sig, async () => {
+    console.error(`\n${sig}: stopping the workbench`);
+    await cleanup();
+    process.exit(130);
+  });
+}
+
+function assert(cond, message) {
+  if (!cond) throw new Error(message);
+}
+
+/** Runs one check; a throw is a failure. Always leaves a screenshot of what the page showed. */
+async function step(name, fn) {
+  const t0 = Date.now();
+  const shot = join(outDir, `${String(++shotNo).padStart(2, '0')}-${name.replace(/[^a-z0-9]+/gi, '-').toLowerCase()}.png`);
+  try {
+    await fn();
+    results.push({ name, ok: true });
+    console.log(`  ✓ ${name} (${((Date.now() - t0) / 1000).toFixed(1)} s)`);
+  } catch (e) {
+    results.push({ name, ok: false, error: e.message });
+    console.log(`  ✗ ${name} (${((Date.now() - t0) / 1000).toFixed(1)} s)\n      ${e.message.split('\n').join('\n      ')}`);
+  } finally {
+    if (wb) await wb.screenshot(shot).catch(() => {});
+  }
+}
+
+/** Shards of the demo folder that the record view claims, by the custom editor's own selectors. */
+function demoShards() {
+  const editor = manifest.contributes?.customEditors?.find((e) => e.viewType === 'shardwise.recordView');
+  assert(editor, 'package.json contributes no custom editor "shardwise.recordView"');
+  const patterns = editor.selector.map((s) => new RegExp(`^${s.filenamePattern.replace(/[.+^${}()|[\]\\]/g, '\\$&').replace(/\*/g, '.*')}$`));
+  return readdirSync(demoDir).filter((f) => patterns.some((re) => re.test(f))).sort();
+}
+
+async function expectedFacts(path) {
+  const name = basename(path);
+  if (/\.(jsonl|ndjson)(\.gz)?$/.test(name)) {
+    const f = jsonlFacts(shardBytes(path));
+    return { kind: 'jsonl', entries: f.entries, ...f };
+  }
+  if (name.endsWith('.parquet')) {
+    const f = await parquetFacts(path);
+    return { kind: 'parquet', entries: f.rows, firstRecord: f.firstRow };
+  }
+  if (/\.(arrow|feather|arrows)$/.test(name)) {
+    const f = await arrowFacts(path);
+    return { kind: 'arrow', entries: f.rows, firstRecord: f.firstRow };
+  }
+  return null;
+}
+
+/** Reads the record view's header and first rows. */
+function readRecordView(frame) {
+  return frame.evaluate(() => {
+    const rows = [...document.querySelectorAll('.sw-rows .sw-row[data-entry]')].map((r) => ({
+      entry: Number(r.dataset.entry),
+      loading: r.classList.contains('sw-row-loading'),
+      selected: r.classList.contains('sw-selected'),
+      place: r.querySelector('[data-col="place"]')?.textContent ?? '',
+      fields: Object.fromEntries([...r.querySelectorAll('[data-col="field"]')].map((c) => [c.dataset.field, c.textContent])),
+      raw: r.querySelector('[data-col="raw"]')?.textContent ?? null,
+    }));
+    const indexing = document.querySelector('.sw-indexing');
+    return {
+      entriesText: document.querySelector('.sw-entries')?.textContent ?? '',
+      complete: indexing ? indexing.hidden : false,
+      banner: document.querySelector('.sw-banner')?.hidden === false ? document.querySelector('.sw-banner').textContent : null,
+      detailTitle: document.querySelector('.sw-detail')?.hidden === false ? document.querySelector('.sw-detail-title')?.textContent ?? '' : null,
+      rows,
+    };
+  });
+}
+
+function readPanel(frame) {
+  return frame.evaluate(() => {
+    const stat = (k) => document.querySelector(`[data-stat="${k}"] .sw-stat-value`)?.textContent ?? null;
+    const sev = Object.fromEntries([...document.querySelectorAll('.sw-sev-toggle[data-severity]')].map((b) => [b.dataset.severity, b.querySelector('.sw-count')?.textContent ?? '']));
+    return {
+      fileName: document.querySelector('.sw-summary .sw-file-name')?.textContent ?? null,
+      phase: [...(document.querySelector('.sw-phase')?.classList ?? [])].find((c) => c.startsWith('sw-phase-'))?.slice(9) ?? null,
+      records: stat('records'), blankLines: stat('blankLines'), invalidLines: stat('invalidLines'),
+      total: stat('total'), encoding: document.querySelector('.sw-encoding')?.textContent ?? null,
+      severities: sev,
+      findings: [...document.querySelectorAll('.sw-finding')].map((f) => ({
+        id: f.dataset.id, rule: f.dataset.rule, place: f.querySelector('.sw-place')?.textContent ?? '',
+        message: f.querySelector('.sw-message')?.textContent ?? '',
+      })),
+      empty: document.querySelector('.sw-empty')?.hidden === false ? document.querySelector('.sw-empty-text')?.textContent : null,
+    };
+  });
+}
+
+/** Folds white space the way the record view's cells do, for comparing a value with its cell. */
+const fold = (s) => String(s).replace(/\s+/g, ' ');
+
+function expectFirstRecordShown(view, facts, name) {
+  const firstEntry = facts.kind === 'jsonl' ? facts.firstRecordLine - 1 : 0;
+  const record = facts.kind === 'jsonl' ? JSON.parse(facts.lines[firstEntry].replace(/^\uFEFF/, '')) : facts.firstRecord;
+  const row = view.rows.find((r) => r.entry === firstEntry && !r.loading);
+  assert(row, `${name}: the row of the first record (entry ${firstEntry}) is not shown`);
+  const scalars = Object.entries(record ?? {}).filter(([, v]) => ['string', 'number', 'boolean'].includes(typeof v));
+  assert(scalars.length > 0, `${name}: the first record has no scalar field to compare`);
+  for (const [k, v] of scalars) {
+    const cell = row.fields[k];
+    assert(cell !== undefined, `${name}: no "${k}" column in the first row (columns: ${Object.keys(row.fields).join(', ')})`);
+    const want = fold(v).slice(0, 120);
+    assert(fold(cell).startsWith(want), `${name}: first record "${k}" shows ${JSON.stringify(cell.slice(0, 80))}, expected it to start with ${JSON.stringify(want.slice(0, 80))}`);
+  }
+  if (facts.kind === 'jsonl') assert(row.place.trim() === String(facts.firstRecordLine), `${name}: first record's place is "${row.place}", expected line ${facts.firstRecordLine}`);
+}
+
+async function panelFor(name, { done = true } = {}) {
+  // The extension's own command shows its side panel (a webview view renders only once shown).
+  const show = manifest.contributes.commands.find((c) => c.command === 'shardwise.showReport');
+  assert(show, 'package.json contributes no shardwise.showReport command');
+  await wb.runCommand(`${show.category}: ${show.title}`);
+  const frame = await wb.panel(30000);
+  return waitFor(`the side panel to show ${name}${done ? ' when done' : ''}`, async () => {
+    const p = await readPanel(frame);
+    return p.fileName === name && (!done || p.phase === 'done') ? { frame, p } : null;
+  }, 120000);
+}
+
+async function main() {
+  const t0 = Date.now();
+  mkdirSync(outDir, { recursive: true });
+  for (const f of readdirSync(outDir)) if (f.endsWith('.png')) rmSync(join(outDir, f));
+  assert(existsSync(demoDir), `demo-data/ is missing: run \`node demo-data/generate.mjs\` (or the demo script) first`);
+  const shards = demoShards();
+  assert(shards.length > 0, 'demo-data/ holds no shard the record view opens');
+
+  console.log('[workbench] packaging the extension …');
+  const vsix = await vsixForRun();
+
+  // A copy of the demo folder: settings changes made by the tests must not touch the committed files.
+  const work = join(tmpdir(), `shardwise-demo-${process.pid}`);
+  rmSync(work, { recursive: true, force: true });
+  cpSync(demoDir, work, { recursive: true });
+  cleanups.push(async () => rmSync(work, { recursive: true, force: true }));
+
+  console.log('[workbench] starting code-server …');
+  const server = await startCodeServer({ vsix, folder: work, log: (s) => console.log(`[workbench] ${s}`) });
+  cleanups.push(server.stop);
+  const { context, close } = await launchBrowser(chromiumPath());
+  cleanups.push(close);
+  const page = context.pages()[0] ?? (await context.newPage());
+  wb = new Workbench(page);
+  const tSetup = Date.now();
+  console.log(`[workbench] ready in ${((tSetup - t0) / 1000).toFixed(1)} s at ${server.url}`);
+
+  const facts = new Map();
+  for (const s of shards) facts.set(s, await expectedFacts(join(work, s)));
+  const containerTitle = manifest.contributes?.viewsContainers?.activitybar?.[0]?.title ?? 'Shardwise';
+
+  await step('workbench loads with the Shardwise activity bar entry', async () => {
+    await wb.open(server.url, work);
+    await wb.activityItem(containerTitle).waitFor({ timeout: 60000 });
+  });
+
+  for (const name of shards) {
+    await step(`record view shows the records of ${name}`, async () => {
+      const f = facts.get(name);
+      await wb.openFromExplorer(name);
+      const frame = await wb.recordView(name, 60000);
+      const view = await waitFor(`${name} to finish indexing with its first rows`, async () => {
+        const v = await readRecordView(frame);
+        return v.complete && v.rows.some((r) => !r.loading) ? v : null;
+      }, 120000);
+      assert(view.banner === null, `${name}: the record view shows an error: ${view.banner}`);
+      // JSON Lines (jsonlines.org) for JSONL; hyparquet (Parquet) and apache-arrow (Arrow) as independent readers.
+      assert(countOf(view.entriesText) === f.entries, `${name}: header says "${view.entriesText}", expected ${f.entries}`);
+      expectFirstRecordShown(view, f, name);
+    });
+  }
+
+  // The chat shard with a JSON Schema mapped to it, and the JSONL shard with the most broken lines.
+  const jsonl = shards.filter((s) => facts.get(s)?.kind === 'jsonl');
+  const chat = jsonl.find((s) => /chat/.test(s)) ?? jsonl[0];
+  const broken = [...jsonl].sort((a, b) => (facts.get(b).invalid + facts.get(b).blank) - (facts.get(a).invalid + facts.get(a).blank))[0];
+
+  let schemaFinding = null;
+  await step(`side panel summarises ${chat}`, async () => {
+    assert(chat, 'no JSONL shard in demo-data/');
+    await wb.openFromExplorer(chat);
+    await wb.recordView(chat);
+    const { p } = await panelFor(chat);
+    const f = facts.get(chat);
+    // Records, blank and invalid lines by the JSON Lines rules with JSON.parse as the RFC 8259 parser.
+    assert(countOf(p.records) === f.records, `records: panel ${p.records}, expected ${f.records}`);
+    assert(countOf(p.blankLines) === f.blank, `blank lines: panel ${p.blankLines}, expected ${f.blank}`);
+    assert(countOf(p.invalidLines) === f.invalid, `invalid lines: panel ${p.invalidLines}, expected ${f.invalid}`);
+    assert(countOf(p.total) > 0, `token total is "${p.total}"`);
+  });
+
+  await step(`clicking a schema finding selects its record in ${chat}`, async () => {
+    const { frame } = await panelFor(chat);
+    await frame.locator('.sw-filter-text').fill('schema-violation');
+    const item = frame.locator('.sw-finding[data-rule="schema-violation"]').first();
+    await item.waitFor({ timeout: 15000 }).catch(() => { throw new Error('the panel lists no schema-violation finding (is a JSON Schema mapped in demo-data/.vscode/settings.json?)'); });
+    const place = (await item.locator('.sw-place').innerText()).trim();
+    const m = /^(\d+):(\d+)$/.exec(place);
+    assert(m, `schema finding place "${place}" is not line:column`);
+    schemaFinding = { line: Number(m[1]), column: Number(m[2]), message: await item.locator('.sw-message').innerText() };
+    const lineText = facts.get(chat).lines[schemaFinding.line - 1];
+    assert(lineText !== undefined, `the finding names line ${schemaFinding.line}, beyond the file`);
+    // RFC 8259: the reported line must hold a JSON value for a schema to apply to it.
+    JSON.parse(lineText.replace(/^\uFEFF/, ''));
+    await item.click();
+    const rv = await wb.recordView(chat);
+    const view = await waitFor(`record view to select line ${schemaFinding.line}`, async () => {
+      const v = await readRecordView(rv);
+      const sel = v.rows.find((r) => r.selected);
+      return sel && sel.place.trim() === String(schemaFinding.line) && v.detailTitle !== null ? v : null;
+    }, 20000);
+    assert(view.detailTitle.includes(String(schemaFinding.line)), `detail title "${view.detailTitle}" does not name line ${schemaFinding.line}`);
+  });
+
+  await step(`"open at line" puts the cursor at the finding's line:column`, async () => {
+    assert(schemaFinding, 'no schema finding from the previous step');
+    const { frame } = await panelFor(chat);
+    await frame.locator('.sw-filter-text').fill('schema-violation');
+    await frame.locator('.sw-finding[data-rule="schema-violation"] .sw-open-text').first().click();
+    const at = await waitFor('the text editor with its cursor placed', async () => {
+      const tab = await wb.activeTab().catch(() => '');
+      const c = await wb.cursor().catch(() => null);
+      return tab === chat && c && c.line === schemaFinding.line ? c : null;
+    }, 20000);
+    assert(at.column === schemaFinding.column, `cursor at ${at.line}:${at.column}, finding says ${schemaFinding.line}:${schemaFinding.column}`);
+    // RFC 8259 §2–§7: a value or member name starts with one of these characters.
+    const ch = facts.get(chat).lines[at.line - 1][at.column - 1];
+    assert(ch !== undefined && /["{[\-0-9tfn]/.test(ch), `the cursor is not at the start of a JSON value or name (found ${JSON.stringify(ch)})`);
+  });
+
+  await step(`Problems panel counts the findings of ${broken}`, async () => {
+    assert(broken && facts.get(broken).invalid + facts.get(broken).blank > 0, 'no JSONL demo shard has a broken line');
+    await wb.openFromExplorer(broken);
+    await wb.recordView(broken);
+    const { p } = await panelFor(broken);
+    const panelTotal = Object.values(p.severities).reduce((a, b) => a + (countOf(b) || 0), 0);
+    const max = manifest.contributes?.configuration?.properties?.['shardwise.problems.max']?.default ?? Infinity;
+    await wb.runCommand('View: Focus Problems');
+    const fileRow = wb.page.locator('.markers-panel .monaco-list-row').filter({ hasText: broken }).first();
+    await fileRow.waitFor({ timeout: 20000 });
+    const shown = countOf(await fileRow.locator('.monaco-count-badge').first().innerText());
+    assert(shown === Math.min(panelTotal, max), `Problems shows ${shown} for ${broken}, the side panel ${panelTotal}`);
+    const f = facts.get(broken);
+    // JSON Lines: every blank line and every line JSON.parse rejects is at least one finding.
+    assert(shown >= Math.min(f.invalid + f.blank, max), `Problems shows ${shown}, fewer than the ${f.invalid} invalid and ${f.blank} blank lines`);
+  });
+
+  await step('changing the token encoding from the command palette changes the token totals', async () => {
+    await wb.openFromExplorer(chat);
+    await wb.recordView(chat);
+    const before = (await panelFor(chat)).p;
+    const encodings = manifest.contributes.configuration.properties['shardwise.tokens.encoding'].enum;
+    const next = encodings.find((e) => e !== before.encoding);
+    assert(next, `no other encoding than ${before.encoding} to switch to`);
+    const cmd = manifest.contributes.commands.find((c) => c.command === 'shardwise.chooseEncoding');
+    assert(cmd, 'package.json contributes no shardwise.chooseEncoding command');
+    await wb.runCommand(`${cmd.category}: ${cmd.title}`, { pick: next });
+    const after = await waitFor(`the panel to count tokens with ${next}`, async () => {
+      const { frame } = await panelFor(chat, { done: false });
+      const p = await readPanel(frame);
+      return p.encoding === next && p.phase === 'done' ? p : null;
+    }, 120000);
+    assert(countOf(after.total) > 0 && countOf(after.total) !== countOf(before.total),
+      `token total ${before.total} (${before.encoding}) → ${after.total} (${next}): expected a different positive total`);
+  });
+
+  const tEnd = Date.now();
+  const noise = wb.consoleErrors.length;
+  console.log(`[workbench] setup ${((tSetup - t0) / 1000).toFixed(1)} s, checks ${((tEnd - tSetup) / 1000).toFixed(1)} s; ${noise} console errors ignored; screenshots in ${outDir}`);
+  writeFileSync(join(outDir, 'console-errors.txt'), wb.consoleErrors.join('\n'));
+}
+
+let fatal = null;
+try {
+  await main();
+} catch (e) {
+  fatal = e;
+  results.push({ name: 'workbench setup', ok: false, error: e.message });
+  console.log(`  ✗ workbench setup\n      ${e.message.split('\n').join('\n      ')}`);
+  if (wb) await wb.screenshot(join(outDir, 'setup-failure.png')).catch(() => {});
+} finally {
+  await cleanup();
+}
+const passed = results.filter((r) => r.ok).length;
+const failed = results.length - passed;
+console.log(`${passed} passed, ${failed} failed`);
+process.exit(failed || fatal ? 1 : 0);
