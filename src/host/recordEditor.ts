@@ -68,31 +68,36 @@ export class RecordEditorProvider implements vscode.CustomReadonlyEditorProvider
     };
     panel.onDidChangeViewState(setActive);
 
+    let lastEntries = -1;
+    let lastComplete = false;
     const sendInit = async () => {
       if (!ready || !loaded) return;
       const info = document.info!;
       if (info.columns?.length) columns = info.columns;
       else {
-        // JSONL: columns are the top-level fields of the first records.
-        const n = Math.min(info.entries, 200);
+        // JSONL: columns are the top-level fields of the first records (the first page shows as
+        // soon as they are indexed, long before the whole file is).
+        await document.whenEntries(200, 3000);
+        const n = Math.min(document.info?.entries ?? 0, 200);
         const first = n > 0 ? await document.session!.read(0, n).catch(() => []) : [];
         columns = columnsFromEntries(first);
       }
+      const now = document.info ?? info;
+      lastEntries = now.entries;
+      lastComplete = now.complete;
       post({
         type: 'init',
         fileName: document.fileName,
-        format: info.format,
-        sizeBytes: info.sizeBytes,
+        format: now.format,
+        sizeBytes: now.sizeBytes,
         columns,
-        groups: info.groups,
-        facts: info.facts,
-        entries: info.entries,
-        complete: info.complete,
+        groups: now.groups,
+        facts: now.facts,
+        entries: now.entries,
+        complete: now.complete,
       });
     };
 
-    let lastEntries = -1;
-    let lastComplete = false;
     const sub = document.onDidChange(() => {
       if (!ready || !document.info) return;
       const { entries, complete } = document.info;

@@ -2,6 +2,7 @@
 
 import * as vscode from 'vscode';
 import { ENCODINGS, withDefaults, type CheckConfig, type EncodingName } from '../engine/config.js';
+import { globToRegExp } from './globs.js';
 
 export const SECTION = 'shardwise';
 
@@ -15,23 +16,6 @@ export interface HostSettings {
   textEditorMaxBytes: number;
   /** Files reached through a non-file scheme are copied up to this size. */
   virtualFileMaxBytes: number;
-}
-
-/** Glob → RegExp for the `shardwise.schemas` keys: `**` any path, `*` within a segment, `?` one char. */
-export function globToRegExp(glob: string): RegExp {
-  let re = '';
-  for (let i = 0; i < glob.length; i++) {
-    const c = glob[i];
-    if (c === '*') {
-      if (glob[i + 1] === '*') {
-        re += '.*';
-        i++;
-        if (glob[i + 1] === '/') i++;
-      } else re += '[^/]*';
-    } else if (c === '?') re += '[^/]';
-    else re += c.replace(/[.+^${}()|[\]\\]/g, '\\$&');
-  }
-  return new RegExp(`^${re}$`);
 }
 
 export async function settingsFor(uri: vscode.Uri): Promise<HostSettings> {

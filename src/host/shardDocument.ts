@@ -116,7 +116,10 @@ export class ShardDocument implements vscode.CustomDocument {
       await vscode.window.withProgress(
         { location: vscode.ProgressLocation.Notification, title: `Shardwise: checking ${this.fileName}`, cancellable: true },
         async (report, token) => {
-          token.onCancellationRequested(() => ac.abort());
+          token.onCancellationRequested(() => {
+            ac.abort();
+            if (!this.info?.complete) this.session?.cancelIndexing();
+          });
           let lastPct = 0;
           await analyzeFile(this.localPath, {
             config: this.settings.config,
@@ -190,6 +193,23 @@ export class ShardDocument implements vscode.CustomDocument {
       list.push(f);
       this.byEntry.set(f.entry, list);
     }
+  }
+
+  /** Resolves once `n` entries are indexed (or the index is complete, or `ms` have passed). */
+  whenEntries(n: number, ms: number): Promise<void> {
+    return new Promise((resolve) => {
+      const ready = () => !this.info || this.info.complete || this.info.entries >= n || this.phase === 'failed';
+      if (ready()) return resolve();
+      const timer = setTimeout(done, ms);
+      const sub = this.onDidChange(() => {
+        if (ready()) done();
+      });
+      function done() {
+        clearTimeout(timer);
+        sub.dispose();
+        resolve();
+      }
+    });
   }
 
   /** The entry holding a record: exact once the analysis passed it, else the record number itself. */

@@ -40,14 +40,18 @@ async function step(name, fn) {
   const shot = join(outDir, `${String(++shotNo).padStart(2, '0')}-${name.replace(/[^a-z0-9]+/gi, '-').toLowerCase()}.png`);
   try {
     await fn();
+    const dialog = wb ? await wb.dismissDialog() : null;
+    if (dialog) throw new Error(`the workbench showed a dialog: ${dialog}`);
     results.push({ name, ok: true });
     console.log(`  ✓ ${name} (${((Date.now() - t0) / 1000).toFixed(1)} s)`);
   } catch (e) {
+    if (wb) await wb.screenshot(shot).catch(() => {});
+    const dialog = wb ? await wb.dismissDialog().catch(() => null) : null;
+    if (dialog && !e.message.includes(dialog)) e.message += `\n(the workbench showed a dialog: ${dialog})`;
     results.push({ name, ok: false, error: e.message });
     console.log(`  ✗ ${name} (${((Date.now() - t0) / 1000).toFixed(1)} s)\n      ${e.message.split('\n').join('\n      ')}`);
-  } finally {
-    if (wb) await wb.screenshot(shot).catch(() => {});
   }
+  if (results[results.length - 1].ok && wb) await wb.screenshot(shot).catch(() => {});
 }
 
 /** Shards of the demo folder that the record view claims, by the custom editor's own selectors. */
@@ -167,6 +171,12 @@ async function main() {
   console.log('[workbench] starting code-server …');
   const server = await startCodeServer({ vsix, folder: work, log: (s) => console.log(`[workbench] ${s}`) });
   cleanups.push(server.stop);
+  cleanups.push(async () => {
+    const logs = join(outDir, 'logs');
+    rmSync(logs, { recursive: true, force: true });
+    mkdirSync(logs, { recursive: true });
+    server.collectLogs(logs);
+  });
   const { context, close } = await launchBrowser(chromiumPath());
   cleanups.push(close);
   const page = context.pages()[0] ?? (await context.newPage());
@@ -201,12 +211,17 @@ async function main() {
 
   // The chat shard with a JSON Schema mapped to it, and the JSONL shard with the most broken lines.
   const jsonl = shards.filter((s) => facts.get(s)?.kind === 'jsonl');
-  const chat = jsonl.find((s) => /chat/.test(s)) ?? jsonl[0];
+  // The JSONL shard with the most lines among those demo-data/.vscode/settings.json maps a JSON Schema to.
+  const settingsFile = join(demoDir, '.vscode', 'settings.json');
+  const schemaGlobs = existsSync(settingsFile) ? Object.keys(JSON.parse(readFileSync(settingsFile, 'utf8'))['shardwise.schemas'] ?? {}) : [];
+  const globRe = (g) => new RegExp(`^${g.replace(/[.+^${}()|[\]\\]/g, '\\$&').replace(/\*\*\/?/g, '.*').replace(/(?<!\.)\*/g, '[^/]*')}$`);
+  const mapped = jsonl.filter((s) => schemaGlobs.some((g) => globRe(g).test(s)));
+  const chat = [...mapped].sort((a, b) => facts.get(b).entries - facts.get(a).entries)[0];
   const broken = [...jsonl].sort((a, b) => (facts.get(b).invalid + facts.get(b).blank) - (facts.get(a).invalid + facts.get(a).blank))[0];
 
   let schemaFinding = null;
   await step(`side panel summarises ${chat}`, async () => {
-    assert(chat, 'no JSONL shard in demo-data/');
+    assert(chat, 'no JSONL demo shard has a JSON Schema mapped in demo-data/.vscode/settings.json ("shardwise.schemas")');
     await wb.openFromExplorer(chat);
     await wb.recordView(chat);
     const { p } = await panelFor(chat);

@@ -122,6 +122,16 @@ export class Workbench {
     }, timeoutMs);
   }
 
+  /** Closes a modal dialog if one is showing; returns its text (an error the workbench raised) or null. */
+  async dismissDialog() {
+    const box = this.page.locator('.monaco-dialog-box');
+    if (!(await box.count()) || !(await box.first().isVisible())) return null;
+    const text = (await box.first().innerText().catch(() => '')).replace(/\s+/g, ' ').trim();
+    await this.page.keyboard.press('Escape');
+    await box.first().waitFor({ state: 'hidden', timeout: 5000 }).catch(() => {});
+    return text || 'a dialog';
+  }
+
   async screenshot(path) {
     await this.page.screenshot({ path });
   }

@@ -24,7 +24,7 @@ export const JSONL_RULES: RuleInfo[] = [
   { id: 'utf8-invalid', family: 'encoding', severity: 'error', summary: 'The line holds bytes that are not valid UTF-8.' },
   { id: 'bom-present', family: 'encoding', severity: 'warning', summary: 'The line starts with a UTF-8 byte order mark, which shard text should not carry.' },
   { id: 'surrogate-unpaired', family: 'encoding', severity: 'warning', summary: 'A \\u escape encodes half of a surrogate pair with no other half.' },
-  { id: 'read-corrupt', family: 'read', severity: 'error', summary: 'The compressed stream is corrupt or ends early; only what came before was read.' },
+  { id: 'read-corrupt', family: 'read', severity: 'error', summary: 'Bytes that do not decode (a corrupt compressed stream, page, batch or value); what came before is still read.' },
 ];
 
 const BY_ID = new Map(JSONL_RULES.map((r) => [r.id, r]));

@@ -1,0 +1,18 @@
+// File globs of the `shardwise.schemas` setting. Free of 'vscode' so tests and the CLI can use it.
+
+/** Glob → RegExp for the `shardwise.schemas` keys: `**` any path, `*` within a segment, `?` one char. */
+export function globToRegExp(glob: string): RegExp {
+  let re = '';
+  for (let i = 0; i < glob.length; i++) {
+    const c = glob[i];
+    if (c === '*') {
+      if (glob[i + 1] === '*') {
+        re += '.*';
+        i++;
+        if (glob[i + 1] === '/') i++;
+      } else re += '[^/]*';
+    } else if (c === '?') re += '[^/]';
+    else re += c.replace(/[.+^${}()|[\]\\]/g, '\\$&');
+  }
+  return new RegExp(`^${re}$`);
+}
