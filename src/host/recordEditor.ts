@@ -98,8 +98,17 @@ export class RecordEditorProvider implements vscode.CustomReadonlyEditorProvider
       });
     };
 
+    // Token counts and markers arrive with the analysis: refresh the rows on screen now and then.
+    let lastRefresh = 0;
+    let lastPhase = document.phase;
     const sub = document.onDidChange(() => {
       if (!ready || !document.info) return;
+      const now = Date.now();
+      if (columns.length && (document.phase !== lastPhase || (document.phase === 'analysing' && now - lastRefresh > 1500))) {
+        lastPhase = document.phase;
+        lastRefresh = now;
+        post({ type: 'columns', columns });
+      }
       const { entries, complete } = document.info;
       if (entries !== lastEntries || complete !== lastComplete) {
         lastEntries = entries;

@@ -25,8 +25,11 @@ export function escapeHtml(s: string): string {
   return String(s).replace(/[&<>"']/g, (c) => HTML_ESCAPES[c]);
 }
 
-// A CSP source list item must not carry `;` or `,` (they would open a new directive or policy) nor quotes.
-const CSP_SOURCE = /^[A-Za-z0-9+.\-:/*_ ]+$/;
+// VS Code's webview.cspSource is a source list such as `'self' https://*.vscode-cdn.net` (seen in
+// code-server 4.139 here): host sources and the 'self' keyword. Nothing may carry `;` or `,` (they
+// would open a new directive or policy) nor any other quoted keyword.
+const CSP_ITEM = "(?:'self'|[A-Za-z0-9+.\\-:/*_]+)";
+const CSP_SOURCE = new RegExp(`^${CSP_ITEM}(?: ${CSP_ITEM})*$`);
 const NONCE = /^[A-Za-z0-9+/=_-]{16,}$/;
 
 export function contentSecurityPolicy(cspSource: string, nonce: string): string {

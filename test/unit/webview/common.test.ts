@@ -1,5 +1,5 @@
 // Pure helpers of the webviews: the go-to parser and the page cache.
-import { describe, expect, test } from 'vitest';
+import { describe, expect, it, test } from 'vitest';
 import { Lru, parseGoto } from '../../../src/webview/common.js';
 
 describe('parseGoto', () => {
@@ -31,5 +31,17 @@ describe('Lru', () => {
     expect(c.peek(1)).toBe('a');
     expect(c.peek(3)).toBe('c');
     expect(c.size).toBe(2);
+  });
+});
+
+describe('content security policy for the webview origins VS Code hands out', () => {
+  it("accepts a source list with the 'self' keyword (as code-server 4.139 gives it) and refuses injections", async () => {
+    const { contentSecurityPolicy } = await import('../../../src/host/webviewHtml');
+    const nonce = 'abcdefghijklmnopqrstuvwx';
+    expect(contentSecurityPolicy("'self' https://*.vscode-cdn.net", nonce)).toContain("style-src 'self' https://*.vscode-cdn.net");
+    expect(contentSecurityPolicy('vscode-webview://abc123', nonce)).toContain('img-src vscode-webview://abc123 data:');
+    expect(() => contentSecurityPolicy("'unsafe-inline'", nonce)).toThrow();
+    expect(() => contentSecurityPolicy("https://a; script-src 'unsafe-eval'", nonce)).toThrow();
+    expect(() => contentSecurityPolicy('https://a, https://b', nonce)).toThrow();
   });
 });
