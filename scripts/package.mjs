@@ -40,7 +40,7 @@ export async function packageExtension() {
     .split('\n').map((s) => s.trim()).filter(Boolean);
   const bad = files.filter((f) => FORBIDDEN.some((re) => re.test(f)));
   if (bad.length) throw new Error(`the package would ship dev files: ${bad.join(', ')} — fix .vscodeignore`);
-  for (const need of ['package.json', 'dist/extension.js', 'media/icon.png', 'LICENSE', 'THIRD_PARTY_NOTICES.md']) {
+  for (const need of ['package.json', 'README.md', 'CHANGELOG.md', 'LICENSE', 'THIRD_PARTY_NOTICES.md', 'media/icon.png', 'dist/extension.js', 'dist/worker.js', 'dist/parquet_wasm_bg.wasm', 'dist/webview/recordView.js', 'dist/webview/panel.js']) {
     if (!files.includes(need)) throw new Error(`the package would lack ${need}`);
   }
   log(`${files.length} files in the package`);

@@ -1,7 +1,7 @@
 // `npm test`: builds, then runs every layer — engine unit tests and outside checks (vitest), the
 // webviews in headless Chromium, and the extension inside a real VS Code workbench — and ends
 // with one line "N passed, M failed".
-import { spawnSync } from 'node:child_process';
+import { spawn, spawnSync } from 'node:child_process';
 import { existsSync, mkdirSync, readFileSync } from 'node:fs';
 import { dirname, join, resolve } from 'node:path';
 import { fileURLToPath } from 'node:url';
@@ -20,9 +20,18 @@ if (!existsSync(join(testdata, 'SOURCES.md'))) {
 
 function run(cmd, args, opts = {}) {
   console.log(`\n▶ ${cmd} ${args.join(' ')}`);
-  const r = spawnSync(cmd, args, { cwd: root, stdio: opts.capture ? ['ignore', 'pipe', 'inherit'] : 'inherit', encoding: 'utf8', env: process.env });
-  if (opts.capture) process.stdout.write(r.stdout ?? '');
-  return r;
+  if (!opts.capture) return spawnSync(cmd, args, { cwd: root, stdio: 'inherit', env: process.env });
+  // Stream the output as it comes (a cold workbench install takes minutes) and keep it to read counts.
+  return new Promise((resolveRun) => {
+    const child = spawn(cmd, args, { cwd: root, stdio: ['ignore', 'pipe', 'inherit'], env: process.env });
+    let stdout = '';
+    child.stdout.setEncoding('utf8');
+    child.stdout.on('data', (d) => {
+      stdout += d;
+      process.stdout.write(d);
+    });
+    child.on('close', (status) => resolveRun({ status, stdout }));
+  });
 }
 
 import { ensureSystemPackages } from './ensure-system.mjs';
@@ -54,11 +63,11 @@ if (want('unit')) {
   layers.push(['unit and outside checks (vitest)', p, f]);
 }
 
-function nodeTestLayer(name, dir) {
+async function nodeTestLayer(name, dir) {
   if (!existsSync(join(root, dir))) return;
   const files = readdirTests(join(root, dir));
   if (!files.length) return;
-  const r = run(process.execPath, ['--test', '--test-reporter=tap', ...files], { capture: true });
+  const r = await run(process.execPath, ['--test', '--test-concurrency=1', '--test-reporter=tap', ...files], { capture: true });
   const p = Number(/^# pass (\d+)/m.exec(r.stdout ?? '')?.[1] ?? 0);
   let f = Number(/^# fail (\d+)/m.exec(r.stdout ?? '')?.[1] ?? 0);
   if (r.status !== 0 && f === 0) f = 1;
@@ -72,10 +81,10 @@ function readdirTests(dir) {
     .map((f) => join(dir, f));
 }
 
-if (want('webview')) nodeTestLayer('webviews in Chromium', 'test/webview');
+if (want('webview')) await nodeTestLayer('webviews in Chromium', 'test/webview');
 
 if (want('workbench') && existsSync(join(root, 'test/workbench/run.mjs'))) {
-  const r = run(process.execPath, ['test/workbench/run.mjs'], { capture: true });
+  const r = await run(process.execPath, ['test/workbench/run.mjs'], { capture: true });
   const m = [...(r.stdout ?? '').matchAll(/^(\d+) passed, (\d+) failed/gm)].pop();
   const p = Number(m?.[1] ?? 0);
   let f = Number(m?.[2] ?? 0);

@@ -1,7 +1,7 @@
 // Starts code-server on 127.0.0.1 with the packaged extension installed, everything it writes kept
 // in a temporary folder (HOME, XDG_*, user data, extensions), and stops its whole process group.
 import { spawn } from 'node:child_process';
-import { mkdtempSync, mkdirSync, rmSync, writeFileSync } from 'node:fs';
+import { cpSync, existsSync, mkdtempSync, mkdirSync, rmSync, writeFileSync } from 'node:fs';
 import { createServer } from 'node:net';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
@@ -31,6 +31,9 @@ const USER_SETTINGS = {
   'security.workspace.trust.enabled': false,
   'chat.disableAIFeatures': true,
   'workbench.welcomePage.walkthroughs.openOnInstall': false,
+  'workbench.secondarySideBar.defaultVisibility': 'hidden',
+  'github.gitAuthentication': false,
+  'git.enabled': false,
 };
 
 async function waitForHttp(url, child, timeoutMs) {
@@ -49,7 +52,7 @@ async function waitForHttp(url, child, timeoutMs) {
 /**
  * Starts code-server with `vsix` installed and `folder` open.
  * @param {{ vsix: string, folder: string, settings?: Record<string, unknown>, log?: (s: string) => void }} opts
- * @returns {Promise<{ url: string, port: number, workDir: string, output: () => string, stop: () => Promise<void> }>}
+ * @returns {Promise<{ url: string, port: number, workDir: string, output: () => string, collectLogs: (dest: string) => void, stop: () => Promise<void> }>}
  */
 export async function startCodeServer({ vsix, folder, settings = {}, log = () => {} }) {
   const { node, entry } = await ensureCodeServer();
@@ -115,5 +118,11 @@ export async function startCodeServer({ vsix, folder, settings = {}, log = () =>
     await stop();
     throw new Error(`${e.message}\n--- code-server output ---\n${output}`);
   }
-  return { url, port, workDir, output: () => output, stop };
+  /** Copies the server's logs (extension host included) to `dest`, for reading after a failure. */
+  const collectLogs = (dest) => {
+    const logs = join(userData, 'logs');
+    if (existsSync(logs)) cpSync(logs, dest, { recursive: true });
+    writeFileSync(join(dest, 'code-server-output.txt'), output);
+  };
+  return { url, port, workDir, output: () => output, collectLogs, stop };
 }

@@ -96,6 +96,12 @@ export class RecordEditorProvider implements vscode.CustomReadonlyEditorProvider
         entries: now.entries,
         complete: now.complete,
       });
+      // A file that opens broken (no footer, cut short) says so at the top, not only in the panel.
+      const broken = now.findings.filter((f) => f.severity === 'error');
+      if (broken.length) {
+        const more = broken.length > 1 ? ` (and ${broken.length - 1} more problems: see the Shard Report)` : '';
+        post({ type: 'error', message: `${document.fileName} cannot be read whole: ${broken[0].message}${more}` });
+      }
     };
 
     // Token counts and markers arrive with the analysis: refresh the rows on screen now and then.
@@ -193,7 +199,8 @@ export class RecordEditorProvider implements vscode.CustomReadonlyEditorProvider
     const [e] = await document.session!.read(entry, entry + 1);
     if (!e) throw new Error(`entry ${entry} is not in this shard`);
     const findings = (document.byEntry.get(entry) ?? []).map((f) => document.viewOf(f));
-    const place = e.line !== null ? `line ${e.line}` : `row ${e.record ?? e.entry}`;
+    // Same form as RowView.place: the line number alone, or `row N`.
+    const place = e.line !== null ? String(e.line) : `row ${e.record ?? e.entry}`;
     const detail: DetailView = {
       entry,
       record: e.record,

@@ -63,3 +63,16 @@ export function probeText(record) {
   // A word run from the start, short enough to survive cutting and white-space folding in a cell.
   return s.replace(/\s+/g, ' ').trim().slice(0, 24);
 }
+
+const encoders = new Map();
+/**
+ * Token count of `text` by the `tiktoken` npm package (OpenAI's tokenizer compiled to WebAssembly),
+ * special-token spellings counted as ordinary text, as the product documents it.
+ */
+export async function referenceTokenCount(text, encoding) {
+  if (!encoders.has(encoding)) {
+    const { get_encoding } = await import('tiktoken');
+    encoders.set(encoding, get_encoding(encoding));
+  }
+  return encoders.get(encoding).encode_ordinary(text).length;
+}

@@ -7,7 +7,7 @@ import { vsixForRun } from '../../scripts/package.mjs';
 import { chromiumPath } from '../../scripts/workbench/ensure.mjs';
 import { root } from '../../scripts/workbench/paths.mjs';
 import { startCodeServer } from '../../scripts/workbench/server.mjs';
-import { arrowFacts, jsonlFacts, parquetFacts, shardBytes } from './oracle.mjs';
+import { arrowFacts, jsonlFacts, parquetFacts, referenceTokenCount, shardBytes } from './oracle.mjs';
 import { Workbench, countOf, launchBrowser, waitFor } from './workbench.mjs';
 
 const outDir = join(root, 'test-output', 'workbench');
@@ -87,6 +87,7 @@ function readRecordView(frame) {
       loading: r.classList.contains('sw-row-loading'),
       selected: r.classList.contains('sw-selected'),
       place: r.querySelector('[data-col="place"]')?.textContent ?? '',
+      tokens: r.querySelector('[data-col="tokens"]')?.textContent ?? '',
       fields: Object.fromEntries([...r.querySelectorAll('[data-col="field"]')].map((c) => [c.dataset.field, c.textContent])),
       raw: r.querySelector('[data-col="raw"]')?.textContent ?? null,
     }));
@@ -112,7 +113,7 @@ function readPanel(frame) {
       total: stat('total'), encoding: document.querySelector('.sw-encoding')?.textContent ?? null,
       severities: sev,
       findings: [...document.querySelectorAll('.sw-finding')].map((f) => ({
-        id: f.dataset.id, rule: f.dataset.rule, place: f.querySelector('.sw-place')?.textContent ?? '',
+        id: f.dataset.id, rule: f.dataset.rule, severity: f.dataset.severity, place: f.querySelector('.sw-place')?.textContent ?? '',
         message: f.querySelector('.sw-message')?.textContent ?? '',
       })),
       empty: document.querySelector('.sw-empty')?.hidden === false ? document.querySelector('.sw-empty-text')?.textContent : null,
@@ -149,6 +150,33 @@ async function panelFor(name, { done = true } = {}) {
     const p = await readPanel(frame);
     return p.fileName === name && (!done || p.phase === 'done') ? { frame, p } : null;
   }, 120000);
+}
+
+/** Compares the Tokens column of the shown rows of a plain-text shard with the reference tokenizer. */
+async function expectRowTokens(name, f, encoding) {
+  await wb.openFromExplorer(name);
+  const rv = await wb.recordView(name);
+  const { p } = await panelFor(name);
+  assert(p.encoding === encoding, `the panel counts with ${p.encoding}, expected ${encoding}`);
+  await wb.page.keyboard.press('Escape');
+  const view = await waitFor(`token counts in the rows of ${name}`, async () => {
+    const v = await readRecordView(rv);
+    const done = v.rows.filter((r) => !r.loading);
+    return done.length >= 10 && done.every((r) => r.raw !== null || r.tokens !== '') ? v : null;
+  }, 30000);
+  let compared = 0;
+  for (const row of view.rows) {
+    if (row.loading || row.raw !== null) continue;
+    const line = Number(row.place);
+    const value = JSON.parse(f.lines[line - 1]);
+    // Only records whose text is plainly the "text" field: the first of the default text fields.
+    if (!value || typeof value.text !== 'string' || 'messages' in value || 'conversations' in value || 'chosen' in value) continue;
+    // Reference: the tiktoken npm package (OpenAI's tokenizer in WebAssembly).
+    const want = await referenceTokenCount(value.text, encoding);
+    assert(countOf(row.tokens) === want, `${name} line ${line}: ${row.tokens} tokens shown, ${encoding} reference gives ${want}`);
+    compared++;
+  }
+  assert(compared >= 10, `only ${compared} rows of ${name} could be compared`);
 }
 
 async function main() {
@@ -209,6 +237,36 @@ async function main() {
     });
   }
 
+  // Bad input: a Parquet shard cut in half loses its footer (Apache Parquet format: a file ends with
+  // the footer length and the magic "PAR1"); the record view must say so clearly, not crash or hang.
+  const parquetShard = shards.find((s) => s.endsWith('.parquet'));
+  if (parquetShard) {
+    const cut = `truncated-${parquetShard}`;
+    const whole = readFileSync(join(work, parquetShard));
+    writeFileSync(join(work, cut), whole.subarray(0, Math.floor(whole.length / 2)));
+    await step(`a truncated Parquet shard shows a clear error (${cut})`, async () => {
+      await waitFor(`${cut} in the explorer`, async () => (await wb.page.locator('.explorer-folders-view .label-name', { hasText: cut }).count()) > 0, 20000);
+      await wb.openFromExplorer(cut);
+      const frame = await wb.recordView(cut, 60000);
+      // A clear message anywhere the user looks: the record view's error banner, or the side panel's
+      // failed phase with its message, or an error finding there.
+      const { frame: panel } = await panelFor(cut, { done: false });
+      let seen = '';
+      const banner = await waitFor(`an error message for ${cut}`, async () => {
+        const v = await readRecordView(frame);
+        if (v.banner && v.banner.trim().length > 10) return v.banner.trim();
+        const p = await readPanel(panel);
+        const failed = await panel.evaluate(() => document.querySelector('.sw-summary .sw-banner-text')?.textContent ?? null);
+        seen = `record view: ${v.entriesText}, no banner; panel phase ${p.phase}, errors ${p.severities.error ?? '?'}`;
+        if (failed && failed.trim().length > 10) return failed.trim();
+        const err = p.findings.find((f) => f.severity === 'error' && /^read-/.test(f.rule ?? '') && f.message.trim().length > 10);
+        return err ? `${err.rule}: ${err.message}` : null;
+      }, 60000).catch((e) => { throw new Error(`${e.message}; last seen: ${seen}`); });
+      assert(!/undefined|\[object Object\]/.test(banner), `the error message reads poorly: ${banner}`);
+      console.log(`      message: ${banner.slice(0, 160)}`);
+    });
+  }
+
   // The chat shard with a JSON Schema mapped to it, and the JSONL shard with the most broken lines.
   const jsonl = shards.filter((s) => facts.get(s)?.kind === 'jsonl');
   // The JSONL shard with the most lines among those demo-data/.vscode/settings.json maps a JSON Schema to.
@@ -218,6 +276,17 @@ async function main() {
   const mapped = jsonl.filter((s) => schemaGlobs.some((g) => globRe(g).test(s)));
   const chat = [...mapped].sort((a, b) => facts.get(b).entries - facts.get(a).entries)[0];
   const broken = [...jsonl].sort((a, b) => (facts.get(b).invalid + facts.get(b).blank) - (facts.get(a).invalid + facts.get(a).blank))[0];
+
+  // A JSONL shard whose records carry their text in a "text" field.
+  const textShard = jsonl.find((s) => {
+    const f = facts.get(s);
+    const sample = f.lines.slice(0, 50).map((l) => { try { return JSON.parse(l); } catch { return null; } });
+    return sample.filter((v) => v && typeof v.text === 'string').length >= 40;
+  });
+
+  const encodingSetting = manifest.contributes?.configuration?.properties?.['shardwise.tokens.encoding'];
+  const defaultEncoding = encodingSetting?.default;
+  const otherEncoding = encodingSetting?.enum?.find((e) => e !== defaultEncoding);
 
   let schemaFinding = null;
   await step(`side panel summarises ${chat}`, async () => {
@@ -261,15 +330,20 @@ async function main() {
     const { frame } = await panelFor(chat);
     await frame.locator('.sw-filter-text').fill('schema-violation');
     await frame.locator('.sw-finding[data-rule="schema-violation"] .sw-open-text').first().click();
+    let seen = '';
     const at = await waitFor('the text editor with its cursor placed', async () => {
-      const tab = await wb.activeTab().catch(() => '');
+      const tab = await wb.activeTab().catch((e) => `(no tab: ${e.message.split('\n')[0]})`);
+      const kind = await wb.activeEditorKind();
       const c = await wb.cursor().catch(() => null);
-      return tab === chat && c && c.line === schemaFinding.line ? c : null;
-    }, 20000);
+      seen = `tab ${JSON.stringify(tab)}, ${kind} editor, cursor ${c ? c.text : 'not shown'}`;
+      return tab.replace(/\s+/g, "").includes(chat) && kind === 'text' && c && c.line === schemaFinding.line ? c : null;
+    }, 20000).catch((e) => { throw new Error(`${e.message}; last seen: ${seen}`); });
     assert(at.column === schemaFinding.column, `cursor at ${at.line}:${at.column}, finding says ${schemaFinding.line}:${schemaFinding.column}`);
     // RFC 8259 §2–§7: a value or member name starts with one of these characters.
     const ch = facts.get(chat).lines[at.line - 1][at.column - 1];
     assert(ch !== undefined && /["{[\-0-9tfn]/.test(ch), `the cursor is not at the start of a JSON value or name (found ${JSON.stringify(ch)})`);
+    // Leave the panel unfiltered for the next shards' screenshots.
+    await frame.locator('.sw-filter-text').fill('');
   });
 
   await step(`Problems panel counts the findings of ${broken}`, async () => {
@@ -289,13 +363,17 @@ async function main() {
     assert(shown >= Math.min(f.invalid + f.blank, max), `Problems shows ${shown}, fewer than the ${f.invalid} invalid and ${f.blank} blank lines`);
   });
 
+  await step(`token counts of ${textShard} rows match the ${defaultEncoding} reference`, async () => {
+    assert(textShard, 'no JSONL demo shard keeps its text in a "text" field');
+    await expectRowTokens(textShard, facts.get(textShard), defaultEncoding);
+  });
+
   await step('changing the token encoding from the command palette changes the token totals', async () => {
     await wb.openFromExplorer(chat);
     await wb.recordView(chat);
     const before = (await panelFor(chat)).p;
-    const encodings = manifest.contributes.configuration.properties['shardwise.tokens.encoding'].enum;
-    const next = encodings.find((e) => e !== before.encoding);
-    assert(next, `no other encoding than ${before.encoding} to switch to`);
+    const next = otherEncoding;
+    assert(before.encoding === defaultEncoding && next, `the panel counts with ${before.encoding}; expected ${defaultEncoding} and another encoding to switch to`);
     const cmd = manifest.contributes.commands.find((c) => c.command === 'shardwise.chooseEncoding');
     assert(cmd, 'package.json contributes no shardwise.chooseEncoding command');
     await wb.runCommand(`${cmd.category}: ${cmd.title}`, { pick: next });
@@ -306,6 +384,11 @@ async function main() {
     }, 120000);
     assert(countOf(after.total) > 0 && countOf(after.total) !== countOf(before.total),
       `token total ${before.total} (${before.encoding}) → ${after.total} (${next}): expected a different positive total`);
+  });
+
+  await step(`token counts of ${textShard} rows match the ${otherEncoding} reference after the change`, async () => {
+    assert(textShard, 'no JSONL demo shard keeps its text in a "text" field');
+    await expectRowTokens(textShard, facts.get(textShard), otherEncoding);
   });
 
   const tEnd = Date.now();

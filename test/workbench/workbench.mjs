@@ -15,7 +15,10 @@ export async function waitFor(what, fn, timeoutMs = 30000, everyMs = 250) {
     try {
       const v = await fn();
       if (v) return v;
-    } catch (e) { last = e; }
+    } catch (e) {
+      if (e.fatal) throw e;
+      last = e;
+    }
     await sleep(everyMs);
   }
   throw new Error(`timed out after ${timeoutMs / 1000} s waiting for ${what}${last ? ` (${last.message.split('\n')[0]})` : ''}`);
@@ -109,6 +112,7 @@ export class Workbench {
   /** The record view frame showing `fileName`. */
   recordView(fileName, timeoutMs = 30000) {
     return waitFor(`the record view of ${fileName}`, async () => {
+      await this.failOnDialog();
       const all = await this.webviewFrames('recordView');
       return all.find((x) => x.name === fileName)?.frame;
     }, timeoutMs);
@@ -120,6 +124,12 @@ export class Workbench {
       const all = await this.webviewFrames('panel');
       return all[0]?.frame;
     }, timeoutMs);
+  }
+
+  /** Throws at once (not retried by waitFor) when the workbench shows an error dialog. */
+  async failOnDialog() {
+    const text = await this.dismissDialog();
+    if (text) throw Object.assign(new Error(`the workbench showed a dialog: ${text}`), { fatal: true });
   }
 
   /** Closes a modal dialog if one is showing; returns its text (an error the workbench raised) or null. */
@@ -138,14 +148,24 @@ export class Workbench {
 
   /** The editor status bar's cursor place ("Ln 12, Col 5") as numbers. */
   async cursor() {
-    const text = await this.page.locator('.statusbar-item[id="status.editor.selection"]').innerText({ timeout: 5000 });
+    const item = this.page.locator('.part.statusbar .statusbar-item').filter({ hasText: /Ln \d+, Col \d+/ }).first();
+    const text = await item.innerText({ timeout: 2000 });
     const m = /Ln\s+(\d+),\s*Col\s+(\d+)/.exec(text);
     return m ? { line: Number(m[1]), column: Number(m[2]), text } : null;
   }
 
-  /** The active editor tab's label. */
+  /** The active editor tab's text (its label, plus any decorations). */
   async activeTab() {
-    return this.page.locator('.tabs-container .tab.active .label-name').first().innerText({ timeout: 5000 });
+    return this.page.locator('.tabs-container .tab.active').first().innerText({ timeout: 2000 });
+  }
+
+  /** Which editor the active editor group shows: the text editor or a webview (custom editor). */
+  async activeEditorKind() {
+    return this.page.evaluate(() => {
+      const group = document.querySelector('.editor-group-container.active') ?? document;
+      if (group.querySelector('.monaco-editor .view-lines')) return 'text';
+      return 'other';
+    });
   }
 }
 
