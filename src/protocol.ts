@@ -109,6 +109,8 @@ export type HostToRecordView =
   | { type: 'detail'; detail: DetailView }
   | { type: 'select'; entry: number; pointer?: string }
   | { type: 'columns'; columns: ColumnInfo[] }
+  /** Token counts or findings changed: re-request the rows on screen without blanking them. */
+  | { type: 'refresh' }
   | { type: 'error'; message: string };
 
 export type RecordViewToHost =

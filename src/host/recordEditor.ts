@@ -113,7 +113,7 @@ export class RecordEditorProvider implements vscode.CustomReadonlyEditorProvider
       if (columns.length && (document.phase !== lastPhase || (document.phase === 'analysing' && now - lastRefresh > 1500))) {
         lastPhase = document.phase;
         lastRefresh = now;
-        post({ type: 'columns', columns });
+        post({ type: 'refresh' });
       }
       const { entries, complete } = document.info;
       if (entries !== lastEntries || complete !== lastComplete) {

@@ -140,6 +140,9 @@ export class Lru<K, V> {
   clear(): void {
     this.map.clear();
   }
+  keys(): K[] {
+    return [...this.map.keys()];
+  }
   get size(): number {
     return this.map.size;
   }

@@ -953,6 +953,18 @@ function onMessage(m: HostToRecordView): void {
       renderStructure();
       renderRows();
       break;
+    case 'refresh': {
+      // New token counts or findings: ask again for the rows on screen, keep showing the old ones
+      // meanwhile, and forget the rest so they are fetched fresh when scrolled to.
+      const r = currentRenderedRange();
+      const first = Math.floor(r.start / PAGE);
+      const last = r.end > r.start ? Math.floor((r.end - 1) / PAGE) : first - 1;
+      for (const p of pages.keys()) if (p < first || p > last) pages.delete(p);
+      const visible: number[] = [];
+      for (let p = first; p <= last; p++) visible.push(p);
+      requestPages(visible);
+      break;
+    }
     case 'error':
       banner.replaceChildren(icon('error'), h('span', 'sw-banner-text', str(m.message)));
       banner.hidden = false;

@@ -55,6 +55,40 @@ async function waitLoaded(page) {
 const fmt = (n) => new Intl.NumberFormat('en-US').format(n);
 
 describe('record view', () => {
+  test('a refresh re-asks for the rows on screen and keeps showing them until the answer comes', async () => {
+    let hold = false;
+    let held = [];
+    const host = async (m, view) => {
+      if (m.type !== 'requestRows') return;
+      if (hold) held.push(m);
+      else await view.send(rowsAnswer(m));
+    };
+    const view = await openView(browser, server, { kind: 'recordView', onMessage: host });
+    try {
+      await view.send(initMessage(1000));
+      await waitLoaded(view.page);
+      const before = await visibleRows(view.page);
+      hold = true;
+      const from = view.posted.length;
+      await view.send({ type: 'refresh' });
+      const again = await view.waitForPost((m) => m.type === 'requestRows', { from });
+      assert.equal(again.start, 0);
+      // While the answer is pending the old rows stay on screen, not loading placeholders.
+      const during = await visibleRows(view.page);
+      assert.deepEqual(during.map((r) => [r.entry, r.tokens, r.loading]), before.map((r) => [r.entry, r.tokens, false]));
+      // The new answer (here: different token counts) replaces them.
+      hold = false;
+      for (const m of held) {
+        const a = rowsAnswer(m);
+        a.rows = a.rows.map((r) => ({ ...r, tokens: 4242 }));
+        await view.send(a);
+      }
+      await view.page.waitForFunction(() => document.querySelector('.sw-rows .sw-row[data-entry="0"] [data-col="tokens"]')?.textContent === '4,242');
+    } finally {
+      await view.close();
+    }
+  });
+
   test('renders the visible rows of a 100,000-entry shard with their place and token cells', async () => {
     const view = await openView(browser, server, { kind: 'recordView', onMessage: scriptedHost() });
     try {
