@@ -4,17 +4,8 @@
 import type { Finding, Severity } from './engine/findings.js';
 import type { ColumnInfo, FormatName, GroupInfo } from './engine/sources/source.js';
 
-/** Token statistics of a shard (or of the part analysed so far). */
-export interface TokenSummary {
-  encoding: string;
-  total: number;
-  max: number;
-  p50: number;
-  p90: number;
-  p99: number;
-  contextLength: number;
-  overContext: number;
-}
+export type { TokenSummary } from './engine/stats/tally.js';
+import type { TokenSummary } from './engine/stats/tally.js';
 
 export interface ShardSummary {
   path: string;

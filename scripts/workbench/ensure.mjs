@@ -53,7 +53,10 @@ export async function ensureNode24() {
 
 /** Environment with Node 24 first on PATH, for the code-server install and the server only. */
 export function node24Env(extra = {}) {
-  return { ...process.env, PATH: `${node24Bin}:${process.env.PATH}`, ...extra };
+  // Under `npm test` the outer npm leaves npm_config_* variables (user agent "node/v20" among them)
+  // that an inner npm would take as its own config: code-server's install reads that user agent.
+  const env = Object.fromEntries(Object.entries(process.env).filter(([k]) => !/^npm_/i.test(k)));
+  return { ...env, PATH: `${node24Bin}:${process.env.PATH}`, ...extra };
 }
 
 const marker = join(codeServerDir, '.shardwise-installed');

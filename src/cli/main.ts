@@ -212,21 +212,11 @@ export async function run(argv: string[], out: NodeJS.WritableStream, err: NodeJ
       err.write(`shardwise: ${path}: ${msg}\n`);
       return 2;
     }
-    const stats = tally.tokenStats(config.contextLength);
     const file: FileReport = {
       path,
       format: formatName,
       records: tally.records,
-      tokens: {
-        encoding: config.encoding,
-        total: stats.total,
-        max: stats.max,
-        p50: stats.p50,
-        p90: stats.p90,
-        p99: stats.p99,
-        contextLength: config.contextLength,
-        overContext: stats.overContext,
-      },
+      tokens: tally.tokenSummary(config.encoding, config.contextLength),
       findings: tally.sortedFindings().map((f) => ({
         rule: f.rule,
         family: f.family,

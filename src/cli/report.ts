@@ -1,33 +1,16 @@
 // The CLI's result model: one entry per file, the shape of the JSON document (stable: later
 // stages extend it, never break it).
 
-import type { Family, Severity } from '../engine/findings.js';
+import type { Finding, Severity } from '../engine/findings.js';
 import type { FormatName } from '../engine/sources/source.js';
+import type { TokenSummary } from '../engine/stats/tally.js';
 
 export interface FileReport {
   path: string;
   format: FormatName;
   records: number;
-  tokens: {
-    encoding: string;
-    total: number;
-    max: number;
-    p50: number;
-    p90: number;
-    p99: number;
-    contextLength: number;
-    overContext: number;
-  };
-  findings: {
-    rule: string;
-    family: Family;
-    severity: Severity;
-    message: string;
-    record: number | null;
-    line: number | null;
-    column: number | null;
-    pointer: string | null;
-  }[];
+  tokens: TokenSummary;
+  findings: Pick<Finding, 'rule' | 'family' | 'severity' | 'message' | 'record' | 'line' | 'column' | 'pointer'>[];
 }
 
 export interface Report {

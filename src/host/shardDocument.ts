@@ -224,7 +224,6 @@ export class ShardDocument implements vscode.CustomDocument {
   }
 
   summary(): ShardSummary {
-    const t = this.tally.tokenStats(this.settings.config.contextLength);
     return {
       path: this.uri.fsPath || this.uri.toString(),
       fileName: this.fileName,
@@ -234,16 +233,7 @@ export class ShardDocument implements vscode.CustomDocument {
       records: this.tally.records,
       blankLines: this.tally.blankLines,
       invalidLines: this.tally.invalidLines,
-      tokens: {
-        encoding: this.settings.config.encoding,
-        total: t.total,
-        max: t.max,
-        p50: t.p50,
-        p90: t.p90,
-        p99: t.p99,
-        contextLength: this.settings.config.contextLength,
-        overContext: t.overContext,
-      },
+      tokens: this.tally.tokenSummary(this.settings.config.encoding, this.settings.config.contextLength),
       findingsBySeverity: { ...this.tally.bySeverity },
       phase: this.phase,
       progress: this.progress,
@@ -259,15 +249,7 @@ export class ShardDocument implements vscode.CustomDocument {
     return this.tally
       .sortedFindings()
       .slice(0, cap)
-      .map((f) => {
-        let id = this.ids.get(f);
-        if (id === undefined) {
-          id = this.nextId++;
-          this.ids.set(f, id);
-          this.byId.set(id, f);
-        }
-        return { ...f, id, place: placeOf(f) };
-      });
+      .map((f) => this.viewOf(f));
   }
 
   findingById(id: number): Finding | undefined {

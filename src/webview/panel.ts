@@ -261,6 +261,12 @@ function onMessage(m: HostToPanel): void {
     content.hidden = true;
   } else if (m.type === 'state') {
     if (!m.summary || typeof m.summary !== 'object') return;
+    // Another shard: its findings start unfiltered by text (the severity toggles are a preference and stay).
+    if (summary && summary.path !== m.summary.path && filterText) {
+      filterText = '';
+      textInput.value = '';
+      vscode.setState({ hidden: [...hidden], text: filterText } satisfies PanelState);
+    }
     summary = m.summary;
     findings = Array.isArray(m.findings) ? m.findings.filter((f) => f && typeof f === 'object') : [];
     totalFindings = Math.max(findings.length, Number(m.totalFindings) || 0);

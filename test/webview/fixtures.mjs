@@ -77,7 +77,7 @@ export function chatDetail(entry, extra = {}) {
     findings: [
       {
         id: 41,
-        rule: 'turn-order',
+        rule: 'chat-role-repeated',
         family: 'chat',
         severity: 'warning',
         message: 'Two user turns in a row',
@@ -124,9 +124,9 @@ export function finding(id, severity, rule, message, entry) {
 export function panelState(overrides = {}) {
   const findings = [
     finding(1, 'error', 'json-syntax', 'Expected a value after the comma', 12),
-    finding(2, 'warning', 'turn-order', 'Two assistant turns in a row', 40),
-    finding(3, 'info', 'token-budget', 'Record uses 91% of the context length', 77),
-    finding(4, 'warning', 'blank-line', 'Blank line between records', 118),
+    finding(2, 'warning', 'chat-role-repeated', 'Two assistant turns in a row', 40),
+    finding(3, 'info', 'tokens-over-context', 'Record uses 91% of the context length', 77),
+    finding(4, 'warning', 'line-blank', 'Blank line between records', 118),
   ];
   return {
     type: 'state',

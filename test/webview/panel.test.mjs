@@ -116,6 +116,11 @@ describe('side panel', () => {
       await view.page.fill('.sw-filter-text', 'no such thing');
       assert.deepEqual(await ids(view.page), []);
       assert.match(await view.page.textContent('.sw-no-findings'), /No finding matches/);
+      // Another shard's state starts with no text filter.
+      const other = panelState();
+      await view.send({ ...other, summary: { ...other.summary, path: '/data/other.jsonl', fileName: 'other.jsonl' } });
+      assert.equal(await view.page.inputValue('.sw-filter-text'), '');
+      assert.deepEqual(await ids(view.page), [1, 2, 3, 4]);
     } finally {
       await view.close();
     }

@@ -149,17 +149,21 @@ describe('record view', () => {
       const spacer = await view.page.$eval('.sw-spacer', (s) => s.getBoundingClientRect().height);
       assert.ok(spacer < 16_000_000, `spacer ${spacer}px`);
       await view.page.$eval('.sw-viewport', (v) => (v.scrollTop = v.scrollHeight));
+      // Rendering follows on the next frame: wait for the last row itself, not just any loaded rows.
+      await view.page.waitForSelector(`.sw-rows .sw-row[data-entry="${n - 1}"]:not(.sw-row-loading)`);
       await waitLoaded(view.page);
       const rows = await visibleRows(view.page);
       assert.equal(rows.at(-1).entry, n - 1);
       assert.equal(rows.at(-1).place, rowFor(n - 1).place);
       // A host selection deep inside the scaled range lands on the right row, in view.
       await view.send({ type: 'select', entry: 2_500_000 });
+      await view.page.waitForSelector('.sw-rows .sw-row.sw-selected[data-entry="2500000"]:not(.sw-row-loading)');
       await waitLoaded(view.page);
       const sel = (await visibleRows(view.page)).filter((r) => r.selected);
       assert.deepEqual(sel.map((r) => [r.entry, r.place]), [[2_500_000, rowFor(2_500_000).place]]);
       await view.page.focus('.sw-viewport');
       await view.page.keyboard.press('ArrowDown');
+      await view.page.waitForSelector('.sw-rows .sw-row.sw-selected[data-entry="2500001"]:not(.sw-row-loading)');
       await waitLoaded(view.page);
       const sel2 = (await visibleRows(view.page)).filter((r) => r.selected);
       assert.deepEqual(sel2.map((r) => r.entry), [2_500_001]);

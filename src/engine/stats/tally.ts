@@ -51,6 +51,18 @@ export function tokenStats(counts: ArrayLike<number>, n: number, contextLength: 
   };
 }
 
+/** Token statistics of a shard as every presenter shows them (the CLI document's `tokens`). */
+export interface TokenSummary {
+  encoding: string;
+  total: number;
+  max: number;
+  p50: number;
+  p90: number;
+  p99: number;
+  contextLength: number;
+  overContext: number;
+}
+
 export class ShardTally {
   entries = 0;
   records = 0;
@@ -119,5 +131,10 @@ export class ShardTally {
 
   tokenStats(contextLength: number): TokenStats {
     return tokenStats(this.tokens, this.maxRecord + 1, contextLength);
+  }
+
+  tokenSummary(encoding: string, contextLength: number): TokenSummary {
+    const t = this.tokenStats(contextLength);
+    return { encoding, total: t.total, max: t.max, p50: t.p50, p90: t.p90, p99: t.p99, contextLength, overContext: t.overContext };
   }
 }

@@ -148,4 +148,23 @@ describe('the JSON document', () => {
     expect(r.code).toBe(1);
     expect(r.out).toMatch(new RegExp(`${p.replace(/[.*+?^${}()|[\]\\]/g, '\\$&')}:2:\\d+: error json-syntax`));
   });
+
+  it('places findings inside a pretty-printed JSON array at their own line and column', () => {
+    const records = [
+      { id: 'a', messages: [{ role: 'user', content: 'Squeaky chain?' }, { role: 'assistant', content: 'Degrease, then oil.' }] },
+      { id: 'b', lang: 7, messages: [{ role: 'user', content: 'Tubeless 🚲 sealant?' }, { role: 'assistant', content: 'Top up every few months.' }] },
+    ];
+    const text = JSON.stringify(records, null, 2);
+    const p = file('array.json', text);
+    const schema = file('arr.schema.json', JSON.stringify({ type: 'object', properties: { lang: { type: 'string' } } }));
+    const doc = JSON.parse(shardwise('check', p, '--schema', schema, '--format', 'json', '--workers', '0').out);
+    expect(doc.files[0].format).toBe('json-array');
+    expect(doc.files[0].records).toBe(2);
+    const f = doc.files[0].findings.find((x: { pointer: string }) => x.pointer === '/lang');
+    // Independent measure: where `7` stands in the text, counted in lines and UTF-16 units.
+    const at = text.indexOf('"lang": 7') + '"lang": '.length;
+    const before = text.slice(0, at).split('\n');
+    expect(f).toMatchObject({ record: 1, line: before.length, column: before[before.length - 1].length + 1 });
+  });
 });
+
