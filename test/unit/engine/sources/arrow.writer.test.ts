@@ -51,4 +51,56 @@ describe('files written by apache-arrow', () => {
       await src.close();
     });
   }
+
+  // Arrow IPC format (arrow.apache.org, "IPC Streaming Format" / "IPC File Format"): a stream ends
+  // with an end-of-stream marker (0xFFFFFFFF 0x00000000); a file ends with a footer and the magic.
+  const stream = tableToIPC(table, 'stream');
+  const EOS = 8;
+
+  async function openAll(Source: typeof ArrowFileSource | typeof ArrowStreamSource, name: string, bytes: Uint8Array) {
+    const path = join(dir, name);
+    writeFileSync(path, bytes);
+    const src = new Source(path);
+    await src.open();
+    const info = await src.index();
+    const rows = info.entries > 0 ? await src.read(0, info.entries) : [];
+    await src.close();
+    return { info, rows };
+  }
+
+  it('a stream that stops cleanly between messages without its end marker is a warning, every row kept', async () => {
+    const { info, rows } = await openAll(ArrowStreamSource, 'no-eos.arrows', stream.subarray(0, stream.length - EOS));
+    expect(info.findings.map((f) => [f.rule, f.severity])).toEqual([['read-stream-unterminated', 'warning']]);
+    expect(rows.map((e) => e.value)).toEqual(expected);
+  });
+
+  it('a stream cut inside a message is a read error; the batches before it stay readable', async () => {
+    const { info, rows } = await openAll(ArrowStreamSource, 'cut.arrows', stream.subarray(0, Math.floor(stream.length * 0.8)));
+    expect(info.findings.some((f) => f.rule === 'read-truncated' && f.severity === 'error')).toBe(true);
+    expect(rows.length).toBeGreaterThan(0);
+    expect(rows.length).toBeLessThan(1200);
+    expect(rows.map((e) => e.value)).toEqual(expected.slice(0, rows.length));
+  });
+
+  it('a stream without a schema message is a read error, not a crash', async () => {
+    const { info, rows } = await openAll(ArrowStreamSource, 'empty.arrows', new Uint8Array(0));
+    expect(info.findings.some((f) => f.family === 'read' && f.severity === 'error')).toBe(true);
+    expect(rows).toEqual([]);
+  });
+
+  it('a file without its footer is a read error; the complete batches are still read', async () => {
+    // A file as writers that repeat the schema up front lay it out (magic, padding, the stream's
+    // messages), cut before its footer: apache-arrow's own writer keeps the schema in the footer
+    // only, so its files cut this way hold nothing readable.
+    const magic = new Uint8Array([0x41, 0x52, 0x52, 0x4f, 0x57, 0x31, 0, 0]);
+    const body = stream.subarray(0, stream.length - EOS);
+    const cut = new Uint8Array(magic.length + body.length);
+    cut.set(magic, 0);
+    cut.set(body, magic.length);
+    const { info, rows } = await openAll(ArrowFileSource, 'no-footer.arrow', cut);
+    expect(info.findings.some((f) => f.family === 'read' && f.severity === 'error')).toBe(true);
+    expect(rows.length).toBe(1200);
+    expect(rows.map((e) => e.value)).toEqual(expected);
+  });
 });
+
