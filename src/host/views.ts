@@ -17,13 +17,49 @@ export function cut(s: string, max: number): string {
 export function cellText(v: unknown): string {
   if (v === null) return 'null';
   if (v === undefined) return '';
-  if (typeof v === 'string') return cut(v.replace(/\s+/g, ' '), CELL_CHARS);
+  if (typeof v === 'string') return cut(v.slice(0, CELL_CHARS + 1).replace(/\s+/g, ' '), CELL_CHARS);
   if (typeof v === 'number' || typeof v === 'boolean') return String(v);
   if (Array.isArray(v)) {
     const first = v.length && typeof v[0] === 'object' && v[0] !== null ? summarizeTurnish(v) : null;
-    return first ?? cut(`[${v.length}] ${safeJson(v)}`, CELL_CHARS);
+    return first ?? cut(`[${v.length}] ${boundedJson(v, CELL_CHARS + 1)}`, CELL_CHARS);
   }
-  return cut(safeJson(v), CELL_CHARS);
+  return cut(boundedJson(v, CELL_CHARS + 1), CELL_CHARS);
+}
+
+/**
+ * JSON text of a value, stopping once `max` characters are written: a cell never stringifies a
+ * multi-megabyte record to show its first line.
+ */
+export function boundedJson(v: unknown, max: number): string {
+  let out = '';
+  const put = (s: string) => {
+    out += s.length > max - out.length ? s.slice(0, max - out.length + 1) : s;
+    return out.length <= max;
+  };
+  const walk = (x: unknown): boolean => {
+    if (x === null || typeof x !== 'object') {
+      const t = typeof x === 'string' ? JSON.stringify(x.length > max ? x.slice(0, max) : x) : (JSON.stringify(x) ?? 'null');
+      return put(t);
+    }
+    if (Array.isArray(x)) {
+      if (!put('[')) return false;
+      for (let i = 0; i < x.length; i++) {
+        if (i && !put(',')) return false;
+        if (!walk(x[i])) return false;
+      }
+      return put(']');
+    }
+    if (!put('{')) return false;
+    let first = true;
+    for (const [k, val] of Object.entries(x as Record<string, unknown>)) {
+      if (!first && !put(',')) return false;
+      first = false;
+      if (!put(`${JSON.stringify(k)}:`) || !walk(val)) return false;
+    }
+    return put('}');
+  };
+  walk(v);
+  return out;
 }
 
 /** A list of turns reads better as "4 turns: user › assistant › …" than as raw JSON. */
@@ -34,16 +70,9 @@ function summarizeTurnish(v: unknown[]): string | null {
     return typeof r === 'string' ? r : null;
   });
   if (roles.some((r) => r === null)) return null;
-  return cut(`${v.length} turns: ${roles.join(' › ')}`, CELL_CHARS);
+  return cut(`${v.length} turn${v.length === 1 ? "" : "s"}: ${roles.join(' › ')}`, CELL_CHARS);
 }
 
-function safeJson(v: unknown): string {
-  try {
-    return JSON.stringify(v) ?? '';
-  } catch {
-    return String(v);
-  }
-}
 
 /** Columns for a JSONL shard: top-level fields of the first records, in first-seen order. */
 export function columnsFromEntries(entries: Entry[], max = 24): ColumnInfo[] {

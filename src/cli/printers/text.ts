@@ -9,7 +9,7 @@ export const textPrinter: Printer = {
       const x = extras[i];
       for (const f of file.findings) {
         const place =
-          f.line !== null ? `${file.path}:${f.line}:${f.column ?? 1}` : `${file.path} row ${f.record ?? '?'}`;
+          f.line !== null ? `${file.path}:${f.line}:${f.column ?? 1}` : f.record !== null ? `${file.path} row ${f.record}` : file.path;
         const at = f.pointer ? ` at ${f.pointer}` : '';
         out.write(`${place}: ${f.severity} ${f.rule}: ${f.message}${at}\n`);
       }
