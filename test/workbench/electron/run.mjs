@@ -1,6 +1,6 @@
 // Optional desktop harness for machines that may download VS Code (@vscode/test-electron fetches
 // it on first use). The gate is test/workbench/run.mjs, which needs no download; this one is not run in CI.
-// Usage: node test/workbench/electron/run.mjs [--version 1.85.0]
+// Usage: node test/workbench/electron/run.mjs [--version 1.74.0]
 import { runTests } from '@vscode/test-electron';
 import { cpSync, mkdtempSync, rmSync } from 'node:fs';
 import { tmpdir } from 'node:os';
