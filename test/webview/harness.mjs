@@ -1,6 +1,7 @@
 // Test harness for the two webviews: builds their bundles with esbuild into a temporary folder,
 // serves them with the HTML shell from src/host/webviewHtml.ts on 127.0.0.1, and opens them in
 // Debian's headless Chromium with a fake `acquireVsCodeApi` that records what the view posts.
+import { after, before } from 'node:test';
 import { build } from 'esbuild';
 import { chromium } from 'playwright-core';
 import { createServer } from 'node:http';
@@ -332,4 +333,18 @@ export async function openView(browser, server, { kind, theme = 'dark', title, o
 export async function screenshot(page, name) {
   mkdirSync(screenshotDir, { recursive: true });
   await page.screenshot({ path: join(screenshotDir, `${name}.png`) });
+}
+
+/** One page server and one browser for a test file (or a describe block), closed after it. */
+export function useBrowser() {
+  const env = { browser: null, server: null };
+  before(async () => {
+    env.server = await startServer();
+    env.browser = await launchBrowser();
+  });
+  after(async () => {
+    await env.browser?.close();
+    await env.server?.close();
+  });
+  return env;
 }

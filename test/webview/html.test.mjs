@@ -1,7 +1,7 @@
 // The HTML shell of the webviews: its Content-Security-Policy and its escaping.
 import { after, before, describe, test } from 'node:test';
 import assert from 'node:assert/strict';
-import { buildBundles, launchBrowser, openView, startServer } from './harness.mjs';
+import { buildBundles, openView, useBrowser } from './harness.mjs';
 
 const { html } = await buildBundles();
 
@@ -76,19 +76,10 @@ describe('webview HTML shell', () => {
 });
 
 describe('webview HTML shell in Chromium', () => {
-  let browser;
-  let server;
-  before(async () => {
-    server = await startServer();
-    browser = await launchBrowser();
-  });
-  after(async () => {
-    await browser?.close();
-    await server?.close();
-  });
+  const env = useBrowser();
 
   test('the policy is in force: an injected inline script is blocked and reported', async () => {
-    const view = await openView(browser, server, { kind: 'panel' });
+    const view = await openView(env.browser, env.server, { kind: 'panel' });
     try {
       // Only the harness can do this; it proves the page would stop markup that slipped through.
       await view.page.evaluate(() => {

@@ -1,26 +1,17 @@
 // The side panel in headless Chromium, driven by a scripted host over the protocol.
 import { after, before, describe, test } from 'node:test';
 import assert from 'node:assert/strict';
-import { launchBrowser, openView, screenshot, startServer } from './harness.mjs';
+import { openView, screenshot, useBrowser } from './harness.mjs';
 import { finding, HOSTILE, HOSTILE_TEXT, panelState } from './fixtures.mjs';
 
-let browser;
-let server;
-before(async () => {
-  server = await startServer();
-  browser = await launchBrowser();
-});
-after(async () => {
-  await browser?.close();
-  await server?.close();
-});
+const env = useBrowser();
 
 const PANEL_VIEWPORT = { width: 360, height: 720 };
 const ids = (page) => page.$$eval('.sw-findings .sw-finding', (fs) => fs.map((f) => Number(f.dataset.id)));
 
 describe('side panel', () => {
   test('empty state shows the host message', async () => {
-    const view = await openView(browser, server, { kind: 'panel', viewport: PANEL_VIEWPORT });
+    const view = await openView(env.browser, env.server, { kind: 'panel', viewport: PANEL_VIEWPORT });
     try {
       await view.send({ type: 'empty', message: 'Open a JSONL, Parquet or Arrow shard to check it.' });
       assert.equal(await view.page.textContent('.sw-empty-text'), 'Open a JSONL, Parquet or Arrow shard to check it.');
@@ -32,7 +23,7 @@ describe('side panel', () => {
 
   test('summary shows the counts, token percentiles and the context overflow', async () => {
     for (const theme of ['dark', 'light']) {
-      const view = await openView(browser, server, { kind: 'panel', theme, viewport: PANEL_VIEWPORT });
+      const view = await openView(env.browser, env.server, { kind: 'panel', theme, viewport: PANEL_VIEWPORT });
       try {
         const state = panelState();
         await view.send(state);
@@ -58,7 +49,7 @@ describe('side panel', () => {
   });
 
   test('a progress bar shows while analysing and the error text when the run failed', async () => {
-    const view = await openView(browser, server, { kind: 'panel', viewport: PANEL_VIEWPORT });
+    const view = await openView(env.browser, env.server, { kind: 'panel', viewport: PANEL_VIEWPORT });
     try {
       const s = panelState();
       await view.send({ ...s, summary: { ...s.summary, phase: 'analysing', progress: 0.25 } });
@@ -72,7 +63,7 @@ describe('side panel', () => {
   });
 
   test('clicking a finding posts reveal with its id; Enter does the same; the open action posts openText', async () => {
-    const view = await openView(browser, server, { kind: 'panel', viewport: PANEL_VIEWPORT });
+    const view = await openView(env.browser, env.server, { kind: 'panel', viewport: PANEL_VIEWPORT });
     try {
       await view.send(panelState());
       let mark = view.posted.length;
@@ -98,7 +89,7 @@ describe('side panel', () => {
   });
 
   test('severity and text filters narrow the list and survive a state update', async () => {
-    const view = await openView(browser, server, { kind: 'panel', viewport: PANEL_VIEWPORT });
+    const view = await openView(env.browser, env.server, { kind: 'panel', viewport: PANEL_VIEWPORT });
     try {
       await view.send(panelState());
       await view.page.click('.sw-sev-toggle[data-severity="warning"]');
@@ -127,7 +118,7 @@ describe('side panel', () => {
   });
 
   test('a capped list says how many of how many it shows', async () => {
-    const view = await openView(browser, server, { kind: 'panel', viewport: PANEL_VIEWPORT });
+    const view = await openView(env.browser, env.server, { kind: 'panel', viewport: PANEL_VIEWPORT });
     try {
       const findings = [];
       for (let i = 0; i < 1200; i++) findings.push(finding(i + 1, i % 2 ? 'warning' : 'error', 'chat-role', `Unknown role on turn ${i}`, i));
@@ -146,7 +137,7 @@ describe('side panel', () => {
   });
 
   test('hostile finding text and file names show as literal text and run nothing', async () => {
-    const view = await openView(browser, server, { kind: 'panel', viewport: PANEL_VIEWPORT, title: HOSTILE_TEXT });
+    const view = await openView(env.browser, env.server, { kind: 'panel', viewport: PANEL_VIEWPORT, title: HOSTILE_TEXT });
     try {
       const s = panelState();
       const findings = HOSTILE.map((t, i) => ({ ...finding(i + 1, 'error', t, t, i), place: t }));

@@ -1,22 +1,13 @@
 // The record view in headless Chromium, driven by a scripted host over the protocol.
 import { after, before, describe, test } from 'node:test';
 import assert from 'node:assert/strict';
-import { launchBrowser, openView, screenshot, startServer } from './harness.mjs';
+import { openView, screenshot, useBrowser } from './harness.mjs';
 import { chatDetail, HOSTILE, HOSTILE_TEXT, initMessage, rowFor, rowsAnswer, scriptedHost } from './fixtures.mjs';
 
 const ROW_HEIGHT = 24; // recordView.ts ROW_HEIGHT
 const PAGE = 128; // recordView.ts PAGE
 
-let browser;
-let server;
-before(async () => {
-  server = await startServer();
-  browser = await launchBrowser();
-});
-after(async () => {
-  await browser?.close();
-  await server?.close();
-});
+const env = useBrowser();
 
 async function renderedRows(page) {
   return page.$$eval('.sw-rows .sw-row[data-entry]', (rows) =>
@@ -63,7 +54,7 @@ describe('record view', () => {
       if (hold) held.push(m);
       else await view.send(rowsAnswer(m));
     };
-    const view = await openView(browser, server, { kind: 'recordView', onMessage: host });
+    const view = await openView(env.browser, env.server, { kind: 'recordView', onMessage: host });
     try {
       await view.send(initMessage(1000));
       await waitLoaded(view.page);
@@ -90,7 +81,7 @@ describe('record view', () => {
   });
 
   test('renders the visible rows of a 100,000-entry shard with their place and token cells', async () => {
-    const view = await openView(browser, server, { kind: 'recordView', onMessage: scriptedHost() });
+    const view = await openView(env.browser, env.server, { kind: 'recordView', onMessage: scriptedHost() });
     try {
       await view.send(initMessage(100_000));
       const req = await view.waitForPost((m) => m.type === 'requestRows');
@@ -121,7 +112,7 @@ describe('record view', () => {
   });
 
   test('scrolling to the middle requests the page holding that entry and renders it', async () => {
-    const view = await openView(browser, server, { kind: 'recordView', onMessage: scriptedHost() });
+    const view = await openView(env.browser, env.server, { kind: 'recordView', onMessage: scriptedHost() });
     try {
       await view.send(initMessage(100_000));
       await waitLoaded(view.page);
@@ -140,7 +131,7 @@ describe('record view', () => {
   });
 
   test('scales the scroll range for millions of entries and still reaches the last one', async () => {
-    const view = await openView(browser, server, { kind: 'recordView', onMessage: scriptedHost() });
+    const view = await openView(env.browser, env.server, { kind: 'recordView', onMessage: scriptedHost() });
     try {
       const n = 5_000_000;
       await view.send(initMessage(n));
@@ -173,7 +164,7 @@ describe('record view', () => {
   });
 
   test('answers to unknown or superseded requests are ignored', async () => {
-    const view = await openView(browser, server, { kind: 'recordView' });
+    const view = await openView(env.browser, env.server, { kind: 'recordView' });
     try {
       await view.send(initMessage(1000));
       const req = await view.waitForPost((m) => m.type === 'requestRows');
@@ -198,7 +189,7 @@ describe('record view', () => {
   });
 
   test('keyboard: arrows, PageDown, End and Home move the selection and post it', async () => {
-    const view = await openView(browser, server, { kind: 'recordView', onMessage: scriptedHost() });
+    const view = await openView(env.browser, env.server, { kind: 'recordView', onMessage: scriptedHost() });
     try {
       await view.send(initMessage(100_000));
       await waitLoaded(view.page);
@@ -245,7 +236,7 @@ describe('record view', () => {
   });
 
   test('go to posts the right target for a record, a line and a row, and refuses nonsense', async () => {
-    const view = await openView(browser, server, { kind: 'recordView', onMessage: scriptedHost() });
+    const view = await openView(env.browser, env.server, { kind: 'recordView', onMessage: scriptedHost() });
     try {
       await view.send(initMessage(100_000));
       const cases = [
@@ -275,7 +266,7 @@ describe('record view', () => {
 
   test('the detail shows the conversation turns with their roles and token counts', async () => {
     for (const theme of ['dark', 'light']) {
-      const view = await openView(browser, server, { kind: 'recordView', theme, onMessage: scriptedHost() });
+      const view = await openView(env.browser, env.server, { kind: 'recordView', theme, onMessage: scriptedHost() });
       try {
         await view.send(initMessage(100_000));
         await waitLoaded(view.page);
@@ -327,7 +318,7 @@ describe('record view', () => {
   });
 
   test('a host select with a pointer scrolls to the entry and highlights that JSON node', async () => {
-    const view = await openView(browser, server, { kind: 'recordView', onMessage: scriptedHost() });
+    const view = await openView(env.browser, env.server, { kind: 'recordView', onMessage: scriptedHost() });
     try {
       await view.send(initMessage(100_000));
       await waitLoaded(view.page);
@@ -377,7 +368,7 @@ describe('record view', () => {
       pair: { prompt: HOSTILE[0], chosen: HOSTILE[1], rejected: HOSTILE[2] },
       findings: [{ ...chatDetail(entry).findings[0], rule: HOSTILE[2], message: HOSTILE_TEXT, place: HOSTILE[0] }],
     });
-    const view = await openView(browser, server, {
+    const view = await openView(env.browser, env.server, {
       kind: 'recordView',
       title: HOSTILE_TEXT,
       onMessage: async (m, v) => {
@@ -427,7 +418,7 @@ describe('record view', () => {
   });
 
   test('columnar header shows row groups and column types in the structure section', async () => {
-    const view = await openView(browser, server, { kind: 'recordView', theme: 'light', onMessage: scriptedHost() });
+    const view = await openView(env.browser, env.server, { kind: 'recordView', theme: 'light', onMessage: scriptedHost() });
     try {
       await view.send(
         initMessage(3000, {
@@ -461,7 +452,7 @@ describe('record view', () => {
   });
 
   test('indexing progress shows while the entry count grows, and new rows become reachable', async () => {
-    const view = await openView(browser, server, { kind: 'recordView', onMessage: scriptedHost() });
+    const view = await openView(env.browser, env.server, { kind: 'recordView', onMessage: scriptedHost() });
     try {
       await view.send(initMessage(40, { complete: false }));
       await waitLoaded(view.page);

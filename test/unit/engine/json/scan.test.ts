@@ -3,6 +3,7 @@ import { resolve } from 'node:path';
 import { describe, expect, it } from 'vitest';
 import { MAX_DEPTH, locatePointer, parseLine, scanJson } from '../../../../src/engine/json/scan.js';
 import { firstInvalidUtf8 } from '../../../../src/engine/text/utf8.js';
+import { mulberry32 } from '../../helpers/random';
 
 const projectRoot = resolve(__dirname, '../../../..');
 // Golden files: nst/JSONTestSuite test_parsing/ (MIT), see ../shared/testdata/SOURCES.md.
@@ -224,15 +225,6 @@ function serialize(value: unknown, rnd: () => number, at: Map<string, number>, p
   return out;
 }
 
-function mulberry32(seed: number): () => number {
-  let a = seed;
-  return () => {
-    a = (a + 0x6d2b79f5) | 0;
-    let t = Math.imul(a ^ (a >>> 15), 1 | a);
-    t = (t + Math.imul(t ^ (t >>> 7), 61 | t)) ^ t;
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
-}
 
 function randomValue(rnd: () => number, depth: number): unknown {
   const keys = ['a', 'b/c', 'd~e', '名前', '😀', 'tool "x"', 'e\\f', ''];

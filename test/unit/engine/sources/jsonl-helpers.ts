@@ -7,6 +7,8 @@ import { join } from 'node:path';
 import { gzipSync } from 'node:zlib';
 import { JsonlSource } from '../../../../src/engine/sources/jsonl.js';
 import type { Entry, SourceInfo } from '../../../../src/engine/sources/source.js';
+import { mulberry32 } from '../../helpers/random';
+export { mulberry32 };
 
 export function tempDir(): { dir: string; cleanup: () => void } {
   const dir = mkdtempSync(join(tmpdir(), 'shardwise-test-'));
@@ -99,12 +101,3 @@ export async function scanAll(path: string, opts: { maxLineBytes?: number } = {}
   }
 }
 
-export function mulberry32(seed: number): () => number {
-  let a = seed;
-  return () => {
-    a = (a + 0x6d2b79f5) | 0;
-    let t = Math.imul(a ^ (a >>> 15), 1 | a);
-    t = (t + Math.imul(t ^ (t >>> 7), 61 | t)) ^ t;
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
-}

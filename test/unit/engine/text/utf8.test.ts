@@ -1,19 +1,11 @@
 import { describe, expect, it } from 'vitest';
 import { decodeLine, firstInvalidUtf8 } from '../../../../src/engine/text/utf8.js';
+import { mulberry32 } from '../../helpers/random';
 
 const enc = new TextEncoder();
 const bytes = (...parts: Array<string | number[]>) =>
   Uint8Array.from(parts.flatMap((p) => (typeof p === 'string' ? [...enc.encode(p)] : p)));
 
-function mulberry32(seed: number): () => number {
-  let a = seed;
-  return () => {
-    a = (a + 0x6d2b79f5) | 0;
-    let t = Math.imul(a ^ (a >>> 15), 1 | a);
-    t = (t + Math.imul(t ^ (t >>> 7), 61 | t)) ^ t;
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
-}
 
 describe('decodeLine', () => {
   it('strips a leading UTF-8 BOM and reports it (RFC 8259 §8.1; JSON Lines: UTF-8 without BOM)', () => {
