@@ -2,9 +2,10 @@
 // generator lists in its manifest (our own scenario, so this is an integration test of the whole
 // engine, not an outside check), across JSONL, Parquet and Arrow.
 import { spawnSync } from 'node:child_process';
-import { readFileSync } from 'node:fs';
+import { createHash } from 'node:crypto';
+import { readFileSync, statSync } from 'node:fs';
 import { join } from 'node:path';
-import { beforeAll, describe, expect, it } from 'vitest';
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { globToRegExp } from '../../../src/host/globs';
 import { buildBundles, projectRoot } from '../helpers/build';
 
@@ -21,7 +22,16 @@ beforeAll(() => {
 
 const files = ['chat-sft.jsonl', 'chat-sft-from-value.jsonl', 'preference-pairs.jsonl', 'plain-text.jsonl', 'edge-cases.jsonl', 'chat-sft.parquet', 'chat-sft.arrow'];
 
+const fingerprint = (p: string) => `${createHash('sha256').update(readFileSync(p)).digest('hex')} ${statSync(p).mtimeMs}`;
+
 describe('demo shards', () => {
+  const before = new Map(files.map((f) => [f, fingerprint(join(demo, f))]));
+
+  afterAll(() => {
+    // Read-only, always: checking a shard never changes a byte of it, nor its modification time.
+    for (const f of files) expect(fingerprint(join(demo, f)), f).toBe(before.get(f));
+  });
+
   for (const file of files) {
     it(`${file}: findings are exactly the manifest's broken records`, () => {
       const args = [cli, 'check', join(demo, file), '--format', 'json'];
