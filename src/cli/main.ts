@@ -5,6 +5,7 @@ import { readFileSync, statSync, accessSync, constants } from 'node:fs';
 import { ENCODINGS, withDefaults, type CheckConfig, type EncodingName } from '../engine/config.js';
 import { formatOf, supportedEndings } from '../engine/sources/index.js';
 import { ShardTally } from '../engine/stats/tally.js';
+import { analyzeInThread } from '../node/inThread.js';
 import { analyzeFile, defaultWorkerCount } from '../node/pool.js';
 import { jsonPrinter } from './printers/json.js';
 import { textPrinter } from './printers/text.js';
@@ -196,7 +197,8 @@ export async function run(argv: string[], out: NodeJS.WritableStream, err: NodeJ
     const tally = new ShardTally(Number.MAX_SAFE_INTEGER);
     let formatName = formatOf(path)!;
     try {
-      await analyzeFile(path, {
+      const analyze = workers === 0 ? analyzeInThread : analyzeFile;
+      await analyze(path, {
         config,
         open: { maxLineBytes: config.maxLineBytes },
         workers,

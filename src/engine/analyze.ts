@@ -25,6 +25,12 @@ export interface Share {
   block: number;
 }
 
+/** Rules raised by the analysis itself rather than by one source or check. */
+export const ANALYSIS_RULES: RuleInfo[] = [
+  { id: 'read-failed', family: 'read', severity: 'error', summary: 'The file, or a part of it, could not be read; what could be read is still checked.' },
+  { id: 'check-failed', family: 'read', severity: 'error', summary: 'A check could not run on a record (an internal error, reported rather than hidden).' },
+];
+
 export interface AnalyzeOptions {
   config: CheckConfig;
   checks: readonly Check[];
@@ -59,16 +65,27 @@ export function isFatal(err: unknown): boolean {
   return name === 'AbortError' || name === 'SetupError';
 }
 
-export async function analyzeSource(source: RecordSource, options: AnalyzeOptions): Promise<void> {
-  const opts = { ...options, config: await settleConfig(source, options.config, options.signal) };
-  await prepareChecks(opts.checks, opts.config);
-  const share = opts.share;
+/**
+ * Checks every entry of the source. A file that breaks off mid-read keeps what was read: the break
+ * comes back as a `read-failed` finding. Cancelling and a configuration that cannot work throw.
+ */
+export async function analyzeSource(source: RecordSource, options: AnalyzeOptions): Promise<Finding | null> {
+  const share = options.share;
   const want = share && share.count > 1 ? (e: number) => inShare(e, share) : undefined;
-  for await (const entry of source.scan({ signal: opts.signal, onProgress: opts.onProgress, want })) {
-    if (opts.signal?.aborted) throw abortError();
-    if (!inShare(entry.entry, opts.share)) continue;
-    opts.onOutcome(analyzeEntry(entry, opts.checks, opts.config));
+  try {
+    const opts = { ...options, config: await settleConfig(source, options.config, options.signal) };
+    await prepareChecks(opts.checks, opts.config);
+    for await (const entry of source.scan({ signal: opts.signal, onProgress: opts.onProgress, want })) {
+      if (opts.signal?.aborted) throw abortError();
+      // Sources may deliver entries outside the share; they belong to another worker.
+      if (!inShare(entry.entry, share)) continue;
+      opts.onOutcome(analyzeEntry(entry, opts.checks, opts.config));
+    }
+  } catch (err) {
+    if (isFatal(err)) throw err;
+    return readFailedFinding(err);
   }
+  return null;
 }
 
 /** Runs every check on one entry and locates the issues. */
@@ -97,8 +114,8 @@ function ruleTable(checks: readonly Check[]): Map<string, RuleInfo> {
   let t = ruleTables.get(checks);
   if (!t) {
     t = new Map();
+    for (const r of ANALYSIS_RULES) t.set(r.id, r);
     for (const c of checks) for (const r of c.rules) t.set(r.id, r);
-    t.set('check-failed', { id: 'check-failed', family: 'read', severity: 'error', summary: '' });
     ruleTables.set(checks, t);
   }
   return t;
@@ -153,8 +170,7 @@ export function abortError(): Error {
   return e;
 }
 
-/** A file that breaks off mid-read keeps what was read; the break itself becomes a finding. */
-export function readFailedFinding(err: unknown): Finding {
+function readFailedFinding(err: unknown): Finding {
   const msg = err instanceof Error ? err.message : String(err);
   return {
     rule: 'read-failed',

@@ -47,7 +47,7 @@ export class PanelViewProvider implements vscode.WebviewViewProvider {
     view.onDidDispose(() => {
       this.view = null;
     });
-    if (!this.doc && editors(this.editors)) this.doc = this.editors.active!.document;
+    this.doc ??= this.editors.active?.document ?? null;
   }
 
   show(doc: ShardDocument): void {
@@ -99,8 +99,4 @@ export class PanelViewProvider implements vscode.WebviewViewProvider {
     }
     void this.view.webview.postMessage(msg);
   }
-}
-
-function editors(p: RecordEditorProvider): boolean {
-  return p.active !== null;
 }

@@ -75,7 +75,7 @@ export class ShardDocument implements vscode.CustomDocument {
     });
     this.session = session;
     await session.start();
-    void this.analyze();
+    void this.analyze(false);
   }
 
   /** Copies a file from a non-file scheme into a temporary folder (never written back). */
@@ -96,12 +96,12 @@ export class ShardDocument implements vscode.CustomDocument {
   }
 
   /** Runs (or re-runs, after a settings change) the whole-file analysis with progress. */
-  async analyze(): Promise<void> {
+  async analyze(rereadSettings = true): Promise<void> {
     this.analysis?.abort();
     const ac = new AbortController();
     this.analysis = ac;
     const gen = ++this.generation;
-    this.settings = await settingsFor(this.uri);
+    if (rereadSettings) this.settings = await settingsFor(this.uri);
     this.tally = new ShardTally();
     this.byEntry = new Map();
     this.byId = new Map();

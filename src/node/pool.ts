@@ -1,13 +1,13 @@
-// Runs a whole-file analysis across worker threads (or in this thread when asked), streaming
-// outcomes and progress, cancellable.
+// Runs a whole-file analysis across worker threads, streaming outcomes and progress, cancellable.
+// The checks themselves load only in the workers (and in `inThread.ts` for the CLI's --workers 0),
+// so the extension host never parses them.
 
 import { availableParallelism } from 'node:os';
 import { join } from 'node:path';
 import { Worker } from 'node:worker_threads';
-import { abortError, analyzeSource, readFailedFinding, isFatal, type EntryOutcome, type Share } from '../engine/analyze.js';
-import { ALL_CHECKS } from '../engine/checks/index.js';
+import { abortError, type EntryOutcome, type Share } from '../engine/analyze.js';
 import type { CheckConfig } from '../engine/config.js';
-import { createSource, type OpenOptions } from '../engine/sources/index.js';
+import type { OpenOptions } from '../engine/sources/index.js';
 import type { Progress, SourceInfo } from '../engine/sources/source.js';
 import type { Finding } from '../engine/findings.js';
 import type { WorkerEvent, WorkerRequest } from './messages.js';
@@ -15,7 +15,7 @@ import type { WorkerEvent, WorkerRequest } from './messages.js';
 export interface AnalyzeFileOptions {
   config: CheckConfig;
   open?: OpenOptions;
-  /** Worker threads to use; 0 runs in this thread (tests, tiny files). */
+  /** Worker threads to use (at least 1). */
   workers?: number;
   /** Entries per block handed round-robin to the workers. */
   block?: number;
@@ -37,9 +37,10 @@ export function workerScriptPath(): string {
   return join(__dirname, 'worker.js');
 }
 
-export async function analyzeFile(path: string, options: AnalyzeFileOptions): Promise<void> {
+/** Passes each finding about the file as a whole on once, however many workers report it. */
+export function withFileFindingsOnce(options: AnalyzeFileOptions): AnalyzeFileOptions {
   const seen = new Set<string>();
-  const opts: AnalyzeFileOptions = {
+  return {
     ...options,
     onInfo: (info) => {
       options.onInfo?.(info);
@@ -52,8 +53,11 @@ export async function analyzeFile(path: string, options: AnalyzeFileOptions): Pr
       if (fresh.length) options.onFileFindings?.(fresh);
     },
   };
-  const workers = opts.workers ?? defaultWorkerCount();
-  if (workers <= 0) return analyzeHere(path, opts);
+}
+
+export async function analyzeFile(path: string, options: AnalyzeFileOptions): Promise<void> {
+  const opts = withFileFindingsOnce(options);
+  const workers = Math.max(1, opts.workers ?? defaultWorkerCount());
   const block = opts.block ?? 256;
   const shares: Share[] = Array.from({ length: workers }, (_, i) => ({ index: i, count: workers, block }));
   const progress = new Array<Progress | null>(workers).fill(null);
@@ -110,36 +114,5 @@ export async function analyzeFile(path: string, options: AnalyzeFileOptions): Pr
     );
   } finally {
     cleanup();
-  }
-}
-
-async function analyzeHere(path: string, opts: AnalyzeFileOptions): Promise<void> {
-  const source = createSource(path, opts.open ?? {});
-  try {
-    const info = await source.open(opts.signal);
-    opts.onInfo?.(info);
-    let batch: EntryOutcome[] = [];
-    let broke: Finding | null = null;
-    await analyzeSource(source, {
-      config: opts.config,
-      checks: ALL_CHECKS,
-      signal: opts.signal,
-      onProgress: opts.onProgress,
-      onOutcome: (o) => {
-        batch.push(o);
-        if (batch.length >= 500) {
-          opts.onOutcomes(batch);
-          batch = [];
-        }
-      },
-    }).catch((err) => {
-      if (isFatal(err)) throw err;
-      broke = readFailedFinding(err);
-    });
-    if (batch.length) opts.onOutcomes(batch);
-    const last = source.info();
-    opts.onInfo?.(broke ? { ...last, findings: [...last.findings, broke] } : last);
-  } finally {
-    await source.close().catch(() => undefined);
   }
 }

@@ -2,8 +2,7 @@
 // so the extension host's main thread never parses, indexes or tokenizes.
 
 import { parentPort } from 'node:worker_threads';
-import { analyzeSource, readFailedFinding, isFatal, type EntryOutcome } from '../engine/analyze.js';
-import type { Finding } from '../engine/findings.js';
+import { analyzeSource, type EntryOutcome } from '../engine/analyze.js';
 import { ALL_CHECKS } from '../engine/checks/index.js';
 import { turnTokenCounts } from '../engine/checks/tokens.js';
 import { loadTokenCounter } from '../engine/tokens/counter.js';
@@ -17,7 +16,6 @@ if (!port) throw new Error('worker.ts must run in a worker thread');
 
 const running = new Map<number, AbortController>();
 let session: RecordSource | null = null;
-let indexing: Promise<unknown> | null = null;
 
 function post(ev: WorkerEvent): void {
   port!.postMessage(ev);
@@ -48,8 +46,7 @@ async function handle(req: WorkerRequest): Promise<void> {
           batch = [];
           last = Date.now();
         };
-        let broke: Finding | null = null;
-        await analyzeSource(source, {
+        const broke = await analyzeSource(source, {
           config: req.config,
           checks: ALL_CHECKS,
           signal: ac.signal,
@@ -59,17 +56,14 @@ async function handle(req: WorkerRequest): Promise<void> {
             batch.push(o);
             if (batch.length >= 500 || Date.now() - last > 200) flush();
           },
-        }).catch((err) => {
-          if (isFatal(err)) throw err;
-          broke = readFailedFinding(err);
         });
         flush();
-        if (broke) {
-          const info = source.info();
-          post({ id: req.id, kind: 'info', info: { ...info, findings: [...info.findings, broke] } });
+        // Findings about the file itself (a corrupt compressed stream, a read that broke off) are
+        // known only after the pass; the pool keeps each once.
+        if (broke || req.share.index === 0) {
+          const after = source.info();
+          post({ id: req.id, kind: 'info', info: broke ? { ...after, findings: [...after.findings, broke] } : after });
         }
-        // Findings about the file itself (a corrupt compressed stream) are known only after the pass.
-        if (req.share.index === 0) post({ id: req.id, kind: 'info', info: source.info() });
         post({ id: req.id, kind: 'done' });
       } finally {
         running.delete(req.id);
@@ -84,7 +78,7 @@ async function handle(req: WorkerRequest): Promise<void> {
       const info = await session.open(ac.signal);
       post({ id: req.id, kind: 'info', info });
       let lastPost = 0;
-      indexing = session
+      void session
         .index({
           signal: ac.signal,
           onProgress: (progress) => {
@@ -125,4 +119,3 @@ async function handle(req: WorkerRequest): Promise<void> {
   }
 }
 
-void indexing;
