@@ -1,6 +1,8 @@
 // `shardwise check FILE...`: the same engine as the editor, for CI. Exit 0 = no error findings,
 // 1 = at least one error finding, 2 = bad usage or a file that cannot be opened.
 
+import { LAYOUT_IDS } from '../engine/layouts/index.js';
+import type { LayoutFields } from '../engine/layouts/layout.js';
 import { readFileSync, statSync, accessSync, constants } from 'node:fs';
 import { ENCODINGS, withDefaults, type CheckConfig, type EncodingName } from '../engine/config.js';
 import { formatOf, supportedEndings } from '../engine/sources/index.js';
@@ -24,6 +26,11 @@ Options:
   --context N            context length in tokens; longer records are findings (default 8192)
   --format text|json     output format (default text)
   --text-field NAME      field holding a plain record's text (repeatable; default: text, content, document, body, passage)
+  --layout ID            how records are read: auto (decided from the shard's first records) or one of
+                         ${LAYOUT_IDS.join(', ')}
+  --turns-field NAME     a key holding a list of turns, tried before messages/conversations/conversation/dialog (repeatable)
+  --role-field NAME      a turn key holding the role, tried before role/from (repeatable)
+  --content-field NAME   a turn key holding the content, tried before content/value/text (repeatable)
   --roles LIST           allowed chat roles, comma-separated (default system,user,assistant,tool)
   --allow-repeated-roles do not report the same role twice in a row
   --require-conversation auto|always|never
@@ -53,6 +60,8 @@ export function parseArgs(argv: string[]): Args | 'help' {
   const files: string[] = [];
   const partial: Partial<CheckConfig> = {};
   const textFields: string[] = [];
+  let layoutId = 'auto';
+  const layoutFields: LayoutFields = {};
   let format = 'text';
   let workers = defaultWorkerCount();
   let schemaPath: string | null = null;
@@ -91,6 +100,21 @@ export function parseArgs(argv: string[]): Args | 'help' {
       case '--text-field':
         textFields.push(value());
         break;
+      case '--layout': {
+        const v = value();
+        if (v !== 'auto' && !LAYOUT_IDS.includes(v)) throw new UsageError(`unknown layout "${v}" (auto or one of ${LAYOUT_IDS.join(', ')})`);
+        layoutId = v;
+        break;
+      }
+      case '--turns-field':
+        (layoutFields.turns ??= []).push(value());
+        break;
+      case '--role-field':
+        (layoutFields.role ??= []).push(value());
+        break;
+      case '--content-field':
+        (layoutFields.content ??= []).push(value());
+        break;
       case '--roles':
         roles = value().split(',').map((s) => s.trim()).filter(Boolean);
         break;
@@ -116,6 +140,7 @@ export function parseArgs(argv: string[]): Args | 'help' {
   }
   if (files.length === 0) throw new UsageError('no file given (try: shardwise check FILE...)');
   if (textFields.length) partial.textFields = textFields;
+  partial.layout = { id: layoutId, fields: layoutFields };
   const config = withDefaults(partial);
   if (roles) config.chat.roles = roles;
   config.chat.allowRepeatedRoles = allowRepeated;
@@ -169,6 +194,10 @@ function checkReadable(path: string): void {
   if (!formatOf(path)) throw new FileError(`${path}: not a shard Shardwise reads (expected one of ${supportedEndings().join(', ')})`);
 }
 
+function round4(x: number): number {
+  return Math.round(x * 10000) / 10000;
+}
+
 export async function run(argv: string[], out: NodeJS.WritableStream, err: NodeJS.WritableStream): Promise<number> {
   let args: Args | 'help';
   try {
@@ -218,6 +247,8 @@ export async function run(argv: string[], out: NodeJS.WritableStream, err: NodeJ
       path,
       format: formatName,
       records: tally.records,
+      layout: tally.layout()?.id ?? null,
+      layoutShare: round4(tally.layout()?.share ?? 0),
       tokens: tally.tokenSummary(config.encoding, config.contextLength),
       findings: tally.sortedFindings().map((f) => ({
         rule: f.rule,

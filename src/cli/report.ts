@@ -9,6 +9,10 @@ export interface FileReport {
   path: string;
   format: FormatName;
   records: number;
+  /** The layout that read the shard's records (`turns`, `preference` …), null when none did. */
+  layout: string | null;
+  /** Share of the records the shard's layout read (0..1). */
+  layoutShare: number;
   tokens: TokenSummary;
   findings: Pick<Finding, 'rule' | 'family' | 'severity' | 'message' | 'record' | 'line' | 'column' | 'pointer'>[];
 }

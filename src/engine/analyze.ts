@@ -12,7 +12,15 @@ import { settleConfig } from './stats/shape.js';
 export interface EntryOutcome {
   entry: number;
   record: number | null;
+  /** Content tokens of the record (every piece of text counted on its own). */
   tokens: number | null;
+  /** The record's longest sequence in tokens (equal to `tokens` where a record is one sequence). */
+  length?: number | null;
+  /** Content tokens on the prompt side and on the response side. */
+  prompt?: number | null;
+  response?: number | null;
+  /** The layout that read the record. */
+  layout?: string | null;
   kind: 'record' | 'blank' | 'invalid';
   findings: Finding[];
 }
@@ -106,7 +114,17 @@ export function analyzeEntry(entry: Entry, checks: readonly Check[], config: Che
   }
   const rules = ruleTable(checks);
   for (const issue of result.issues) findings.push(locateIssue(entry, issue, rules.get(issue.rule)));
-  return { entry: entry.entry, record: entry.record, tokens: result.tokens ?? null, kind, findings };
+  return {
+    entry: entry.entry,
+    record: entry.record,
+    tokens: result.tokens ?? null,
+    length: result.length ?? result.tokens ?? null,
+    prompt: result.prompt ?? null,
+    response: result.response ?? null,
+    layout: result.layout ?? null,
+    kind,
+    findings,
+  };
 }
 
 const ruleTables = new WeakMap<readonly Check[], Map<string, RuleInfo>>();

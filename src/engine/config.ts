@@ -1,3 +1,5 @@
+import type { LayoutConfig } from './layouts/layout.js';
+
 // Settings the checks read. The host maps VS Code settings onto this; the CLI maps flags onto it.
 
 export type EncodingName = 'cl100k_base' | 'o200k_base';
@@ -23,6 +25,12 @@ export interface SchemaConfig {
 }
 
 export interface CheckConfig {
+  /** Which layout reads the records ('auto' = decided per shard) and the user's field names. */
+  layout: LayoutConfig;
+  /** The layout settled for this shard from its first records (set by the analysis, not by users). */
+  shardLayout?: string | null;
+  /** The shard's folder, where relative media paths are looked for (set by the analysis). */
+  baseDir?: string | null;
   encoding: EncodingName;
   /** Records with more tokens than this overflow the context window. */
   contextLength: number;
@@ -35,6 +43,7 @@ export interface CheckConfig {
 }
 
 export const DEFAULT_CONFIG: CheckConfig = {
+  layout: { id: 'auto', fields: {} },
   encoding: 'cl100k_base',
   contextLength: 8192,
   textFields: ['text', 'content', 'document', 'body', 'passage'],
@@ -48,5 +57,6 @@ export function withDefaults(partial: Partial<CheckConfig> = {}): CheckConfig {
     ...DEFAULT_CONFIG,
     ...partial,
     chat: { ...DEFAULT_CONFIG.chat, ...(partial.chat ?? {}) },
+    layout: { ...DEFAULT_CONFIG.layout, ...(partial.layout ?? {}), fields: { ...(partial.layout?.fields ?? {}) } },
   };
 }

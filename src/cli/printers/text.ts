@@ -17,9 +17,10 @@ export const textPrinter: Printer = {
       const sev = x.bySeverity;
       out.write(
         `${file.path}: ${file.format}, ${file.records} records` +
+          (file.layout ? ` (layout ${file.layout}, ${Math.round(file.layoutShare * 1000) / 10}% of records)` : '') +
           (x.blankLines ? `, ${x.blankLines} blank lines` : '') +
           (x.invalidLines ? `, ${x.invalidLines} unreadable entries` : '') +
-          `; ${t.total} tokens (${t.encoding}; per record p50 ${t.p50}, p90 ${t.p90}, p99 ${t.p99}, max ${t.max});` +
+          `; ${t.total} content tokens (${t.encoding}; prompt ${t.prompt}, response ${t.response}; per record p50 ${t.p50}, p90 ${t.p90}, p99 ${t.p99}, max ${t.max});` +
           ` ${t.overContext} over ${t.contextLength}` +
           `; ${sev.error} errors, ${sev.warning} warnings, ${sev.info} notes\n`,
       );

@@ -4,16 +4,12 @@
 import type { CheckConfig } from '../config.js';
 import type { RecordIssue, RuleInfo } from '../findings.js';
 import type { Check, RecordResult, RecordUnderCheck } from './check.js';
-import {
-  extractConversation,
-  extractPair,
-  hasNonTextPart,
-  isPairRecord,
-  isPlainObject,
-  rawContent,
-  type Conversation,
-  type Turn,
-} from './conversation.js';
+import { readRecord } from '../layouts/index.js';
+import type { LTurn, TurnList } from '../layouts/layout.js';
+import { kindOf } from '../layouts/sides.js';
+import { isPlainObject } from '../layouts/turnReader.js';
+
+type Turn = LTurn;
 
 export const CHAT_RULES: RuleInfo[] = [
   { id: 'chat-turns-not-list', family: 'chat', severity: 'error', summary: 'The conversation field is not a list of turns, or is misspelt.' },
@@ -34,20 +30,14 @@ const NEAR_MISS_KEYS = new Map<string, string>([
   ['messages', 'messages'],
   ['message', 'messages'],
   ['conversations', 'conversations'],
-  ['conversation', 'conversations'],
+  ['conversation', 'conversation'],
+  ['dialog', 'dialog'],
 ]);
 
 /** Quotes untrusted text for a message: JSON escaping keeps control characters and newlines visible. */
 function q(text: string, max = 40): string {
   const cut = text.length > max ? `${text.slice(0, max)}…` : text;
   return JSON.stringify(cut);
-}
-
-function kindOf(value: unknown): string {
-  if (value === null) return 'null';
-  if (Array.isArray(value)) return 'a list';
-  if (typeof value === 'object') return 'an object';
-  return `a ${typeof value}`;
 }
 
 /**
@@ -76,7 +66,7 @@ export function checkTurnShapes(turns: readonly Turn[], rawTurns: readonly unkno
       out.push({ rule: 'chat-turn-not-object', message: `turn ${turn.index} is ${kindOf(rawTurns[turn.index])}, not an object`, pointer: turn.pointer });
       continue;
     }
-    const roleKeyPointer = rolePointer(turn, rawTurns[turn.index]);
+    const roleKeyPointer = turn.rolePointer;
     if (turn.role === null) {
       out.push({
         rule: 'chat-role-missing',
@@ -95,22 +85,17 @@ export function checkTurnShapes(turns: readonly Turn[], rawTurns: readonly unkno
         pointer: roleKeyPointer,
       });
     }
-    checkContent(turn, rawTurns[turn.index], out);
+    checkContent(turn, out);
   }
 }
 
-function rolePointer(turn: Turn, raw: unknown): string {
-  const key = isPlainObject(raw) && !Object.prototype.hasOwnProperty.call(raw, 'role') && Object.prototype.hasOwnProperty.call(raw, 'from') ? 'from' : 'role';
-  return `${turn.pointer}/${key}`;
-}
-
-function checkContent(turn: Turn, raw: unknown, out: RecordIssue[]): void {
+function checkContent(turn: Turn, out: RecordIssue[]): void {
   if (turn.text.trim() !== '') return;
-  const content = rawContent(raw);
+  const content = { present: turn.contentPresent, value: turn.rawContent };
   // An assistant turn that only calls tools has no text by design.
   if (turn.hasToolCalls && turn.role === 'assistant') return;
-  // An image or audio part is content even without text.
-  if (hasNonTextPart(content.value)) return;
+  // An image or audio part, or reasoning, is content even without text; an unknown part is reported on its own.
+  if (turn.parts.some((p) => p.kind !== 'text' && !(p.kind === 'reasoning' && p.text.trim() === ''))) return;
   let what: string;
   if (!content.present) what = 'has no content';
   else if (content.value === null) what = 'has null content';
@@ -186,55 +171,44 @@ function checkToolOrphans(turns: readonly Turn[], out: RecordIssue[]): void {
   }
 }
 
-/** Every chat rule on one conversation. */
-export function checkConversation(conv: Conversation, record: unknown, config: CheckConfig, out: RecordIssue[]): void {
-  const list = (record as Record<string, unknown>)[conv.field];
-  if (!Array.isArray(list)) {
-    out.push({ rule: 'chat-turns-not-list', message: `"${conv.field}" is ${kindOf(list)}, not a list of turns`, pointer: conv.pointer });
-    return;
+/** Every chat rule on one turn list: its shape, each turn, and (for a whole example) the order. */
+export function checkTurnList(list: TurnList, config: CheckConfig, out: RecordIssue[]): void {
+  if (list.role === 'example') {
+    if (!Array.isArray(list.raw)) {
+      out.push({ rule: 'chat-turns-not-list', message: `"${list.name}" is ${kindOf(list.raw)}, not a list of turns`, pointer: list.pointer });
+      return;
+    }
+    if (list.raw.length === 0) {
+      out.push({ rule: 'chat-turns-empty', message: `"${list.name}" is an empty list`, pointer: list.pointer });
+      return;
+    }
   }
-  if (list.length === 0) {
-    out.push({ rule: 'chat-turns-empty', message: `"${conv.field}" is an empty list`, pointer: conv.pointer });
-    return;
-  }
-  checkTurnShapes(conv.turns, list, config, out);
-  checkTurnOrder(conv.turns, config, out);
-}
-
-/** Turn lists inside a preference pair get the per-turn rules; answers must end with the assistant. */
-function checkPairTurns(record: unknown, config: CheckConfig, out: RecordIssue[]): void {
-  const pair = extractPair(record, config);
-  if (pair === null) return;
-  for (const [name, side] of [['prompt', pair.prompt], ['chosen', pair.chosen], ['rejected', pair.rejected]] as const) {
-    if (side === null || side.turns === null) continue;
-    const raw = (record as Record<string, unknown>)[name];
-    const rawTurns = Array.isArray(raw) ? raw : [raw];
-    checkTurnShapes(side.turns, rawTurns, config, out);
-    if (name !== 'prompt') checkLastIsAssistant(side.turns, config, out);
-  }
+  const rawTurns = Array.isArray(list.raw) ? list.raw : [list.raw];
+  checkTurnShapes(list.turns, rawTurns, config, out);
+  if (list.role === 'example') checkTurnOrder(list.turns, config, out);
+  else if (list.role === 'answer') checkLastIsAssistant(list.turns, config, out);
 }
 
 export const chatCheck: Check = {
   name: 'chat',
   rules: CHAT_RULES,
   checkRecord(rec: RecordUnderCheck, config: CheckConfig, out: RecordResult): void {
-    const conv = extractConversation(rec.value, config);
-    if (conv !== null) {
-      checkConversation(conv, rec.value, config, out.issues);
+    const reading = readRecord(rec.value, config);
+    if (reading !== null && reading.turnLists.length > 0) {
+      for (const list of reading.turnLists) checkTurnList(list, config, out.issues);
       return;
     }
-    if (isPairRecord(rec.value)) checkPairTurns(rec.value, config, out.issues);
-    else {
-      const before = out.issues.length;
-      checkMissingField(rec.value, out.issues);
-      // In a chat shard, a record with no conversation at all is a broken record, not a plain one.
-      if (out.issues.length === before && config.chat.requireConversation === true && isPlainObject(rec.value)) {
-        out.issues.push({
-          rule: 'chat-turns-not-list',
-          message: 'no conversation: this shard holds conversations ("messages" or "conversations"), but this record has neither',
-          pointer: '',
-        });
-      }
+    // A record some layout reads without turns (a string pair, an instruction) is not a chat record.
+    if (reading !== null && reading.layout !== 'text') return;
+    const before = out.issues.length;
+    checkMissingField(rec.value, out.issues);
+    // In a chat shard, a record with no conversation at all is a broken record, not a plain one.
+    if (out.issues.length === before && config.chat.requireConversation === true && isPlainObject(rec.value)) {
+      out.issues.push({
+        rule: 'chat-turns-not-list',
+        message: 'no conversation: this shard holds conversations ("messages", "conversations", "conversation" or "dialog"), but this record has none',
+        pointer: '',
+      });
     }
   },
 };

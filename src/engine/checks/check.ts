@@ -12,8 +12,15 @@ export interface RecordUnderCheck {
 
 export interface RecordResult {
   issues: RecordIssue[];
-  /** Set by the tokens check: the record's token count. */
+  /** Set by the tokens check: the record's content tokens (every piece of text on its own, summed). */
   tokens?: number;
+  /** Set by the tokens check: the record's longest sequence in tokens (what the context check judges). */
+  length?: number;
+  /** Set by the tokens check: content tokens on the prompt side and on the response side. */
+  prompt?: number;
+  response?: number;
+  /** Set by the analysis: the layout that read the record. */
+  layout?: string;
 }
 
 export interface Check {

@@ -2,8 +2,9 @@
 
 import type { Check } from './check.js';
 import { chatCheck } from './chat.js';
+import { layoutCheck } from './layout.js';
 import { pairCheck } from './pairs.js';
 import { schemaCheck } from './schema.js';
 import { tokensCheck } from './tokens.js';
 
-export const ALL_CHECKS: readonly Check[] = [chatCheck, pairCheck, schemaCheck, tokensCheck];
+export const ALL_CHECKS: readonly Check[] = [layoutCheck, chatCheck, pairCheck, schemaCheck, tokensCheck];

@@ -4,7 +4,12 @@
 import type { CheckConfig } from '../config.js';
 import type { RecordIssue, RuleInfo } from '../findings.js';
 import type { Check, RecordResult, RecordUnderCheck } from './check.js';
-import { extractPair, isPlainObject, type PairSide, type Turn } from './conversation.js';
+import { readRecord } from '../layouts/index.js';
+import type { LTurn, PairSide } from '../layouts/layout.js';
+import { kindOf } from '../layouts/sides.js';
+import { isPlainObject } from '../layouts/turnReader.js';
+
+type Turn = LTurn;
 
 export const PAIR_RULES: RuleInfo[] = [
   { id: 'pair-side-missing', family: 'chat', severity: 'error', summary: 'A preference pair lacks its prompt, chosen or rejected side.' },
@@ -20,13 +25,6 @@ export function normaliseText(text: string): string {
   return text.trim().replace(/\s+/g, ' ');
 }
 
-function kindOf(value: unknown): string {
-  if (value === null) return 'null';
-  if (Array.isArray(value)) return 'a list';
-  if (typeof value === 'object') return 'an object';
-  return `a ${typeof value}`;
-}
-
 /** Stable JSON for comparing tool calls: key order must not make two equal calls differ. */
 function stableJson(value: unknown): string {
   if (Array.isArray(value)) return `[${value.map(stableJson).join(',')}]`;
@@ -39,14 +37,22 @@ function stableJson(value: unknown): string {
   return JSON.stringify(value) ?? 'undefined';
 }
 
-function turnSignature(turn: Turn, raw: unknown): string {
-  const calls = isPlainObject(raw) ? stableJson(raw.tool_calls ?? raw.function_call ?? null) : 'null';
+function turnSignature(turn: Turn): string {
+  const calls = turn.parts
+    .filter((p) => p.kind === 'tool-call')
+    .map((p) => (p.kind === 'tool-call' ? stableJson({ name: p.name, arguments: parseMaybe(p.arguments) }) : ''))
+    .join(',');
   return `${turn.role ?? '?'}\u0000${normaliseText(turn.text)}\u0000${calls}`;
 }
 
-function rawTurnsOf(record: Record<string, unknown>, name: SideName): unknown[] {
-  const raw = record[name];
-  return Array.isArray(raw) ? raw : [raw];
+/** Arguments written as a JSON string compare equal to the same object written out. */
+function parseMaybe(v: unknown): unknown {
+  if (typeof v !== 'string') return v;
+  try {
+    return JSON.parse(v);
+  } catch {
+    return v;
+  }
 }
 
 /** The prompt part of a whole conversation: every turn up to and including the last user turn. */
@@ -56,7 +62,9 @@ export function promptTurnCount(turns: readonly Turn[]): number {
   return Math.max(0, turns.length - 1);
 }
 
-function sideIsEmpty(name: SideName, side: PairSide, raw: unknown, out: RecordIssue[]): boolean {
+function sideIsEmpty(side: PairSide, out: RecordIssue[]): boolean {
+  const name = side.pointer.slice(1);
+  const raw = side.raw;
   if (side.turns !== null) {
     if (side.turns.length === 0) {
       out.push({ rule: 'pair-side-empty', message: `"${name}" is an empty list of turns`, pointer: side.pointer });
@@ -77,37 +85,35 @@ function sideIsEmpty(name: SideName, side: PairSide, raw: unknown, out: RecordIs
 }
 
 /** Signatures of the part of a side that is the answer, for comparing chosen with rejected. */
-function answerSignatures(side: PairSide, rawTurns: unknown[], otherHasTurns: boolean): string[] {
-  if (side.turns === null) return [`assistant\u0000${normaliseText(side.text)}\u0000null`];
+function answerSignatures(side: PairSide, otherHasTurns: boolean): string[] {
+  if (side.turns === null) return [`assistant\u0000${normaliseText(side.text ?? '')}\u0000`];
   // Both sides are turn lists: the whole lists are compared. Text against turns: the final turn is.
   const turns = otherHasTurns ? side.turns : side.turns.slice(-1);
-  return turns.map((t) => turnSignature(t, rawTurns[t.index]));
+  return turns.map((t) => turnSignature(t));
 }
 
 export function checkPair(record: unknown, config: CheckConfig, out: RecordIssue[]): void {
-  const pair = extractPair(record, config);
-  if (pair === null || !isPlainObject(record)) return;
+  const pair = readRecord(record, config)?.pair;
+  if (pair === undefined || !isPlainObject(record)) return;
   const { prompt, chosen, rejected } = pair;
 
   // A prompt may be left out only when both answers are conversations that carry their own prompt turns.
   const promptInSides =
-    chosen?.turns != null && rejected?.turns != null && promptTurnCount(chosen.turns) > 0 && promptTurnCount(rejected.turns) > 0;
-  if (prompt === null && !promptInSides) {
+    chosen.turns !== null && rejected.turns !== null && promptTurnCount(chosen.turns) > 0 && promptTurnCount(rejected.turns) > 0;
+  if (!prompt.present && !promptInSides) {
     out.push({ rule: 'pair-side-missing', message: 'preference pair has no "prompt", and its answers do not carry the prompt turns', pointer: '' });
   }
-  if (chosen === null) out.push({ rule: 'pair-side-missing', message: 'preference pair has no "chosen" answer', pointer: '' });
-  if (rejected === null) out.push({ rule: 'pair-side-missing', message: 'preference pair has no "rejected" answer', pointer: '' });
+  if (!chosen.present) out.push({ rule: 'pair-side-missing', message: 'preference pair has no "chosen" answer', pointer: '' });
+  if (!rejected.present) out.push({ rule: 'pair-side-missing', message: 'preference pair has no "rejected" answer', pointer: '' });
 
   const empty = new Set<SideName>();
-  for (const [name, side] of [['prompt', prompt], ['chosen', chosen], ['rejected', rejected]] as const) {
-    if (side !== null && sideIsEmpty(name, side, record[name], out)) empty.add(name);
+  for (const side of [prompt, chosen, rejected]) {
+    if (side.present && sideIsEmpty(side, out)) empty.add(side.name);
   }
-  if (chosen === null || rejected === null || empty.has('chosen') || empty.has('rejected')) return;
+  if (!chosen.present || !rejected.present || empty.has('chosen') || empty.has('rejected')) return;
 
-  const chosenRaw = rawTurnsOf(record, 'chosen');
-  const rejectedRaw = rawTurnsOf(record, 'rejected');
-  const a = answerSignatures(chosen, chosenRaw, rejected.turns !== null);
-  const b = answerSignatures(rejected, rejectedRaw, chosen.turns !== null);
+  const a = answerSignatures(chosen, rejected.turns !== null);
+  const b = answerSignatures(rejected, chosen.turns !== null);
   if (a.length === b.length && a.every((s, i) => s === b[i])) {
     out.push({ rule: 'pair-identical', message: 'the chosen and rejected answers are the same (ignoring white space)', pointer: rejected.pointer });
   }
@@ -115,19 +121,16 @@ export function checkPair(record: unknown, config: CheckConfig, out: RecordIssue
   if (chosen.turns !== null && rejected.turns !== null) {
     const nc = promptTurnCount(chosen.turns);
     const nr = promptTurnCount(rejected.turns);
+    const names = `"${chosen.pointer.slice(1)}" has ${nc} prompt turn${nc === 1 ? '' : 's'} but "${rejected.pointer.slice(1)}" has ${nr}`;
     if (nc !== nr) {
-      out.push({
-        rule: 'pair-prompt-mismatch',
-        message: `"chosen" has ${nc} prompt turn${nc === 1 ? '' : 's'} but "rejected" has ${nr}`,
-        pointer: rejected.pointer,
-      });
+      out.push({ rule: 'pair-prompt-mismatch', message: names, pointer: rejected.pointer });
       return;
     }
     for (let i = 0; i < nc; i++) {
       const ct = chosen.turns[i];
       const rt = rejected.turns[i];
-      if (turnSignature(ct, chosenRaw[i]) !== turnSignature(rt, rejectedRaw[i])) {
-        out.push({ rule: 'pair-prompt-mismatch', message: `prompt turn ${i} differs between "chosen" and "rejected"`, pointer: rt.pointer });
+      if (turnSignature(ct) !== turnSignature(rt)) {
+        out.push({ rule: 'pair-prompt-mismatch', message: `prompt turn ${i} differs between "${chosen.pointer.slice(1)}" and "${rejected.pointer.slice(1)}"`, pointer: rt.pointer });
         return;
       }
     }

@@ -2,17 +2,19 @@
 // overflow the context window, and text that spells a special token.
 
 import type { CheckConfig } from '../config.js';
-import { joinPointer, type RecordIssue, type RuleInfo } from '../findings.js';
+import type { RecordIssue, RuleInfo } from '../findings.js';
 import { findChatMarkerText, findSpecialTokenText, getTokenCounter, loadTokenCounter, type TokenCounter } from '../tokens/counter.js';
 import type { Check, RecordResult, RecordUnderCheck } from './check.js';
-import { extractConversation, extractPair, isPlainObject, type PairSide, type Turn } from './conversation.js';
+import { readRecord } from '../layouts/index.js';
+import type { Reading, TextPiece } from '../layouts/layout.js';
+import { isPlainObject } from '../layouts/turnReader.js';
 
 export const TOKENS_RULES: RuleInfo[] = [
   {
     id: 'tokens-over-context',
     family: 'tokens',
     severity: 'warning',
-    summary: 'The record has more tokens than the configured context length.',
+    summary: 'The record (its longest sequence: for a pair, prompt + chosen or prompt + rejected) has more tokens than the context length.',
   },
   {
     id: 'tokens-special-text',
@@ -28,74 +30,73 @@ export const TOKENS_RULES: RuleInfo[] = [
   },
 ];
 
-/** One piece of a record's text and where it sits. */
-export interface TextUnit {
-  /** Pointer to the string (or list of parts) holding the text. */
-  pointer: string;
-  /** Pointer to the turn (chat records and turn-list pair sides), else the same as `pointer`. */
-  turnPointer: string;
-  role: string | null;
-  text: string;
+/** Token figures of one record. */
+export interface RecordTokens {
+  /** Content tokens: every piece of text counted on its own, summed. */
+  content: number;
+  /** Content tokens on the prompt side and the response side. */
+  prompt: number;
+  response: number;
+  /** The longest sequence a trainer feeds (a pair: prompt + chosen or prompt + rejected). */
+  length: number;
+  /** Name of that sequence. */
+  longest: string;
 }
 
-function turnUnit(turn: Turn): TextUnit {
-  return { pointer: turn.contentPointer, turnPointer: turn.pointer, role: turn.role, text: turn.text };
-}
-
-function sideUnits(side: PairSide | null): TextUnit[] {
-  if (side === null) return [];
-  // Sides made of turns are counted turn by turn, so the joining newlines add nothing.
-  if (side.turns !== null) return side.turns.map(turnUnit);
-  return [{ pointer: side.pointer, turnPointer: side.pointer, role: null, text: side.text }];
-}
-
-/**
- * The text a record is counted by: a chat record's turns; a preference pair's prompt, chosen and
- * rejected; else the first of `config.textFields` holding a string; else every top-level string
- * (layouts such as prompt/completion, common practice). Null when the record holds no text at all.
- */
-export function textUnits(value: unknown, config: CheckConfig): TextUnit[] | null {
-  const conversation = extractConversation(value, config);
-  if (conversation !== null) return conversation.turns.map(turnUnit);
-  const pair = extractPair(value, config);
-  if (pair !== null) return [...sideUnits(pair.prompt), ...sideUnits(pair.chosen), ...sideUnits(pair.rejected)];
-  if (typeof value === 'string') return [{ pointer: '', turnPointer: '', role: null, text: value }];
-  if (!isPlainObject(value)) return null;
-  for (const field of config.textFields) {
-    const text = Object.prototype.hasOwnProperty.call(value, field) ? value[field] : undefined;
-    if (typeof text === 'string') {
-      const pointer = joinPointer('', field);
-      return [{ pointer, turnPointer: pointer, role: null, text }];
+/** Counts every piece and sequence of a reading. Needs the encoding loaded. */
+export function countReading(reading: Reading, counter: TokenCounter): RecordTokens & { perPiece: number[] } {
+  const perPiece = reading.pieces.map((p) => counter.count(p.text));
+  let content = 0;
+  let prompt = 0;
+  reading.pieces.forEach((p, i) => {
+    content += perPiece[i];
+    if (p.side === 'prompt') prompt += perPiece[i];
+  });
+  let length = 0;
+  let longest = reading.sequences[0]?.name ?? 'record';
+  for (const seq of reading.sequences) {
+    let n = 0;
+    for (const i of seq.pieces) n += perPiece[i];
+    if (n > length) {
+      length = n;
+      longest = seq.name;
     }
   }
-  const units: TextUnit[] = [];
-  for (const [key, text] of Object.entries(value)) {
-    if (typeof text !== 'string') continue;
-    const pointer = joinPointer('', key);
-    units.push({ pointer, turnPointer: pointer, role: null, text });
-  }
-  return units.length > 0 ? units : null;
+  return { content, prompt, response: content - prompt, length, longest, perPiece };
 }
 
 /** Token count of each turn (or text field) of a record, for the detail pane. Needs the encoding loaded. */
 export function turnTokenCounts(value: unknown, config: CheckConfig): { pointer: string; role: string | null; tokens: number }[] {
   const counter = getTokenCounter(config.encoding);
-  return (textUnits(value, config) ?? []).map((u) => ({ pointer: u.turnPointer, role: u.role, tokens: counter.count(u.text) }));
+  const reading = readRecord(value, config);
+  if (reading === null) return [];
+  const { perPiece } = countReading(reading, counter);
+  // A turn's count is the sum of its pieces: every piece pointer starts with its turn's pointer.
+  const out: { pointer: string; role: string | null; tokens: number }[] = [];
+  const turns = reading.turnLists.flatMap((l) => l.turns);
+  const seen = new Set<string>();
+  for (const t of turns) {
+    if (seen.has(t.pointer)) continue;
+    seen.add(t.pointer);
+    let n = 0;
+    reading.pieces.forEach((p, i) => {
+      if (p.pointer === t.pointer || p.pointer.startsWith(t.pointer + '/')) n += perPiece[i];
+    });
+    out.push({ pointer: t.pointer, role: t.role, tokens: n });
+  }
+  reading.pieces.forEach((p, i) => {
+    if (!turns.some((t) => p.pointer === t.pointer || p.pointer.startsWith(t.pointer + '/'))) out.push({ pointer: p.pointer, role: null, tokens: perPiece[i] });
+  });
+  return out;
 }
 
-/** The record's token count: the sum over its text units (0 when it holds none). Needs the encoding loaded. */
+/** The record's content-token count (0 when it holds no text). Needs the encoding loaded. */
 export function recordTokenCount(value: unknown, config: CheckConfig): number {
-  const counter = getTokenCounter(config.encoding);
-  return sumCounts(counter, textUnits(value, config) ?? []);
+  const reading = readRecord(value, config);
+  return reading === null ? 0 : countReading(reading, getTokenCounter(config.encoding)).content;
 }
 
-function sumCounts(counter: TokenCounter, units: readonly TextUnit[]): number {
-  let total = 0;
-  for (const u of units) total += counter.count(u.text);
-  return total;
-}
-
-function specialTextIssue(unit: TextUnit, config: CheckConfig): RecordIssue | null {
+function specialTextIssue(unit: TextPiece, config: CheckConfig): RecordIssue | null {
   const hits = findSpecialTokenText(unit.text, config.encoding);
   if (hits.length === 0) {
     const markers = findChatMarkerText(unit.text);
@@ -131,24 +132,28 @@ export const tokensCheck: Check = {
 
   checkRecord(rec: RecordUnderCheck, config: CheckConfig, out: RecordResult): void {
     const counter = getTokenCounter(config.encoding);
-    const units = textUnits(rec.value, config);
-    if (units === null) {
+    const reading = readRecord(rec.value, config);
+    if (reading === null) {
       out.tokens = 0;
       // A value that is not an object is already a record-not-object finding: one finding per fault.
       if (isPlainObject(rec.value)) out.issues.push({ rule: 'tokens-no-text', message: 'No text to count: the record has no turns, no pair sides and no string field.', pointer: '' });
       return;
     }
-    const total = sumCounts(counter, units);
-    out.tokens = total;
-    if (total > config.contextLength) {
+    const t = countReading(reading, counter);
+    out.tokens = t.content;
+    out.length = t.length;
+    out.prompt = t.prompt;
+    out.response = t.response;
+    if (t.length > config.contextLength) {
+      const which = reading.sequences.length > 1 ? ` in its longest sequence (${t.longest})` : '';
       out.issues.push({
         rule: 'tokens-over-context',
-        message: `The record has ${total} tokens (${config.encoding}), more than the context length of ${config.contextLength}.`,
+        message: `The record has ${t.length} tokens${which} (${config.encoding}), more than the context length of ${config.contextLength}.`,
         pointer: '',
       });
     }
-    for (const unit of units) {
-      const issue = specialTextIssue(unit, config);
+    for (const piece of reading.pieces) {
+      const issue = specialTextIssue(piece, config);
       if (issue) out.issues.push(issue);
     }
   },

@@ -54,7 +54,11 @@ export function tokenStats(counts: ArrayLike<number>, n: number, contextLength: 
 /** Token statistics of a shard as every presenter shows them (the CLI document's `tokens`). */
 export interface TokenSummary {
   encoding: string;
+  /** Content tokens of the shard: every piece of text of every record, each counted on its own. */
   total: number;
+  /** Content tokens on the prompt side (conditioned on) and on the response side (trained on). */
+  prompt: number;
+  response: number;
   max: number;
   p50: number;
   p90: number;
@@ -76,6 +80,14 @@ export class ShardTally {
   readonly bySeverity: Record<Severity, number> = { error: 0, warning: 0, info: 0 };
   readonly byRule = new Map<string, number>();
   private sorted = true;
+  /** Content tokens summed over records, and their prompt and response sides. */
+  private contentTotal = 0;
+  private promptTotal = 0;
+  private responseTotal = 0;
+  /** Records read by each layout. */
+  readonly byLayout = new Map<string, number>();
+  /** The layout settled for the shard, when the analysis reports it. */
+  shardLayout: string | null = null;
 
   /** `keepFindings` caps how many findings are kept in memory; all are still counted. */
   constructor(private readonly keepFindings = 200_000) {}
@@ -87,7 +99,13 @@ export class ShardTally {
     else this.invalidLines++;
     if (o.record !== null) {
       this.maxRecord = Math.max(this.maxRecord, o.record);
-      if (o.tokens !== null) this.setTokens(o.record, o.tokens);
+      // Per-record figures (percentiles, maximum, over context) are the longest sequence's.
+      const length = o.length ?? o.tokens;
+      if (length !== null) this.setTokens(o.record, length);
+      if (o.tokens !== null) this.contentTotal += o.tokens;
+      this.promptTotal += o.prompt ?? 0;
+      this.responseTotal += o.response ?? (o.prompt == null ? (o.tokens ?? 0) : 0);
+      if (o.layout) this.byLayout.set(o.layout, (this.byLayout.get(o.layout) ?? 0) + 1);
     }
     for (const f of o.findings) this.addFinding(f);
   }
@@ -114,6 +132,17 @@ export class ShardTally {
     this.tokens[record] = Math.min(count, 0x7fffffff);
   }
 
+  /** The shard's layout (settled, else the one that read most records) and the share of records it read. */
+  layout(): { id: string; share: number } | null {
+    let id = this.shardLayout;
+    if (id === null) {
+      let n = 0;
+      for (const [k, v] of this.byLayout) if (v > n) [id, n] = [k, v];
+    }
+    if (id === null) return null;
+    return { id, share: this.records > 0 ? (this.byLayout.get(id) ?? 0) / this.records : 0 };
+  }
+
   tokensOf(record: number): number | null {
     if (record < 0 || record >= this.tokens.length) return null;
     const v = this.tokens[record];
@@ -135,6 +164,6 @@ export class ShardTally {
 
   tokenSummary(encoding: string, contextLength: number): TokenSummary {
     const t = this.tokenStats(contextLength);
-    return { encoding, total: t.total, max: t.max, p50: t.p50, p90: t.p90, p99: t.p99, contextLength, overContext: t.overContext };
+    return { encoding, total: this.contentTotal, prompt: this.promptTotal, response: this.responseTotal, max: t.max, p50: t.p50, p90: t.p90, p99: t.p99, contextLength, overContext: t.overContext };
   }
 }

@@ -75,11 +75,11 @@ describe('the JSON document', () => {
     const doc = JSON.parse(r.out);
     expect(Object.keys(doc)).toEqual(['files']);
     const f = doc.files[0];
-    expect(Object.keys(f).sort()).toEqual(['findings', 'format', 'path', 'records', 'tokens']);
+    expect(Object.keys(f).sort()).toEqual(['findings', 'format', 'layout', 'layoutShare', 'path', 'records', 'tokens']);
     expect(f.format).toBe('jsonl');
     // Three lines hold a value; the blank and the broken one are not records.
     expect(f.records).toBe(3);
-    expect(Object.keys(f.tokens).sort()).toEqual(['contextLength', 'encoding', 'max', 'overContext', 'p50', 'p90', 'p99', 'total']);
+    expect(Object.keys(f.tokens).sort()).toEqual(['contextLength', 'encoding', 'max', 'overContext', 'p50', 'p90', 'p99', 'prompt', 'response', 'total']);
     for (const x of f.findings) {
       expect(Object.keys(x).sort()).toEqual(['column', 'family', 'line', 'message', 'pointer', 'record', 'rule', 'severity']);
       expect(['read', 'json', 'encoding', 'chat', 'schema', 'tokens']).toContain(x.family);

@@ -37,7 +37,9 @@ describe('chat rules', () => {
   it('chat-turns-not-list: field not a list, and a misspelt field', () => {
     expect(run({ messages: { role: 'user' } })).toEqual([{ rule: 'chat-turns-not-list', message: '"messages" is an object, not a list of turns', pointer: '/messages' }]);
     expect(run({ Messages: [u('x'), a('y')] })).toMatchObject([{ rule: 'chat-turns-not-list', pointer: '/Messages' }]);
-    expect(rules({ conversation: [] })).toEqual(['chat-turns-not-list']);
+    // `conversation` (singular) is a conversation key of its own (common practice), not a misspelling.
+    expect(rules({ conversation: [] })).toEqual(['chat-turns-empty']);
+    expect(rules({ Conversation: [u('x'), a('y')] })).toEqual(['chat-turns-not-list']);
   });
 
   it('chat-turns-empty', () => {

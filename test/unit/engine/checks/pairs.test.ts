@@ -3,7 +3,7 @@
 
 import { describe, expect, it } from 'vitest';
 import { PAIR_RULES, pairCheck, promptTurnCount } from '../../../../src/engine/checks/pairs.js';
-import { extractPair } from '../../../../src/engine/checks/conversation.js';
+import { readRecord } from '../../../../src/engine/layouts/index.js';
 import type { RecordIssue } from '../../../../src/engine/findings.js';
 import { DEFAULT_CONFIG } from '../../../../src/engine/config.js';
 
@@ -80,7 +80,7 @@ describe('pair rules', () => {
   });
 
   it('promptTurnCount counts up to the last user turn', () => {
-    const pair = extractPair({ chosen: [u('a'), a('b'), u('c'), a('d')], rejected: 'x' }, DEFAULT_CONFIG)!;
-    expect(promptTurnCount(pair.chosen!.turns!)).toBe(3);
+    const pair = readRecord({ chosen: [u('a'), a('b'), u('c'), a('d')], rejected: 'x' }, DEFAULT_CONFIG)!.pair!;
+    expect(promptTurnCount(pair.chosen.turns!)).toBe(3);
   });
 });
