@@ -18,6 +18,8 @@ export interface ShardSummary {
   blankLines: number;
   invalidLines: number;
   tokens: TokenSummary;
+  /** The layout that reads the shard's records, and the share of records it read; null before any record. */
+  layout: { id: string; share: number } | null;
   findingsBySeverity: Record<Severity, number>;
   /** 'indexing' → 'analysing' → 'done' (or 'failed' / 'cancelled'). */
   phase: 'indexing' | 'analysing' | 'done' | 'failed' | 'cancelled';

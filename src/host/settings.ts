@@ -3,6 +3,8 @@
 import * as vscode from 'vscode';
 import { ENCODINGS, withDefaults, type CheckConfig, type EncodingName } from '../engine/config.js';
 import { globToRegExp } from './globs.js';
+import { LAYOUT_IDS } from '../engine/layouts/index.js';
+import type { LayoutConfig, LayoutFields } from '../engine/layouts/layout.js';
 
 export const SECTION = 'shardwise';
 
@@ -27,6 +29,7 @@ export async function settingsFor(uri: vscode.Uri): Promise<HostSettings> {
     textFields: s.get<string[]>('text.fields', withDefaults().textFields),
     maxLineBytes: Math.max(1024, s.get<number>('lines.maxBytes', 64 * 1024 * 1024)),
   });
+  config.layout = layoutFor(s, uri);
   config.chat.roles = s.get<string[]>('chat.roles', config.chat.roles);
   config.chat.allowRepeatedRoles = s.get<boolean>('chat.allowRepeatedRoles', false);
   const req = s.get<string>('chat.requireConversation', 'auto');
@@ -55,6 +58,29 @@ export async function settingsFor(uri: vscode.Uri): Promise<HostSettings> {
     break;
   }
   return out;
+}
+
+/** The layout for this file: the first `layout.byGlob` entry whose glob matches, else `layout.default`. */
+function layoutFor(s: vscode.WorkspaceConfiguration, uri: vscode.Uri): LayoutConfig {
+  const rel = vscode.workspace.getWorkspaceFolder(uri) ? vscode.workspace.asRelativePath(uri, false) : '';
+  const base = uri.path.split('/').pop() ?? '';
+  let id = s.get<string>('layout.default', 'auto');
+  for (const [glob, layout] of Object.entries(s.get<Record<string, string>>('layout.byGlob', {}))) {
+    const re = globToRegExp(glob);
+    if (re.test(rel) || re.test(base)) {
+      id = layout;
+      break;
+    }
+  }
+  if (id !== 'auto' && !LAYOUT_IDS.includes(id)) id = 'auto';
+  const raw = s.get<Record<string, unknown>>('layout.fields', {});
+  const list = (v: unknown) => (Array.isArray(v) ? v.filter((x): x is string => typeof x === 'string') : typeof v === 'string' ? [v] : undefined);
+  const fields: LayoutFields = {};
+  for (const k of ['turns', 'role', 'content'] as const) {
+    const v = list(raw?.[k]);
+    if (v?.length) fields[k] = v;
+  }
+  return { id, fields };
 }
 
 function resolveSchemaUri(p: string, folder: vscode.WorkspaceFolder | undefined, file: vscode.Uri): vscode.Uri {

@@ -234,6 +234,7 @@ export class ShardDocument implements vscode.CustomDocument {
       blankLines: this.tally.blankLines,
       invalidLines: this.tally.invalidLines,
       tokens: this.tally.tokenSummary(this.settings.config.encoding, this.settings.config.contextLength),
+      layout: this.tally.layout(),
       findingsBySeverity: { ...this.tally.bySeverity },
       phase: this.phase,
       progress: this.progress,

@@ -143,6 +143,16 @@ function renderSummary(s: ShardSummary): void {
   );
   summaryEl.append(grid);
 
+  const lay = s.layout;
+  if (lay && typeof lay === 'object' && typeof lay.id === 'string') {
+    const row = h('div', 'sw-layout');
+    row.dataset.stat = 'layout';
+    const share = Number(lay.share);
+    row.append(icon('symbol-structure'), h('span', '', 'Layout'), h('span', 'sw-badge sw-layout-id', lay.id));
+    if (Number.isFinite(share) && share < 1) row.append(h('span', 'sw-muted', `${Math.round(share * 1000) / 10}% of records`));
+    summaryEl.append(row);
+  }
+
   const t = s.tokens;
   if (t && typeof t === 'object') {
     const tok = h('div', 'sw-tokens');
@@ -152,6 +162,8 @@ function renderSummary(s: ShardSummary): void {
     const tg = h('div', 'sw-stats');
     tg.append(
       stat('Total', formatCount(t.total), 'total'),
+      stat('Prompt', formatCount(Number(t.prompt) || 0), 'prompt'),
+      stat('Response', formatCount(Number(t.response) || 0), 'response'),
       stat('p50', formatCount(t.p50), 'p50'),
       stat('p90', formatCount(t.p90), 'p90'),
       stat('p99', formatCount(t.p99), 'p99'),

@@ -36,6 +36,10 @@ describe('side panel', () => {
         assert.equal(await stat('p90'), '811');
         assert.equal(await stat('p99'), '2,402');
         assert.equal(await stat('max'), '9,210');
+        assert.equal(await stat('prompt'), '602,118');
+        assert.equal(await stat('response'), '1,132,102');
+        assert.equal(await view.page.textContent('[data-stat="layout"] .sw-layout-id'), 'turns');
+        assert.match(await view.page.textContent('[data-stat="layout"]'), /99\.8% of records/);
         assert.equal(await view.page.textContent('[data-stat="overContext"]'), 'Over 8,192 tokens: 3 records');
         assert.equal(await view.page.textContent('.sw-encoding'), 'cl100k_base');
         assert.deepEqual(await ids(view.page), [1, 2, 3, 4]);

@@ -15,9 +15,17 @@ function sideOf(name: PairSide['name'], s: SideValue): PairSide {
   return { name, pointer: s.pointer, present: s.present, raw: s.raw, text: s.transcript ? null : s.text, turns: s.turns, transcript: s.transcript };
 }
 
+/** Where writers put the prompt of a pair: `prompt`, a turn list, or a question or instruction field. */
+const PROMPT_KEYS = ['prompt', 'question', 'instruction', 'query', 'input'];
+
 function promptSide(record: Record<string, unknown>, fields: LayoutFields): SideValue {
-  const key = pick(record, ['prompt']) ?? turnsKey(record, fields) ?? 'prompt';
+  const key = pick(record, ['prompt']) ?? turnsKey(record, fields) ?? pick(record, PROMPT_KEYS) ?? 'prompt';
   return readSide(record, key, fields);
+}
+
+/** A side that is a whole conversation carrying its own prompt turns is fed alone, not after the prompt. */
+function carriesPrompt(s: SideValue): boolean {
+  return s.turns !== null && s.turns.some((t) => t.role === 'user');
 }
 
 export const preferenceLayout: Layout = {
@@ -36,12 +44,12 @@ export const preferenceLayout: Layout = {
     const prompt = promptSide(record, fields);
     const chosen = readSide(record, pick(record, CHOSEN) ?? 'chosen', fields, true);
     const rejected = readSide(record, pick(record, REJECTED) ?? 'rejected', fields, true);
-    const p = b.side(prompt, 'prompt');
+    const p = [...b.text('/system', record.system, 'prompt'), ...b.side(prompt, 'prompt')];
     const c = b.side(chosen, 'response');
     const r = b.side(rejected, 'response');
-    const withPrompt = (s: SideValue) => (prompt.turns && s.turns && !s.transcript ? [...prompt.turns, ...s.turns] : s.turns ?? undefined);
-    b.sequence('prompt + chosen', [...p, ...c], withPrompt(chosen));
-    b.sequence('prompt + rejected', [...p, ...r], withPrompt(rejected));
+    const withPrompt = (s: SideValue) => (prompt.turns && s.turns && !carriesPrompt(s) ? [...prompt.turns, ...s.turns] : s.turns ?? undefined);
+    b.sequence(carriesPrompt(chosen) ? 'chosen' : 'prompt + chosen', carriesPrompt(chosen) ? c : [...p, ...c], withPrompt(chosen));
+    b.sequence(carriesPrompt(rejected) ? 'rejected' : 'prompt + rejected', carriesPrompt(rejected) ? r : [...p, ...r], withPrompt(rejected));
     if (prompt.turns) b.turnLists.push({ name: prompt.pointer.slice(1), pointer: prompt.pointer, raw: prompt.raw, turns: prompt.turns, role: 'prompt' });
     for (const s of [chosen, rejected]) {
       if (s.turns) b.turnLists.push({ name: s.pointer.slice(1), pointer: s.pointer, raw: s.raw, turns: s.turns, role: 'answer' });

@@ -215,3 +215,22 @@ describe("the shard's layout", () => {
     expect(check(pairs[0], cfg).rules).toEqual([]);
   });
 });
+
+describe('preference pairs as real writers lay them out (common practice)', () => {
+  it('a prompt string beside whole-conversation sides: each side is fed alone, the prompt string is not added twice', () => {
+    const chosen = [{ role: 'user', content: 'Why does my chain skip?' }, { role: 'assistant', content: 'A worn cassette or a stretched chain.' }];
+    const rejected = [{ role: 'user', content: 'Why does my chain skip?' }, { role: 'assistant', content: 'Bikes do that.' }];
+    const rec = { prompt: 'Why does my chain skip?', prompt_id: 'abc123', chosen, rejected, score_chosen: 8, score_rejected: 2 };
+    const r = check(rec);
+    expect(r.rules).toEqual([]);
+    expect(r.tokens).toBe(sum('Why does my chain skip?', 'Why does my chain skip?', 'A worn cassette or a stretched chain.', 'Why does my chain skip?', 'Bikes do that.'));
+    expect(r.length).toBe(sum('Why does my chain skip?', 'A worn cassette or a stretched chain.'));
+  });
+  it('system + question + chosen + rejected strings: the question is the prompt', () => {
+    const rec = { system: 'You are the co-op helper.', question: 'Can I reuse a chain pin?', chosen: 'No, use a new connecting pin.', rejected: 'Sure.' };
+    const r = check(rec);
+    expect(r.rules).toEqual([]);
+    expect(r.length).toBe(sum(rec.system, rec.question, rec.chosen));
+    expect(r.prompt).toBe(sum(rec.system, rec.question));
+  });
+});
