@@ -96,7 +96,7 @@ export const layoutCheck: Check = {
     if (reading.mismatch) {
       out.issues.push({
         rule: 'layout-mismatch',
-        message: `this record is read as ${reading.fits === reading.layout ? '' : 'the '}"${reading.fits}" layout, but the shard's layout is "${shardLayoutId(config)}"`,
+        message: `this record fits the "${reading.fits}" layout, but the shard's layout is "${shardLayoutId(config)}"`,
         pointer: '',
       });
     }
