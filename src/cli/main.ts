@@ -5,7 +5,7 @@ import { LAYOUT_IDS } from '../engine/layouts/index.js';
 import type { LayoutFields } from '../engine/layouts/layout.js';
 import { readFileSync, statSync, accessSync, constants } from 'node:fs';
 import { ENCODINGS, withDefaults, type CheckConfig, type EncodingName } from '../engine/config.js';
-import { formatOf, supportedEndings } from '../engine/sources/index.js';
+import { sniffFormat, supportedEndings } from '../engine/sources/index.js';
 import { ShardTally } from '../engine/stats/tally.js';
 import { analyzeInThread } from '../node/inThread.js';
 import { analyzeFile, defaultWorkerCount } from '../node/pool.js';
@@ -191,7 +191,11 @@ function checkReadable(path: string): void {
   } catch {
     throw new FileError(`${path}: permission denied`);
   }
-  if (!formatOf(path)) throw new FileError(`${path}: not a shard Shardwise reads (expected one of ${supportedEndings().join(', ')})`);
+  try {
+    sniffFormat(path);
+  } catch (e) {
+    throw new FileError((e as Error).message);
+  }
 }
 
 function round4(x: number): number {
@@ -224,7 +228,7 @@ export async function run(argv: string[], out: NodeJS.WritableStream, err: NodeJ
   let errors = 0;
   for (const path of files) {
     const tally = new ShardTally(Number.MAX_SAFE_INTEGER);
-    let formatName = formatOf(path)!;
+    let formatName = sniffFormat(path).format;
     try {
       const analyze = workers === 0 ? analyzeInThread : analyzeFile;
       await analyze(path, {

@@ -1,7 +1,8 @@
 // Dispatch on format once, at the edge: a file name picks its source here and nowhere else.
 
 import type { FormatName, RecordSource } from './source.js';
-import { JsonlSource } from './jsonl.js';
+import { JsonlSource, compressionOf } from './jsonl.js';
+import { sniff } from './sniff.js';
 import { ParquetSource } from './parquet.js';
 import { ArrowFileSource } from './arrowFile.js';
 import { ArrowStreamSource } from './arrowStream.js';
@@ -50,15 +51,35 @@ export function supportedEndings(): string[] {
   return FORMATS.flatMap((f) => f.endings);
 }
 
+/**
+ * The reader a file needs: its bytes decide (an Arrow stream named `.arrow`, JSON Lines named
+ * `.json`, a shard with no ending at all); the name decides only for an empty file.
+ */
+export function sniffFormat(path: string): { format: FormatName; compression: 'none' | 'gzip' | 'zstd' } {
+  const s = sniff(path);
+  if (s.format !== null) return { format: s.format, compression: s.compression };
+  const byName = formatOf(path);
+  if (s.what === 'an empty file' && byName !== null) return { format: byName, compression: compressionOf(path) };
+  throw new UnsupportedFileError(path, s.what);
+}
+
 export function createSource(path: string, opts: OpenOptions = {}): RecordSource {
-  const format = formatOf(path);
+  const { format, compression } = sniffFormat(path);
+  if (format === 'jsonl') return new JsonlSource(path, { ...opts, compression });
   const entry = FORMATS.find((f) => f.format === format);
-  if (!entry) throw new UnsupportedFileError(path);
+  if (!entry) throw new UnsupportedFileError(path, format);
   return entry.create(path, opts);
 }
 
 export class UnsupportedFileError extends Error {
-  constructor(readonly path: string) {
-    super(`${path}: not a shard Shardwise reads (expected one of ${supportedEndings().join(', ')})`);
+  constructor(
+    readonly path: string,
+    found?: string,
+  ) {
+    super(
+      `${path}: not a shard Shardwise reads: neither JSON Lines, a JSON array, Parquet nor Arrow` +
+        (found ? ` (${found})` : '') +
+        ` — the usual endings are ${supportedEndings().join(', ')}`,
+    );
   }
 }

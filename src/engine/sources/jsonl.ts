@@ -15,6 +15,8 @@ import { jsonlRule, type JsonlRuleId } from './jsonlRules.js';
 import type { Entry, Progress, RecordSource, ScanOptions, SourceInfo } from './source.js';
 
 export interface JsonlOptions {
+  /** What the bytes are compressed with, when sniffed; else the name decides. */
+  compression?: Compression;
   /** Lines longer than this many bytes are findings and are never turned into strings. */
   maxLineBytes?: number;
 }
@@ -296,7 +298,7 @@ export class JsonlSource implements RecordSource {
     opts: JsonlOptions = {},
   ) {
     this.maxLineBytes = opts.maxLineBytes ?? DEFAULT_MAX_LINE_BYTES;
-    this.compression = compressionOf(path);
+    this.compression = opts.compression ?? compressionOf(path);
   }
 
   async open(): Promise<SourceInfo> {
