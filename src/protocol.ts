@@ -45,12 +45,70 @@ export interface RowView {
   raw?: string;
 }
 
+/** One part of a turn, already cut and stringified by the host. */
+export type PartView =
+  | { kind: 'text'; text: string; pointer: string }
+  | { kind: 'reasoning'; text: string; pointer: string }
+  | {
+      kind: 'tool-call';
+      name: string;
+      /** The arguments pretty-printed when they are JSON, else as written. */
+      arguments: string;
+      /** The call's id, when it has one. */
+      id: string | null;
+      pointer: string;
+    }
+  | {
+      kind: 'media';
+      media: 'image' | 'audio' | 'video' | 'file';
+      /** What to show in place of the media: its location, or why it is not shown. */
+      chip: string;
+      /** True when the record holds the bytes (not a path or URL). */
+      inline: boolean;
+      /** A `data:image/(png|jpeg|gif|webp);base64,` thumbnail, only for small inline images. */
+      src?: string;
+      pointer: string;
+    }
+  | { kind: 'unknown'; type: string; pointer: string };
+
 export interface TurnView {
   index: number;
   role: string;
   content: string;
   tokens: number | null;
   pointer: string;
+  /** Every part of the turn, when it holds more than one plain text. */
+  parts?: PartView[];
+  /** For a tool turn: the call it answers, and that call's function name when an earlier turn makes it. */
+  answers?: { id: string; name: string | null };
+  /** False when the record excludes the turn from the loss; null or absent when it does not say. */
+  trainable?: boolean | null;
+}
+
+/** One side of a preference pair in the detail pane. */
+export interface PairSideView {
+  name: 'prompt' | 'chosen' | 'rejected';
+  pointer: string;
+  /** Present in the record at all. */
+  present: boolean;
+  /** Plain text (cut), for a string side; null for a turn side. */
+  text: string | null;
+  /** The side's turns, for a turn side (a list, one turn object, or a parsed transcript). */
+  turns: TurnView[] | null;
+  /** True when the turns were parsed out of a transcript string. */
+  transcript: boolean;
+  tokens: number | null;
+}
+
+export interface PairView {
+  prompt: PairSideView;
+  chosen: PairSideView;
+  rejected: PairSideView;
+  /**
+   * For turn sides that carry their own prompt turns: the index of the first prompt turn where
+   * chosen and rejected differ, or null when their prompts agree (or the sides are plain text).
+   */
+  promptDiffers: number | null;
 }
 
 export interface FindingView extends Finding {
@@ -76,7 +134,13 @@ export interface DetailView {
   /** The conversation, for chat records. */
   turns?: TurnView[];
   /** Preference pair sides, when the record is one. */
-  pair?: { prompt: string; chosen: string; rejected: string };
+  pair?: PairView;
+  /** Media the record lists beside its turns. */
+  media?: PartView[];
+  /** Pointer to the tool definitions the record offers, when it has them. */
+  toolsPointer?: string;
+  /** The layout the host read the record with. */
+  layout?: string;
   tokens: number | null;
   findings: FindingView[];
   /** The pointer to reveal (scroll to and highlight), when the selection came from a finding. */

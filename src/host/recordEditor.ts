@@ -1,9 +1,10 @@
 // The read-only custom editor: one webview per open shard, paging records from the shard's worker.
 
 import * as vscode from 'vscode';
-import { extractConversation, extractPair } from '../engine/checks/conversation.js';
+import { readRecord } from '../engine/layouts/index.js';
 import type { ColumnInfo } from '../engine/sources/source.js';
-import type { DetailView, HostToRecordView, RecordViewToHost, TurnView } from '../protocol.js';
+import type { DetailView, HostToRecordView, RecordViewToHost } from '../protocol.js';
+import { pairView, recordMediaViews, thumbnailBudget, turnViews } from './detailView.js';
 import { isMessage } from '../protocol.js';
 import { openAtFinding } from './openText.js';
 import { ShardDocument } from './shardDocument.js';
@@ -219,24 +220,21 @@ export class RecordEditorProvider implements vscode.CustomReadonlyEditorProvider
     detail.value = value;
     detail.truncated = truncated;
     const config = document.settings.config;
-    const conv = safe(() => extractConversation(e.value, config));
-    if (conv && conv.turns.length) {
-      const counts = await document.session!.turnTokens(e.value, config).catch(() => []);
+    const reading = safe(() => readRecord(e.value, config));
+    if (reading) {
+      detail.layout = reading.layout;
+      const hasTurns = reading.turnLists.some((l) => l.turns.length > 0);
+      const counts = hasTurns || reading.pair ? await document.session!.turnTokens(e.value, config).catch(() => []) : [];
       const byPointer = new Map(counts.map((c) => [c.pointer, c.tokens]));
-      detail.turns = conv.turns.map(
-        (t): TurnView => ({
-          index: t.index,
-          role: t.role ?? (typeof t.rawRole === 'string' ? t.rawRole : '(no role)'),
-          content: cut(t.text, DETAIL_STRING_CHARS),
-          tokens: byPointer.get(t.pointer) ?? null,
-          pointer: t.pointer,
-        }),
-      );
-    }
-    const pair = safe(() => extractPair(e.value, config));
-    if (pair) {
-      const side = (s: { text: string } | null) => cut(s?.text ?? '', DETAIL_STRING_CHARS);
-      detail.pair = { prompt: side(pair.prompt), chosen: side(pair.chosen), rejected: side(pair.rejected) };
+      const cutText = (s: string) => cut(s, DETAIL_STRING_CHARS);
+      const budget = thumbnailBudget();
+      const turns = safe(() => turnViews(reading, byPointer, cutText, budget));
+      if (turns && turns.length) detail.turns = turns;
+      const pair = safe(() => pairView(reading, byPointer, cutText, budget));
+      if (pair) detail.pair = pair;
+      const media = safe(() => recordMediaViews(reading, cutText, budget));
+      if (media && media.length) detail.media = media;
+      if (reading.toolsPointer !== undefined) detail.toolsPointer = reading.toolsPointer;
     }
     return detail;
   }

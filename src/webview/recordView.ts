@@ -9,6 +9,9 @@ import {
   type DetailView,
   type FindingView,
   type HostToRecordView,
+  type PairSideView,
+  type PairView,
+  type PartView,
   type RecordViewToHost,
   type RowView,
   type TurnView,
@@ -141,11 +144,12 @@ detailEl.tabIndex = -1;
 const detailHead = h('div', 'sw-detail-head');
 const detailTitle = h('span', 'sw-detail-title');
 const detailTokens = h('span', 'sw-badge sw-detail-tokens');
+const detailLayout = h('span', 'sw-badge sw-detail-layout');
 const openLineButton = h('button', 'sw-button sw-open-line');
 openLineButton.type = 'button';
 openLineButton.append(icon('go-to-file'), h('span', '', 'Open at line'));
 const detailClose = iconButton('close', 'Hide the detail pane', 'sw-detail-close');
-detailHead.append(detailTitle, detailTokens, h('span', 'sw-spacer-flex'), openLineButton, detailClose);
+detailHead.append(detailTitle, detailTokens, detailLayout, h('span', 'sw-spacer-flex'), openLineButton, detailClose);
 const tabsEl = h('div', 'sw-tabs');
 tabsEl.setAttribute('role', 'tablist');
 const tabBody = h('div', 'sw-tab-body');
@@ -635,12 +639,15 @@ function onDetail(d: DetailView): void {
   detailTitle.textContent = placeTitle(d.record, str(d.place));
   detailTokens.textContent = d.tokens === null || d.tokens === undefined ? '' : `${formatCount(d.tokens)} tokens`;
   detailTokens.hidden = d.tokens === null || d.tokens === undefined;
+  detailLayout.textContent = typeof d.layout === 'string' ? d.layout : '';
+  detailLayout.title = 'The layout this record was read with';
+  detailLayout.hidden = typeof d.layout !== 'string' || d.layout === '';
   openLineButton.hidden = info ? COLUMNAR.has(info.format) : false;
 
   const tabs: [Tab, string, string, number | null][] = [];
   const turns = Array.isArray(d.turns) ? d.turns : null;
   const findings = Array.isArray(d.findings) ? d.findings : [];
-  if (turns) tabs.push(['conversation', 'Conversation', 'comment-discussion', turns.length]);
+  if (turns || (Array.isArray(d.media) && d.media.length)) tabs.push(['conversation', 'Conversation', 'comment-discussion', turns ? turns.length : 0]);
   if (d.pair && typeof d.pair === 'object') tabs.push(['pair', 'Pair', 'git-compare', null]);
   tabs.push(['json', d.value === undefined ? 'Raw' : 'JSON', 'json', null]);
   tabs.push(['findings', 'Findings', 'issues', findings.length]);
@@ -686,10 +693,10 @@ function showTab(tab: Tab): void {
   }
   switch (tab) {
     case 'conversation':
-      tabBody.append(renderConversation(detail.turns ?? []));
+      tabBody.append(renderConversation(Array.isArray(detail.turns) ? detail.turns : [], detail));
       break;
     case 'pair':
-      if (detail.pair) tabBody.append(renderPair(detail.pair));
+      if (detail.pair && typeof detail.pair === 'object') tabBody.append(renderPair(detail.pair));
       break;
     case 'json':
       tabBody.append(detail.value === undefined ? renderRaw(detail.raw) : renderTree(detail.value));
@@ -702,43 +709,191 @@ function showTab(tab: Tab): void {
 
 const KNOWN_ROLES = new Set(['system', 'user', 'assistant', 'tool']);
 
-function renderConversation(turns: TurnView[]): HTMLElement {
+/** Only these four raster formats, as base64, may become an <img>: the host sniffed them, and we check again. */
+const THUMBNAIL_SRC = /^data:image\/(?:png|jpeg|gif|webp);base64,[A-Za-z0-9+/]*={0,2}$/;
+const MEDIA_ICON: Record<string, string> = { image: 'file-media', audio: 'unmute', video: 'device-camera-video', file: 'file' };
+
+interface TurnOptions {
+  /** Index of the first prompt turn where a pair's sides differ. */
+  differs?: number | null;
+}
+
+function renderConversation(turns: TurnView[], d: DetailView): HTMLElement {
   const list = h('div', 'sw-conversation');
-  if (!turns.length) list.append(h('div', 'sw-muted', 'This conversation has no turns.'));
-  for (const t of turns) {
-    if (!t || typeof t !== 'object') continue;
-    const role = str(t.role);
-    const turn = h('article', `sw-turn sw-role-${KNOWN_ROLES.has(role) ? role : 'other'}`);
-    turn.dataset.role = role;
-    turn.dataset.turn = String(t.index);
-    turn.dataset.pointer = str(t.pointer);
-    const head = h('div', 'sw-turn-head');
-    head.append(h('span', 'sw-role', role || '(no role)'));
-    if (t.tokens !== null && t.tokens !== undefined) head.append(h('span', 'sw-turn-tokens', `${formatCount(t.tokens)} tokens`));
-    head.append(h('span', 'sw-spacer-flex'));
-    const show = iconButton('json', 'Show this turn in the JSON tree', 'sw-turn-to-json');
-    show.addEventListener('click', () => {
-      activeTab = 'json';
-      showTab('json');
-      revealPointer(str(t.pointer));
-    });
-    head.append(show);
-    turn.append(head, h('div', 'sw-turn-content', str(t.content)));
-    list.append(turn);
+  if (typeof d.toolsPointer === 'string') {
+    const tools = h('button', 'sw-button sw-tools-link');
+    tools.type = 'button';
+    tools.append(icon('tools'), h('span', '', 'Tool definitions'));
+    tools.title = 'Show the tools this record offers in the JSON tree';
+    const pointer = d.toolsPointer;
+    tools.addEventListener('click', () => showInTree(pointer));
+    list.append(tools);
   }
+  if (Array.isArray(d.media) && d.media.length) {
+    const media = h('div', 'sw-record-media');
+    media.append(h('div', 'sw-record-media-head', 'Media of the record'));
+    for (const p of d.media) if (p && typeof p === 'object') media.append(renderPart(p));
+    list.append(media);
+  }
+  if (!turns.length) list.append(h('div', 'sw-muted', 'This conversation has no turns.'));
+  appendTurns(list, turns, {});
   return list;
 }
 
-function renderPair(pair: { prompt: string; chosen: string; rejected: string }): HTMLElement {
+function appendTurns(list: HTMLElement, turns: unknown[], opts: TurnOptions): void {
+  for (const t of turns) if (t && typeof t === 'object') list.append(renderTurn(t as TurnView, list, opts));
+}
+
+function showInTree(pointer: string): void {
+  activeTab = 'json';
+  showTab('json');
+  revealPointer(pointer);
+}
+
+function renderTurn(t: TurnView, scope: HTMLElement, opts: TurnOptions): HTMLElement {
+  const role = str(t.role);
+  const turn = h('article', `sw-turn sw-role-${KNOWN_ROLES.has(role) ? role : 'other'}`);
+  turn.dataset.role = role;
+  turn.dataset.turn = String(t.index);
+  turn.dataset.pointer = str(t.pointer);
+  const head = h('div', 'sw-turn-head');
+  head.append(h('span', 'sw-role', role || '(no role)'));
+  if (t.tokens !== null && t.tokens !== undefined) head.append(h('span', 'sw-turn-tokens', `${formatCount(t.tokens)} tokens`));
+  if (t.trainable === false) {
+    turn.classList.add('sw-turn-untrained');
+    const tag = h('span', 'sw-tag sw-untrained-tag');
+    tag.title = 'The record excludes this turn from the loss';
+    tag.append(icon('circle-slash'), h('span', '', 'not trained on'));
+    head.append(tag);
+  }
+  if (opts.differs !== null && opts.differs !== undefined && t.index === opts.differs) {
+    turn.classList.add('sw-turn-differs');
+    const tag = h('span', 'sw-tag sw-differs-tag');
+    tag.title = 'The prompts of chosen and rejected differ from this turn on';
+    tag.append(icon('diff'), h('span', '', 'differs'));
+    head.append(tag);
+  }
+  if (t.answers && typeof t.answers === 'object') head.append(answersLink(t.answers, scope));
+  head.append(h('span', 'sw-spacer-flex'));
+  const show = iconButton('json', 'Show this turn in the JSON tree', 'sw-turn-to-json');
+  const pointer = str(t.pointer);
+  show.addEventListener('click', () => showInTree(pointer));
+  head.append(show);
+  const body = h('div', 'sw-turn-content');
+  if (Array.isArray(t.parts)) {
+    for (const p of t.parts) if (p && typeof p === 'object') body.append(renderPart(p));
+  } else body.textContent = str(t.content);
+  turn.append(head, body);
+  return turn;
+}
+
+/** "answers call_1 · get_weather": a button that scrolls to the call when it is on screen. */
+function answersLink(answers: { id: string; name: string | null }, scope: HTMLElement): HTMLElement {
+  const id = str(answers.id);
+  const name = answers.name === null || answers.name === undefined ? '' : str(answers.name);
+  const link = h('button', 'sw-answers');
+  link.type = 'button';
+  link.dataset.callId = id;
+  link.title = name ? `Answers the call ${id} to ${name}` : `Answers the call ${id}, which no earlier turn makes`;
+  link.append(icon('reply'), h('span', '', name ? `answers ${id} · ${name}` : `answers ${id}`));
+  link.addEventListener('click', () => {
+    const calls = [...scope.querySelectorAll<HTMLElement>('.sw-part-tool-call')].filter((c) => c.dataset.callId === id);
+    const call = calls.at(-1);
+    if (!call) return;
+    for (const old of scope.querySelectorAll('.sw-part-flash')) old.classList.remove('sw-part-flash');
+    call.classList.add('sw-part-flash');
+    call.scrollIntoView({ block: 'nearest' });
+  });
+  return link;
+}
+
+function renderPart(p: PartView): HTMLElement {
+  const el = renderPartBody(p);
+  el.dataset.pointer = str(p.pointer);
+  return el;
+}
+
+function renderPartBody(p: PartView): HTMLElement {
+  switch (p.kind) {
+    case 'text':
+      return h('div', 'sw-part sw-part-text', str(p.text));
+    case 'reasoning': {
+      const box = h('details', 'sw-part sw-part-reasoning');
+      const summary = h('summary', 'sw-part-reasoning-head');
+      summary.append(icon('lightbulb'), h('span', '', 'Reasoning'));
+      box.append(summary, h('div', 'sw-part-reasoning-text', str(p.text)));
+      return box;
+    }
+    case 'tool-call': {
+      const box = h('div', 'sw-part sw-part-tool-call');
+      if (p.id !== null && p.id !== undefined) box.dataset.callId = str(p.id);
+      const head = h('div', 'sw-tool-head');
+      head.append(icon('tools'), h('span', 'sw-tool-label', 'calls'), h('span', 'sw-tool-name', str(p.name)));
+      if (p.id !== null && p.id !== undefined) head.append(h('span', 'sw-call-id', str(p.id)));
+      box.append(head);
+      const args = str(p.arguments);
+      if (args !== '') {
+        const pre = h('pre', 'sw-tool-args');
+        pre.append(h('code', '', args));
+        box.append(pre);
+      }
+      return box;
+    }
+    case 'media': {
+      const chip = str(p.chip);
+      const src = typeof p.src === 'string' ? p.src : '';
+      if (src && THUMBNAIL_SRC.test(src)) {
+        const fig = h('figure', 'sw-part sw-part-media sw-thumb');
+        const img = h('img', 'sw-thumb-image');
+        img.alt = chip;
+        img.src = src;
+        fig.append(img, h('figcaption', 'sw-thumb-caption', chip));
+        return fig;
+      }
+      const media = str(p.media);
+      const ic = p.inline ? (Object.hasOwn(MEDIA_ICON, media) ? MEDIA_ICON[media] : 'file') : /^[a-z][a-z0-9+.-]*:/i.test(chip) ? 'link' : 'file';
+      const box = h('span', 'sw-part sw-part-media sw-chip');
+      box.title = p.inline ? `${media} held in the record` : `${media} at a location the view does not open`;
+      box.append(icon(ic), h('span', 'sw-chip-text', chip));
+      return box;
+    }
+    default: {
+      const box = h('span', 'sw-part sw-part-unknown sw-chip');
+      box.append(icon('question'), h('span', 'sw-chip-text', `part of type ${JSON.stringify(str((p as { type?: unknown }).type))} not shown`));
+      return box;
+    }
+  }
+}
+
+function renderPair(pair: PairView): HTMLElement {
   const box = h('div', 'sw-pair');
-  const side = (cls: string, label: string, ic: string, text: unknown): HTMLElement => {
-    const s = h('div', `sw-pair-side sw-pair-${cls}`);
+  const differs = typeof pair.promptDiffers === 'number' ? pair.promptDiffers : null;
+  if (differs !== null) {
+    const note = h('div', 'sw-note sw-pair-differs');
+    note.append(icon('diff'), h('span', '', `Chosen and rejected carry different prompts, from turn ${formatCount(differs + 1)} on.`));
+    box.append(note);
+  }
+  const side = (cls: 'prompt' | 'chosen' | 'rejected', label: string, ic: string, s: PairSideView | undefined): HTMLElement => {
+    const el = h('div', `sw-pair-side sw-pair-${cls}`);
     const head = h('div', 'sw-pair-head');
     head.append(icon(ic), h('span', '', label));
-    s.append(head, h('div', 'sw-pair-text', str(text)));
-    return s;
+    if (s && s.tokens !== null && s.tokens !== undefined) head.append(h('span', 'sw-pair-tokens', `${formatCount(s.tokens)} tokens`));
+    if (s && s.transcript) head.append(h('span', 'sw-tag', 'from a transcript'));
+    el.append(head);
+    if (!s || typeof s !== 'object' || !s.present) {
+      el.append(h('div', 'sw-muted', 'Not in the record.'));
+      return el;
+    }
+    el.dataset.pointer = str(s.pointer);
+    if (Array.isArray(s.turns)) {
+      const list = h('div', 'sw-conversation');
+      if (!s.turns.length) list.append(h('div', 'sw-muted', 'No turns.'));
+      appendTurns(list, s.turns, { differs: cls === 'prompt' ? null : differs });
+      el.append(list);
+    } else el.append(h('div', 'sw-pair-text', str(s.text)));
+    return el;
   };
-  box.append(side('prompt', 'Prompt', 'comment', pair.prompt));
+  if (pair.prompt && typeof pair.prompt === 'object' && pair.prompt.present) box.append(side('prompt', 'Prompt', 'comment', pair.prompt));
   const sides = h('div', 'sw-pair-sides');
   sides.append(side('chosen', 'Chosen', 'thumbsup', pair.chosen), side('rejected', 'Rejected', 'thumbsdown', pair.rejected));
   box.append(sides);
@@ -809,7 +964,7 @@ function treeNode(key: string | null, value: unknown, pointer: string, depth: nu
     return node;
   }
   const v = h('span', `sw-value sw-t-${value === null ? 'null' : typeof value}`);
-  v.textContent = typeof value === 'string' ? JSON.stringify(value) : str(value);
+  v.textContent = typeof value === 'string' ? JSON.stringify(value) : value === null ? 'null' : str(value);
   line.append(v);
   return node;
 }

@@ -1,6 +1,7 @@
 // The record view in headless Chromium, driven by a scripted host over the protocol.
 import { after, before, describe, test } from 'node:test';
 import assert from 'node:assert/strict';
+import { crc32, deflateSync } from 'node:zlib';
 import { openView, screenshot, useBrowser } from './harness.mjs';
 import { chatDetail, HOSTILE, HOSTILE_TEXT, initMessage, rowFor, rowsAnswer, scriptedHost } from './fixtures.mjs';
 
@@ -44,6 +45,88 @@ async function waitLoaded(page) {
 }
 
 const fmt = (n) => new Intl.NumberFormat('en-US').format(n);
+
+const WEATHER_ARGS = '{\n  "city": "Ghent",\n  "units": "metric"\n}';
+
+/** A tool-calling chat as the host maps it (OpenAI chat format: `tool_calls` with ids, `tool_call_id` on the answer). */
+const TOOL_TURNS = [
+  { index: 0, role: 'user', content: 'Will it rain on my ride to the co-op?', tokens: 12, pointer: '/messages/0' },
+  {
+    index: 1,
+    role: 'assistant',
+    content: '',
+    tokens: 25,
+    pointer: '/messages/1',
+    parts: [
+      { kind: 'reasoning', text: 'The rider asks about rain: check the forecast.', pointer: '/messages/1/reasoning_content' },
+      { kind: 'tool-call', name: 'get_weather', arguments: WEATHER_ARGS, id: 'call_1', pointer: '/messages/1/tool_calls/0' },
+    ],
+  },
+  { index: 2, role: 'tool', content: '{"rain_mm":0}', tokens: 6, pointer: '/messages/2', answers: { id: 'call_1', name: 'get_weather' } },
+  { index: 3, role: 'tool', content: 'late answer', tokens: 3, pointer: '/messages/3', answers: { id: 'call_9', name: null } },
+  { index: 4, role: 'assistant', content: 'Dry all day: ride.', tokens: 8, pointer: '/messages/4', trainable: false },
+];
+
+function sideTurns(side, texts, tokens) {
+  return texts.map((content, i) => ({ index: i, role: i % 2 ? 'assistant' : 'user', content, tokens: tokens[i], pointer: `/${side}/${i}` }));
+}
+
+const DIFFERING_PAIR = {
+  prompt: { name: 'prompt', pointer: '/system', present: true, text: 'You are the workshop’s repair desk.', turns: null, transcript: false, tokens: 6 },
+  chosen: {
+    name: 'chosen',
+    pointer: '/chosen',
+    present: true,
+    text: null,
+    turns: sideTurns('chosen', ['Hi', 'Hello, how can I help?', 'Tube or tubeless for gravel?', 'Tubeless: fewer pinch flats.'], [2, 7, 10, 12]),
+    transcript: true,
+    tokens: 31,
+  },
+  rejected: {
+    name: 'rejected',
+    pointer: '/rejected',
+    present: true,
+    text: null,
+    turns: sideTurns('rejected', ['Hi', 'Hello, how can I help?', 'Tube or tubeless for road?', 'Tubes.'], [2, 7, 9, 9]),
+    transcript: true,
+    tokens: 27,
+  },
+  promptDiffers: 2,
+};
+
+/**
+ * A 2×2 RGBA PNG built from the W3C PNG Specification: signature, IHDR, one zlib-compressed IDAT
+ * (each scanline led by filter type 0), IEND, each chunk closed by its CRC-32 (node:zlib computes both).
+ */
+function tinyPng() {
+  const chunk = (type, data) => {
+    const len = Buffer.alloc(4);
+    len.writeUInt32BE(data.length);
+    const body = Buffer.concat([Buffer.from(type, 'latin1'), data]);
+    const crc = Buffer.alloc(4);
+    crc.writeUInt32BE(crc32(body));
+    return Buffer.concat([len, body, crc]);
+  };
+  const ihdr = Buffer.alloc(13);
+  ihdr.writeUInt32BE(2, 0);
+  ihdr.writeUInt32BE(2, 4);
+  ihdr[8] = 8; // bit depth
+  ihdr[9] = 6; // colour type: RGBA
+  const row = [0, 0xd1, 0x86, 0x16, 0xff, 0x37, 0x94, 0xff, 0xff];
+  const raw = Buffer.from([...row, ...row]);
+  return Buffer.concat([Buffer.from([0x89, 0x50, 0x4e, 0x47, 0x0d, 0x0a, 0x1a, 0x0a]), chunk('IHDR', ihdr), chunk('IDAT', deflateSync(raw)), chunk('IEND', Buffer.alloc(0))]);
+}
+
+/** Opens the view, selects entry 3 and waits for its detail. */
+async function openDetail(detailFor, beforeSelect = () => {}) {
+  const view = await openView(env.browser, env.server, { kind: 'recordView', onMessage: scriptedHost({ detailFor }) });
+  await view.send(initMessage(100));
+  await waitLoaded(view.page);
+  beforeSelect(view.page);
+  await view.page.click('.sw-rows .sw-row[data-entry="3"]');
+  await view.page.waitForFunction(() => document.querySelector('.sw-detail')?.dataset.entry === '3');
+  return view;
+}
 
 describe('record view', () => {
   test('a refresh re-asks for the rows on screen and keeps showing them until the answer comes', async () => {
@@ -364,8 +447,37 @@ describe('record view', () => {
       ...chatDetail(entry),
       place: HOSTILE[1],
       value: { [HOSTILE[0]]: HOSTILE[1], list: [HOSTILE[2]] },
-      turns: HOSTILE.map((t, i) => ({ index: i, role: t, content: t, tokens: 1, pointer: `/list/${i}` })),
-      pair: { prompt: HOSTILE[0], chosen: HOSTILE[1], rejected: HOSTILE[2] },
+      turns: HOSTILE.map((t, i) => ({
+        index: i,
+        role: t,
+        content: t,
+        tokens: 1,
+        pointer: `/list/${i}`,
+        answers: { id: t, name: t },
+        parts: [
+          { kind: 'text', text: t, pointer: `/list/${i}/content/0` },
+          { kind: 'reasoning', text: t, pointer: `/list/${i}/reasoning` },
+          { kind: 'tool-call', name: t, arguments: t, id: t, pointer: `/list/${i}/tool_calls/0` },
+          { kind: 'media', media: t, chip: t, inline: false, pointer: `/list/${i}/content/1` },
+          { kind: t, type: t, pointer: `/list/${i}/content/2` },
+        ],
+      })),
+      pair: {
+        prompt: { name: 'prompt', pointer: '/prompt', present: true, text: HOSTILE[0], turns: null, transcript: false, tokens: 3 },
+        chosen: {
+          name: 'chosen',
+          pointer: '/chosen',
+          present: true,
+          text: null,
+          turns: HOSTILE.map((t, i) => ({ index: i, role: t, content: t, tokens: 1, pointer: `/chosen/${i}`, answers: { id: t, name: t } })),
+          transcript: false,
+          tokens: 3,
+        },
+        rejected: { name: 'rejected', pointer: '/rejected', present: true, text: HOSTILE[2], turns: null, transcript: false, tokens: 1 },
+        promptDiffers: 0,
+      },
+      layout: HOSTILE[1],
+      media: [{ kind: 'media', media: 'image', chip: HOSTILE[1], inline: false, pointer: '/images/0' }],
       findings: [{ ...chatDetail(entry).findings[0], rule: HOSTILE[2], message: HOSTILE_TEXT, place: HOSTILE[0] }],
     });
     const view = await openView(env.browser, env.server, {
@@ -469,6 +581,185 @@ describe('record view', () => {
       const rows = await visibleRows(view.page);
       assert.ok(rows.length > 20);
       for (const r of rows) assert.equal(r.place, rowFor(r.entry).place);
+    } finally {
+      await view.close();
+    }
+  });
+
+  test('a tool-calling conversation shows the call, its arguments, the answer’s link, reasoning and the loss flag', async () => {
+    const view = await openDetail((entry) => chatDetail(entry, { value: { messages: [] }, turns: TOOL_TURNS, tokens: 60 }));
+    try {
+      await view.page.waitForSelector('.sw-part-tool-call');
+      const call = await view.page.$eval('.sw-part-tool-call', (c) => ({
+        id: c.dataset.callId,
+        name: c.querySelector('.sw-tool-name').textContent,
+        callId: c.querySelector('.sw-call-id').textContent,
+        args: c.querySelector('.sw-tool-args code').textContent,
+      }));
+      assert.deepEqual(call, { id: 'call_1', name: 'get_weather', callId: 'call_1', args: WEATHER_ARGS });
+      const answers = await view.page.$$eval('.sw-answers', (as) => as.map((a) => a.textContent));
+      assert.deepEqual(answers, ['answers call_1 · get_weather', 'answers call_9']);
+      // Following the link marks the call it answers.
+      await view.page.click('.sw-turn[data-turn="2"] .sw-answers');
+      assert.equal(await view.page.$eval('.sw-part-tool-call', (c) => c.classList.contains('sw-part-flash')), true);
+      // Reasoning is folded and says what it is.
+      const reasoning = await view.page.$eval('.sw-part-reasoning', (d) => ({ open: d.open, head: d.querySelector('summary').textContent, text: d.querySelector('.sw-part-reasoning-text').textContent }));
+      assert.deepEqual(reasoning, { open: false, head: 'Reasoning', text: 'The rider asks about rain: check the forecast.' });
+      // The turn excluded from the loss is marked, and only that one.
+      assert.deepEqual(await view.page.$$eval('.sw-turn-untrained', (ts) => ts.map((t) => t.dataset.turn)), ['4']);
+      assert.match(await view.page.textContent('.sw-turn[data-turn="4"] .sw-untrained-tag'), /not trained on/);
+      await screenshot(view.page, 'record-view-tool-calls-dark');
+      assert.deepEqual(view.errors, []);
+      assert.deepEqual(await view.cspViolations(), []);
+    } finally {
+      await view.close();
+    }
+  });
+
+  test('a tiny inline PNG shows as an image with a data: source and no CSP violation', async () => {
+    const png = tinyPng();
+    const src = `data:image/png;base64,${png.toString('base64')}`;
+    const view = await openDetail((entry) =>
+      chatDetail(entry, {
+        turns: [
+          {
+            index: 0,
+            role: 'user',
+            content: 'Is this chainring worn?',
+            tokens: 9,
+            pointer: '/messages/0',
+            parts: [
+              { kind: 'text', text: 'Is this chainring worn?', pointer: '/messages/0/content/0' },
+              { kind: 'media', media: 'image', chip: `image/png, ${png.length} B`, inline: true, src, pointer: '/messages/0/content/1' },
+            ],
+          },
+        ],
+      }),
+    );
+    try {
+      await view.page.waitForSelector('.sw-thumb-image');
+      await view.page.waitForFunction(() => document.querySelector('.sw-thumb-image').complete);
+      const img = await view.page.$eval('.sw-thumb-image', (i) => ({ src: i.getAttribute('src'), w: i.naturalWidth, h: i.naturalHeight }));
+      assert.equal(img.src, src);
+      // Chromium's own PNG decoder is the check that the bytes are a PNG: it reports their size.
+      assert.deepEqual([img.w, img.h], [2, 2]);
+      assert.deepEqual(await view.cspViolations(), []);
+      assert.deepEqual(view.errors, []);
+    } finally {
+      await view.close();
+    }
+  });
+
+  test('a javascript: or http: image location, or a bad source, is a chip and is never loaded', async () => {
+    const requested = [];
+    const locations = ['javascript:window.__pwned=1', 'http://127.0.0.1:9/cassette.png', 'images/0042.jpg'];
+    const badSources = [
+      'javascript:window.__pwned=1',
+      'http://127.0.0.1:9/cassette.png',
+      'data:image/svg+xml;base64,PHN2ZyBvbmxvYWQ9IndpbmRvdy5fX3B3bmVkPTEiLz4=',
+      'data:text/html;base64,PHNjcmlwdD5hbGVydCgxKTwvc2NyaXB0Pg==',
+      'data:image/png;base64,iVBORw0KGgo=" onerror="window.__pwned=1',
+    ];
+    const parts = [
+      ...locations.map((chip, i) => ({ kind: 'media', media: 'image', chip, inline: false, pointer: `/messages/0/content/${i}` })),
+      ...badSources.map((src, i) => ({ kind: 'media', media: 'image', chip: 'image, not shown', inline: true, src, pointer: `/images/${i}` })),
+    ];
+    const onRequest = (r) => requested.push(r.url());
+    const view = await openDetail(
+      (entry) => chatDetail(entry, { turns: [{ index: 0, role: 'user', content: '', tokens: 1, pointer: '/messages/0', parts }] }),
+      (page) => page.on('request', onRequest),
+    );
+    try {
+      await view.page.waitForSelector('.sw-part-media');
+      await new Promise((r) => setTimeout(r, 200));
+      assert.equal(await view.page.$$eval('.sw-detail img', (x) => x.length), 0);
+      const chips = await view.page.$$eval('.sw-part-media.sw-chip', (cs) =>
+        cs.map((c) => ({ text: c.querySelector('.sw-chip-text').textContent, link: !!c.querySelector('.codicon-link'), file: !!c.querySelector('.codicon-file') })),
+      );
+      assert.equal(chips.length, locations.length + badSources.length);
+      assert.deepEqual(chips.slice(0, 3), [
+        { text: locations[0], link: true, file: false },
+        { text: locations[1], link: true, file: false },
+        { text: locations[2], link: false, file: true },
+      ]);
+      assert.equal(await view.page.evaluate(() => window.__pwned), undefined);
+      assert.deepEqual(requested.filter((u) => /cassette|127\.0\.0\.1:9/.test(u)), []);
+      assert.deepEqual(await view.cspViolations(), []);
+      assert.deepEqual(view.errors, []);
+    } finally {
+      view.page.off('request', onRequest);
+      await view.close();
+    }
+  });
+
+  test('a pair whose prompts differ marks the first differing turn on both sides, with roles and token counts', async () => {
+    const view = await openDetail((entry) => chatDetail(entry, { turns: undefined, pair: DIFFERING_PAIR, layout: 'preference' }));
+    try {
+      await view.page.waitForSelector('.sw-tab[data-tab="pair"]');
+      await view.page.click('.sw-tab[data-tab="pair"]');
+      await view.page.waitForSelector('.sw-pair-differs');
+      assert.match(await view.page.textContent('.sw-pair-differs'), /from turn 3 on/);
+      const marked = await view.page.$$eval('.sw-turn-differs', (ts) => ts.map((t) => [t.closest('.sw-pair-side').classList.contains('sw-pair-chosen') ? 'chosen' : 'rejected', t.dataset.turn]));
+      assert.deepEqual(marked, [
+        ['chosen', '2'],
+        ['rejected', '2'],
+      ]);
+      const sides = await view.page.$$eval('.sw-pair-side', (ss) =>
+        ss.map((s) => ({
+          tokens: s.querySelector('.sw-pair-tokens')?.textContent,
+          roles: [...s.querySelectorAll('.sw-turn .sw-role')].map((r) => r.textContent),
+          text: s.querySelector('.sw-pair-text')?.textContent,
+        })),
+      );
+      assert.deepEqual(sides, [
+        { tokens: '6 tokens', roles: [], text: 'You are the workshop’s repair desk.' },
+        { tokens: '31 tokens', roles: ['user', 'assistant', 'user', 'assistant'], text: undefined },
+        { tokens: '27 tokens', roles: ['user', 'assistant', 'user', 'assistant'], text: undefined },
+      ]);
+      assert.equal(await view.page.textContent('.sw-detail-layout'), 'preference');
+      await screenshot(view.page, 'record-view-pair-differs-dark');
+      assert.deepEqual(view.errors, []);
+    } finally {
+      await view.close();
+    }
+  });
+
+  test('a tool argument holding markup shows as text and runs nothing', async () => {
+    const args = '{\n  "q": "<script>window.__pwned=1</script>",\n  "img": "<img src=x onerror=\\"window.__pwned=1\\">"\n}';
+    const turns = [
+      {
+        index: 0,
+        role: 'assistant',
+        content: '',
+        tokens: 20,
+        pointer: '/messages/0',
+        parts: [{ kind: 'tool-call', name: '<b>search</b>', arguments: args, id: '<i>c</i>', pointer: '/messages/0/tool_calls/0' }],
+      },
+    ];
+    const view = await openDetail((entry) => chatDetail(entry, { turns }));
+    try {
+      await view.page.waitForSelector('.sw-tool-args');
+      assert.equal(await view.page.textContent('.sw-tool-args'), args);
+      assert.equal(await view.page.textContent('.sw-tool-name'), '<b>search</b>');
+      assert.equal(await view.page.$$eval('.sw-detail script, .sw-detail img, .sw-detail b, .sw-detail i', (x) => x.length), 0);
+      assert.equal(await view.page.evaluate(() => window.__pwned), undefined);
+      assert.deepEqual(await view.cspViolations(), []);
+    } finally {
+      await view.close();
+    }
+  });
+
+  test('the JSON tree writes null as null', async () => {
+    const view = await openDetail((entry) => chatDetail(entry, { value: { reply: null, name: 'null', count: 0, empty: '' } }));
+    try {
+      await view.page.click('.sw-tab[data-tab="json"]');
+      const values = await view.page.$$eval('.sw-node[data-pointer^="/"] .sw-value', (vs) => vs.map((v) => [v.closest('.sw-node').dataset.pointer, v.textContent, v.className]));
+      assert.deepEqual(values, [
+        ['/reply', 'null', 'sw-value sw-t-null'],
+        ['/name', '"null"', 'sw-value sw-t-string'],
+        ['/count', '0', 'sw-value sw-t-number'],
+        ['/empty', '""', 'sw-value sw-t-string'],
+      ]);
     } finally {
       await view.close();
     }
