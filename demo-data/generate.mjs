@@ -1,7 +1,8 @@
 #!/usr/bin/env node
 // Writes the demo shards of the Spoke & Chain Co-op support assistant: chats, preference pairs,
-// plain text, their columnar copies, a JSON Schema and a manifest of every deliberately broken
-// record. Deterministic: a seeded generator, so every run writes the same bytes.
+// plain text, their columnar copies, a shard in each other training-data layout (tool calls,
+// instruction, prompt/completion, transcripts, feedback, images, evaluation items), a JSON Schema
+// and a manifest of every deliberately broken record. Deterministic: a seeded generator, so every run writes the same bytes.
 //
 // Usage: node demo-data/generate.mjs [output-dir]   (default: the folder of this script)
 
@@ -737,6 +738,1030 @@ function buildColumnar(chat, plain) {
   return { manifest, chatRows: rows.length, textRows: textRows.length };
 }
 
+// ---------------------------------------------------------------- shards in each training-data layout
+
+const ids = (prefix, n) => `${prefix}-${String(n).padStart(6, '0')}`;
+const topicByKey = (key) => TOPICS.find((t) => t.key === key);
+
+/** Writes a JSON Lines shard from `count` records, breaking the ones `broken` names (line → maker). */
+function buildShard(name, count, make, broken) {
+  const lines = [];
+  for (let n = 1; n <= count; n++) {
+    const rec = make(n);
+    const br = broken.get(n);
+    if (!br) {
+      lines.push({ bytes: line(rec) });
+      continue;
+    }
+    const info = br(rec, n);
+    lines.push(info.bytes ? info : { bytes: line(rec), ...info });
+  }
+  writeJsonl(name, lines);
+  return { name, manifest: manifestEntries(name, lines), lines: lines.length };
+}
+
+// ---- tools: definitions (JSON Schema parameters), the parts counter and the bench book
+
+const TOOL_DEFS = [
+  {
+    name: 'lookup_part_stock',
+    description: 'How many of a part the co-op parts counter has, and the member price.',
+    parameters: {
+      type: 'object',
+      properties: {
+        part: { type: 'string', enum: ['brake pads', 'chain', 'tyre', 'sealant', 'inner tube', 'gear cable', 'cassette'] },
+        variant: { type: 'string', description: 'Brand, model and size as the member names them' },
+      },
+      required: ['part'],
+    },
+  },
+  {
+    name: 'check_workshop_slots',
+    description: 'Free benches in the open workshop on one date.',
+    parameters: {
+      type: 'object',
+      properties: { date: { type: 'string', format: 'date' }, bench: { type: 'string', enum: ['workstand', 'truing stand', 'repair'] } },
+      required: ['date'],
+    },
+  },
+  {
+    name: 'book_repair_slot',
+    description: 'Books a repair bench with a volunteer mechanic for a member.',
+    parameters: {
+      type: 'object',
+      properties: {
+        date: { type: 'string', format: 'date' },
+        time: { type: 'string', pattern: '^[0-9]{2}:[0-9]{2}$' },
+        member: { type: 'string' },
+        job: { type: 'string' },
+      },
+      required: ['date', 'time', 'member'],
+    },
+  },
+  {
+    name: 'check_tool_library',
+    description: 'Whether a tool of the tool library is free to borrow.',
+    parameters: { type: 'object', properties: { tool: { type: 'string' } }, required: ['tool'] },
+  },
+];
+const OPENAI_TOOLS = TOOL_DEFS.map((f) => ({ type: 'function', function: f }));
+
+function stockParts(s) {
+  const speed = s.chain.split(' ')[1];
+  return [
+    { part: 'brake pads', variant: s.pad, label: `${s.pad} brake pads`, price: 14 },
+    { part: 'chain', variant: s.chain, label: `a ${s.chain} chain`, price: 22 },
+    { part: 'tyre', variant: `${s.tyre} ${s.size}`, label: `${s.tyre} tyres in ${s.size}`, price: 34 },
+    { part: 'sealant', variant: `${s.sealant} 500 ml`, label: `${s.sealant} sealant (the 500 ml bottle)`, price: 12 },
+    { part: 'inner tube', variant: s.size, label: `inner tubes for ${s.size}`, price: 6 },
+    { part: 'gear cable', variant: 'stainless 2100 mm', label: 'a stainless gear cable', price: 4 },
+    { part: 'cassette', variant: `${speed} 11-32`, label: `a ${speed} 11-32 cassette`, price: 28 },
+  ];
+}
+
+const STOCK_ASKS = [
+  (p) => `Do you have ${p.label} in stock?`,
+  (p) => `I need ${p.label}. Have you got any at the counter right now?`,
+  (p) => `Could you check whether the counter has ${p.label}?`,
+  (p) => `Quick one before I cycle over: ${p.label}, in stock or not?`,
+  (p) => `Is it worth coming in today for ${p.label}, or are you out?`,
+];
+
+/** A stock lookup: what the assistant asks the tool, what the tool says, and how the answer reads. */
+function stockLookup(rng, s, p) {
+  const wanted = { part: p.part, variant: p.variant };
+  const count = rng.pick([0, 1, 2, 3, 4, 6, 9, 12]);
+  const restock = count ? null : drawDate(rng);
+  const result = { ...wanted, in_stock: count, member_price: p.price, restock_expected: restock };
+  let answer;
+  if (count > 1) {
+    answer = `Yes, the counter has ${count} in stock (${p.variant}) at $${p.price} for members.${rng.pick([
+      ' Parts are kept behind the counter, so ask whoever is on the till.',
+      ' Non-members pay a little more; the till takes cards and cash.',
+      ` If you'd like a hand fitting it, ${s.mechanic} is on the next shift.`,
+      '',
+    ])}`;
+  } else if (count === 1) {
+    answer = `There's exactly one left (${p.variant}), at $${p.price} for members. The counter can't hold parts, so it's first come, first served.`;
+  } else {
+    answer = `The counter is out of ${p.variant} right now; a restock is expected around ${restock}.${rng.pick([
+      ' The counter can take your name and let you know when it arrives.',
+      ' Meanwhile the donated-parts bins sometimes have a usable spare, so have a look when you are in.',
+    ])}`;
+  }
+  return { call: { name: 'lookup_part_stock', args: wanted }, result, answer, count };
+}
+
+const JOBS = [
+  { job: 'brake bleed', say: 'a brake bleed' }, { job: 'wheel truing', say: 'a wheel that needs truing' },
+  { job: 'chain replacement', say: 'a new chain fitted' }, { job: 'gear indexing', say: 'gears that skip' },
+  { job: 'bottom bracket creak', say: 'a creaking bottom bracket' }, { job: 'headset adjustment', say: 'a loose headset' },
+  { job: 'puncture repair', say: 'a slow puncture' }, { job: 'brake pad change', say: 'new brake pads' },
+];
+
+/** Arguments as the trade writes them: mostly a JSON string, sometimes the object itself. */
+function writeArgs(rng, obj, asObject) {
+  return asObject ? obj : JSON.stringify(obj);
+}
+
+function openAiCallTurn(rng, calls, style) {
+  const turn = { role: 'assistant', content: null };
+  if (style.reasoning) turn.content = [{ type: 'reasoning', text: style.reasoning }];
+  else if (style.preface) turn.content = style.preface;
+  turn.tool_calls = calls.map((c) => ({ id: c.id, type: 'function', function: { name: c.name, arguments: writeArgs(rng, c.args, style.objectArgs) } }));
+  if (style.weightZero) turn.weight = 0;
+  return turn;
+}
+
+function openAiToolTurn(c, result, named) {
+  return { role: 'tool', tool_call_id: c.id, ...(named ? { name: c.name } : {}), content: JSON.stringify(result) };
+}
+
+function answerTurn(rng, text) {
+  return rng.chance(0.1) ? { role: 'assistant', content: [{ type: 'text', text }] } : { role: 'assistant', content: text };
+}
+
+/** A chat with OpenAI-style tool calls: a stock lookup, two lookups at once, a booking, a tool loan. */
+function toolCallsRecord(rng, n) {
+  const s = drawSlots(rng);
+  const flagCalls = rng.chance(0.1);
+  const style = () => {
+    const r = rng.next();
+    return {
+      reasoning: r < 0.12 ? rng.pick([
+        `The member asks about a part, so I check the counter's stock before answering.`,
+        `I should not guess availability; the tools know the bench book and the stock.`,
+        `Look it up first, then answer with the count and the member price.`,
+      ]) : null,
+      preface: r >= 0.12 && r < 0.24 ? rng.pick(['Let me check that for you.', "One moment, I'll look that up.", 'Checking now.']) : null,
+      objectArgs: rng.chance(0.15),
+      weightZero: flagCalls,
+    };
+  };
+  const named = rng.chance(0.3);
+  const messages = [];
+  if (rng.chance(0.6)) messages.push({ role: 'system', content: rng.pick(S.SYSTEM_PROMPTS) });
+  const kind = rng.pick(['stock', 'stock', 'two-parts', 'book', 'book', 'book-direct', 'library']);
+  let used;
+  if (kind === 'stock') {
+    const p = rng.pick(stockParts(s));
+    const look = stockLookup(rng, s, p);
+    const c = { id: callId(rng), ...look.call };
+    messages.push({ role: 'user', content: greet(rng, s, rng.pick(STOCK_ASKS)(p)) }, openAiCallTurn(rng, [c], style()),
+      openAiToolTurn(c, look.result, named), answerTurn(rng, look.answer));
+    used = ['lookup_part_stock'];
+  } else if (kind === 'two-parts') {
+    const [p, q] = rng.sample(stockParts(s), 2);
+    const a = stockLookup(rng, s, p);
+    const b = stockLookup(rng, s, q);
+    const ca = { id: callId(rng), ...a.call };
+    const cb = { id: callId(rng), ...b.call };
+    messages.push(
+      { role: 'user', content: greet(rng, s, rng.pick([
+        `Do you have ${p.label} and ${q.label}? I'd like to do both jobs this week.`,
+        `Two things: ${p.label}, and ${q.label}. Are they both at the counter?`,
+      ])) },
+      openAiCallTurn(rng, [ca, cb], style()), openAiToolTurn(ca, a.result, named), openAiToolTurn(cb, b.result, named),
+      answerTurn(rng, `${a.count ? `${p.variant}: ${a.count} in stock at $${p.price}.` : `${p.variant}: out of stock, restock around ${a.result.restock_expected}.`} ${b.count ? `${q.variant}: ${b.count} in stock at $${q.price}.` : `${q.variant}: out of stock, restock around ${b.result.restock_expected}.`} Member prices; the counter has both lists.`),
+    );
+    used = ['lookup_part_stock'];
+  } else if (kind === 'book') {
+    const when = drawOpenDay(rng);
+    const job = rng.pick(JOBS);
+    const slots = rng.sample(when.day === 'Saturday' ? S.SAT_SLOTS : S.SLOTS, rng.int(1, 4)).sort();
+    const onDuty = rng.sample(S.MECHANICS, 2);
+    const c1 = { id: callId(rng), name: 'check_workshop_slots', args: { date: when.iso, bench: 'repair' } };
+    messages.push(
+      { role: 'user', content: greet(rng, s, rng.pick([
+        `Could I book a repair bench on ${when.spoken}? My ${s.bike} needs ${job.say}.`,
+        `I'd like a slot with a mechanic on ${when.spoken} for ${job.say}.`,
+        `Any room on ${when.spoken}? It's for ${job.say} on my ${s.bike}.`,
+      ])) },
+      openAiCallTurn(rng, [c1], style()),
+      openAiToolTurn(c1, { date: when.iso, day: when.day, free_slots: slots, mechanics_on_duty: onDuty }, named),
+      { role: 'assistant', content: slots.length === 1
+        ? `On ${when.spoken} there's one repair bench left, at ${slots[0]}, with ${onDuty.join(' and ')} on duty. Shall I book it for you?`
+        : `On ${when.spoken} there are repair benches free at ${slots.join(', ')}; ${onDuty.join(' and ')} are on duty. Which time suits you?` },
+    );
+    const time = rng.pick(slots);
+    const c2 = { id: callId(rng), name: 'book_repair_slot', args: { date: when.iso, time, member: s.name, job: job.job } };
+    const ref = `R-${rng.int(1000, 9999)}`;
+    const bench = rng.int(1, 6);
+    messages.push(
+      { role: 'user', content: slots.length === 1 ? rng.pick(['Yes please.', 'Great, book it.', `Yes, ${time} is fine.`]) : rng.pick([`${time} please.`, `Let's do ${time}.`, `The ${time} one works for me.`]) },
+      openAiCallTurn(rng, [c2], style()),
+      openAiToolTurn(c2, { booking_ref: ref, confirmed: true, date: when.iso, time, bench }, named),
+      answerTurn(rng, `Booked: bench ${bench} on ${when.spoken} at ${time}, reference ${ref}. ${rng.pick([
+        'Benches are held for 15 minutes after the start time, so give your name at the counter when you arrive.',
+        `Bring the bike clean if you can; it makes ${job.job} quicker.`,
+        'If you cannot make it, reply here or call the counter so someone else can have the bench.',
+      ])}`),
+    );
+    used = ['check_workshop_slots', 'book_repair_slot'];
+  } else if (kind === 'book-direct') {
+    const when = drawOpenDay(rng);
+    const job = rng.pick(JOBS);
+    const pool = when.day === 'Saturday' ? S.SAT_SLOTS : S.SLOTS;
+    const [time, ...alts] = rng.sample(pool, 3);
+    const c = { id: callId(rng), name: 'book_repair_slot', args: { date: when.iso, time, member: s.name, job: job.job } };
+    const taken = rng.chance(0.45);
+    messages.push(
+      { role: 'user', content: greet(rng, s, rng.pick([
+        `Please book me in at ${time} on ${when.spoken}; it's for ${job.say}.`,
+        `Can you put me down for ${time} on ${when.spoken}? ${job.say[0].toUpperCase()}${job.say.slice(1)}.`,
+      ])) },
+      openAiCallTurn(rng, [c], style()),
+    );
+    if (taken) {
+      const free = alts.sort();
+      messages.push(
+        openAiToolTurn(c, { confirmed: false, reason: 'bench taken', alternatives: free }, named),
+        answerTurn(rng, `${time} on ${when.spoken} is already taken, sorry. I can offer ${free.join(' or ')} the same day instead. Would one of those work?`),
+      );
+    } else {
+      const ref = `R-${rng.int(1000, 9999)}`;
+      messages.push(
+        openAiToolTurn(c, { booking_ref: ref, confirmed: true, date: when.iso, time, bench: rng.int(1, 6) }, named),
+        answerTurn(rng, `You're booked for ${time} on ${when.spoken} (reference ${ref}). ${s.mechanic} or another volunteer will help with the ${job.job}.`),
+      );
+    }
+    used = ['book_repair_slot'];
+  } else {
+    const out = rng.chance(0.4);
+    const back = drawDate(rng);
+    const c = { id: callId(rng), name: 'check_tool_library', args: { tool: s.tool } };
+    messages.push(
+      { role: 'user', content: greet(rng, s, rng.pick([`Is the ${s.tool} free to borrow this week?`, `Can you check if the tool library has the ${s.tool} in?`])) },
+      openAiCallTurn(rng, [c], style()),
+      openAiToolTurn(c, { tool: s.tool, available: !out, on_loan_until: out ? back : null, deposit: 20 }, named),
+      answerTurn(rng, out
+        ? `The ${s.tool} is on loan until ${back}. You can reserve it from then on the members' page; the deposit is $20.`
+        : `The ${s.tool} is in. Loans run up to seven days with a $20 deposit; pick it up during opening hours.`),
+    );
+    used = ['check_tool_library'];
+  }
+  if (rng.chance(0.3)) {
+    const [q, a] = rng.pick(THANKS);
+    messages.push({ role: 'user', content: q(s) }, { role: 'assistant', content: a(s) });
+  }
+  const tools = rng.chance(0.7) ? OPENAI_TOOLS : OPENAI_TOOLS.filter((t) => used.includes(t.function.name));
+  return { id: ids('tc', n), source: rng.pick(S.SOURCES), created: drawTimestamp(rng), tools, messages };
+}
+
+function firstCall(rec) {
+  return rec.messages.find((t) => t.tool_calls?.length).tool_calls[0];
+}
+
+function buildToolCalls(rng) {
+  const broken = new Map([
+    [31, (r) => {
+      const fn = firstCall(r).function;
+      const args = typeof fn.arguments === 'string' ? JSON.parse(fn.arguments) : fn.arguments;
+      fn.arguments = `{${Object.entries(args).map(([k, v]) => `'${k}': '${v}'`).join(', ')}}`;
+      return { what: 'tool-call arguments written with single quotes (not JSON)', rules: ['tool-arguments-invalid'] };
+    }],
+    [74, (r) => {
+      const fn = firstCall(r).function;
+      const text = typeof fn.arguments === 'string' ? fn.arguments : JSON.stringify(fn.arguments);
+      fn.arguments = text.slice(0, Math.floor(text.length / 2));
+      return { what: 'tool-call arguments cut off halfway (not JSON)', rules: ['tool-arguments-invalid'] };
+    }],
+    [97, (r) => ({
+      bytes: enc(JSON.stringify(r).replace(/"created":"[^"]+"/, (m) => `${m},"created":"2024-02-30T09:00:00Z"`)),
+      what: 'key "created" appears twice', rules: ['key-duplicate'],
+    })],
+    [118, (r) => {
+      const tool = r.messages.find((t) => t.role === 'tool');
+      tool.tool_call_id = tool.tool_call_id.slice(0, -1) + (tool.tool_call_id.endsWith('x') ? 'y' : 'x');
+      return { what: 'a tool answer names a call id no assistant turn made (one character off)', rules: ['chat-tool-orphan'] };
+    }],
+    [152, (r) => {
+      const last = r.messages.map((t) => t.role).lastIndexOf('tool');
+      r.messages.splice(last + 1);
+      return { what: 'the chat stops at the tool answer, before the assistant replies', rules: ['chat-last-not-assistant'] };
+    }],
+    [189, (r) => {
+      const user = r.messages.find((t) => t.role === 'user');
+      r.messages = [...(r.messages[0].role === 'system' ? [r.messages[0]] : []), user, { role: 'assistant', content: null, tool_calls: [] }];
+      return { what: 'assistant turn with null content and an empty tool_calls list', rules: ['chat-content-empty'] };
+    }],
+    [213, (r) => {
+      const t = JSON.stringify(r);
+      return { bytes: enc(t.slice(0, Math.floor(t.length * 0.7))), what: 'record cut off mid-line (truncated object)', rules: ['json-syntax'] };
+    }],
+    [240, (r) => {
+      const tool = r.messages.find((t) => t.role === 'tool');
+      tool.content += '<|im_end|>';
+      return { what: 'a tool answer ends with the chat marker <|im_end|> spelled out', rules: ['tokens-special-text'] };
+    }],
+  ]);
+  return buildShard('tool-calls.jsonl', 260, (n) => toolCallsRecord(rng, n), broken);
+}
+
+// ---- conversations with from/value speakers, tool calls as function_call/observation turns
+
+const FLAT_TOOLS = TOOL_DEFS.filter((t) => t.name !== 'book_repair_slot');
+
+function fromValueRecord(rng, n, needsCall) {
+  const s = drawSlots(rng);
+  const conv = [];
+  const withTools = rng.chance(0.55) || needsCall;
+  if (rng.chance(withTools ? 0.8 : 0.45)) conv.push({ from: 'system', value: rng.pick(S.SYSTEM_PROMPTS) });
+  if (withTools) {
+    const kind = rng.pick(['stock', 'stock', 'slots', 'library']);
+    let ask; let call; let result; let answer;
+    if (kind === 'stock') {
+      const p = rng.pick(stockParts(s));
+      const look = stockLookup(rng, s, p);
+      ask = rng.pick(STOCK_ASKS)(p);
+      call = look.call;
+      result = look.result;
+      answer = look.answer;
+    } else if (kind === 'slots') {
+      const when = drawOpenDay(rng);
+      const slots = rng.sample(when.day === 'Saturday' ? S.SAT_SLOTS : S.SLOTS, rng.int(0, 3)).sort();
+      ask = rng.pick([
+        `Is there a free workstand on ${when.spoken}? I want to swap my cassette.`,
+        `How busy is the workshop on ${when.spoken}? I'd need a truing stand for an hour.`,
+      ]);
+      call = { name: 'check_workshop_slots', args: { date: when.iso, bench: ask.includes('truing') ? 'truing stand' : 'workstand' } };
+      result = { date: when.iso, free_slots: slots };
+      answer = slots.length
+        ? `There's room on ${when.spoken} at ${slots.join(', ')}. Benches aren't reserved through me, so arrive close to the time and give your name at the counter.`
+        : `Everything is taken on ${when.spoken}, I'm afraid. Benches often free up later in the session, and the counter keeps a waiting list.`;
+    } else {
+      const out = rng.chance(0.4);
+      const back = drawDate(rng);
+      ask = rng.pick([`Can I borrow the ${s.tool} this weekend?`, `Is the ${s.tool} back in the tool library?`]);
+      call = { name: 'check_tool_library', args: { tool: s.tool } };
+      result = { tool: s.tool, available: !out, on_loan_until: out ? back : null };
+      answer = out ? `Not yet: the ${s.tool} is out until ${back}.` : `Yes, the ${s.tool} is in. Loans are up to seven days, with a $20 deposit.`;
+    }
+    conv.push(
+      { from: 'human', value: greet(rng, s, ask) },
+      { from: 'function_call', value: JSON.stringify({ name: call.name, arguments: call.args }) },
+      { from: 'observation', value: JSON.stringify(result) },
+      { from: 'gpt', value: answer },
+    );
+    if (rng.chance(0.3)) {
+      const [q, a] = rng.pick(THANKS);
+      conv.push({ from: 'human', value: q(s) }, { from: 'gpt', value: a(s) });
+    }
+  } else {
+    const MAP = { system: 'system', user: 'human', assistant: 'gpt' };
+    for (const t of plainChat(rng)) if (t.role !== 'system') conv.push({ from: MAP[t.role], value: t.content });
+  }
+  const rec = { id: ids('wf', n), source: rng.pick(S.SOURCES), created: drawTimestamp(rng), conversations: conv };
+  if (withTools) rec.tools = FLAT_TOOLS;
+  return rec;
+}
+
+function buildWorkshopFromValue(rng) {
+  const broken = new Map([
+    [27, (r) => {
+      const t = r.conversations.find((x) => x.from === 'function_call');
+      const { name, arguments: a } = JSON.parse(t.value);
+      t.value = `${name}(${Object.entries(a).map(([k, v]) => `${k}="${v}"`).join(', ')})`;
+      return { what: 'function_call turn written as a function call expression, not JSON', rules: ['tool-arguments-invalid'] };
+    }],
+    [63, (r, n) => {
+      const at = r.conversations.findIndex((t) => t.from === 'human');
+      r.conversations.splice(at + 1, 0, { from: 'volunteer', value: `${S.MECHANICS[n % S.MECHANICS.length]} here from the workshop floor: I can have a look on Thursday.` });
+      return { what: 'unknown speaker "volunteer"', rules: ['chat-role-unknown'] };
+    }],
+    [104, (r) => {
+      const at = r.conversations.findIndex((t) => t.from === 'human');
+      r.conversations.splice(at + 1, 0, { from: 'human', value: 'Sorry, pressed enter too early.' });
+      return { what: 'two human turns in a row', rules: ['chat-role-repeated'] };
+    }],
+    [141, (r) => {
+      const at = r.conversations.findIndex((t) => t.from === 'observation');
+      r.conversations.splice(at + 1);
+      return { what: 'the chat stops at the observation, before the assistant replies', rules: ['chat-last-not-assistant'] };
+    }],
+    [177, (r) => {
+      const at = r.conversations.findIndex((t) => t.from === 'gpt');
+      r.conversations.splice(at + 1, 0, { from: 'system', value: S.SYSTEM_PROMPTS[2] });
+      if (at + 2 === r.conversations.length) {
+        r.conversations.push({ from: 'human', value: 'And are you open on public holidays?' },
+          { from: 'gpt', value: 'The workshop closes on public holidays; the newsletter lists the dates for the year.' });
+      }
+      return { what: 'a system turn in the middle of the chat', rules: ['chat-system-misplaced'] };
+    }],
+    [205, (r) => {
+      r.conversations[r.conversations.length - 1].value = '';
+      return { what: 'the last gpt turn is empty', rules: ['chat-content-empty'] };
+    }],
+  ]);
+  return buildShard('workshop-chats-from-value.jsonl', 220, (n) => fromValueRecord(rng, n, n === 27 || n === 141), broken);
+}
+
+// ---- instruction records
+
+const AREAS = {
+  'brake-pads': 'brakes', 'disc-rub': 'brakes', 'rim-brake': 'brakes', tubeless: 'tyres', puncture: 'tyres', pressure: 'tyres',
+  'chain-wear': 'drivetrain', 'chain-care': 'drivetrain', indexing: 'drivetrain', 'limit-screws': 'drivetrain', cassette: 'drivetrain',
+  'bottom-bracket': 'drivetrain', truing: 'wheels', 'broken-spoke': 'wheels', hubs: 'wheels', headset: 'steering and fit', fit: 'steering and fit',
+  hours: 'workshop', 'tool-library': 'workshop', volunteering: 'workshop', classes: 'workshop', donations: 'workshop', refurbished: 'workshop',
+  dues: 'membership', ebike: 'e-bikes',
+};
+const AREA_LIST = [...new Set(Object.values(AREAS))];
+
+const ANSWER_INSTRUCTIONS = [
+  "Answer the member's question as the co-op's help assistant.",
+  'Reply to this message from a co-op member.',
+  'You are staffing the co-op help desk. Respond to the member below.',
+  'Write the help desk reply to the following question.',
+];
+
+const NOTICES = [
+  (s, d) => [`Write a short workshop notice: the open workshop closes at 19:00 on ${s.day} ${d} for volunteer training.`,
+    `Workshop notice: on ${s.day} ${d} the open workshop closes early, at 19:00, for a volunteer training evening. Benches booked after 19:00 will be moved; the counter will contact you. Thanks for your patience.`],
+  (s) => [`Write a two-sentence notice that the ${s.tool} is out for repair.`,
+    `The ${s.tool} from the tool library is out for repair. Loans and bookings are paused until it's back, and we'll post here when it is.`],
+  (s) => [`Draft a notice that the parts counter takes cash only on ${s.day} while the card reader is replaced.`,
+    `Heads up: on ${s.day} the parts counter is cash only while the card reader is replaced. Workshop dues can still be paid online as usual.`],
+  (s) => [`Write a friendly reminder asking members to put tools back on their outlines.`,
+    `A friendly reminder: please put every tool back on its outline before you leave the bench. ${s.mechanic} found a ${s.tool} in the parts bin last week, which is not where it lives!`],
+];
+
+function logEntries(rng, count) {
+  const out = [];
+  for (let i = 0; i < count; i++) {
+    const js = { ...drawSlots(rng), wear: rng.pick(['0.5', '0.75', '1.0']), lat: rng.pick(['0.5', '1', '1.5']), ml: rng.pick([30, 60, 90]), spoke: rng.int(258, 298) };
+    out.push({ date: drawDate(rng), fleet: rng.int(1, 40), bike: js.bike, job: rng.pick(LOG_JOBS)(js), minutes: rng.pick([15, 20, 30, 45, 60, 75]), mechanic: js.mechanic });
+  }
+  return out.sort((a, b) => a.date.localeCompare(b.date));
+}
+
+function instructionRecord(rng, n) {
+  const s = drawSlots(rng);
+  const topic = rng.pick(TOPICS);
+  const rec = { id: ids('in', n) };
+  if (rng.chance(0.3)) rec.system = rng.pick(S.SYSTEM_PROMPTS);
+  const kind = rng.pick(['answer', 'answer', 'answer', 'direct', 'direct', 'classify', 'notice', 'log']);
+  if ((kind === 'answer' || kind === 'direct') && rng.chance(0.35) && topic.followups.length) {
+    const [ask, answer] = askAndAnswer(rng, topic, s);
+    const [fq, fa] = rng.pick(topic.followups);
+    rec.history = [[ask, answer]];
+    rec.instruction = fq(s);
+    rec.input = '';
+    rec.output = fa(s);
+  } else if (kind === 'answer') {
+    const [ask, answer] = askAndAnswer(rng, topic, s);
+    Object.assign(rec, { instruction: rng.pick(ANSWER_INSTRUCTIONS), input: greet(rng, s, ask), output: answer });
+  } else if (kind === 'direct') {
+    const [ask, answer] = askAndAnswer(rng, topic, s);
+    Object.assign(rec, { instruction: ask, ...(rng.chance(0.5) ? { input: '' } : {}), output: answer });
+  } else if (kind === 'classify') {
+    const [ask] = askAndAnswer(rng, topic, s);
+    Object.assign(rec, {
+      instruction: `Which area of the workshop does this question belong to? Answer with one of: ${AREA_LIST.join(', ')}.`,
+      input: ask,
+      output: AREAS[topic.key],
+    });
+  } else if (kind === 'notice') {
+    const [instruction, output] = rng.pick(NOTICES)(s, drawDate(rng));
+    Object.assign(rec, { instruction, output });
+  } else {
+    const entries = logEntries(rng, rng.int(3, 6));
+    const minutes = entries.reduce((a, e) => a + e.minutes, 0);
+    const people = [...new Set(entries.map((e) => e.mechanic))];
+    Object.assign(rec, {
+      instruction: rng.pick(['Summarise these workshop log entries for the volunteers\' handover note.', 'Turn this log into a one-paragraph handover note for the next shift.']),
+      input: entries.map((e) => `${e.date} | fleet #${e.fleet} ${e.bike} | ${e.job} | ${e.minutes} min | ${e.mechanic}`).join('\n'),
+      output: `${entries.length} jobs logged between ${entries[0].date} and ${entries[entries.length - 1].date}, ${minutes} minutes of bench time in all, by ${people.join(', ').replace(/, ([^,]*)$/, ' and $1')}. Jobs: ${entries.map((e) => `fleet #${e.fleet}, ${e.job}`).join('; ')}.`,
+    });
+  }
+  return rec;
+}
+
+function buildInstruction(rng) {
+  const broken = new Map([
+    [22, (r) => { delete r.output; return { what: 'no output field', rules: ['instruction-output-missing'] }; }],
+    [58, (r) => { r.output = ''; return { what: 'output is an empty string', rules: ['instruction-output-missing'] }; }],
+    [96, (r) => { r.output = ' \n'; return { what: 'output is only white space', rules: ['instruction-output-missing'] }; }],
+    [133, (r) => {
+      const turns = longLogChat(rng);
+      const user = turns.find((t) => t.role === 'user').content;
+      const assistant = turns.find((t) => t.role === 'assistant').content;
+      Object.assign(r, {
+        instruction: 'Tell the fleet coordinator which jobs come up most in this maintenance log, so they can plan the next parts order.',
+        input: user.slice(user.indexOf('\n\n') + 2),
+        output: assistant,
+      });
+      delete r.history;
+      return { what: 'the whole fleet maintenance log as input: well over 8,192 cl100k_base tokens', rules: ['tokens-over-context'] };
+    }],
+    [171, (r) => ({
+      bytes: line({ id: r.id, messages: plainChat(rng) }),
+      what: 'a chat (messages list) among instruction records', rules: ['layout-mismatch'],
+    })],
+    [208, (r) => { r.output += '<|endoftext|>'; return { what: 'output ends with the special token <|endoftext|> spelled out', rules: ['tokens-special-text'] }; }],
+    [231, (r) => {
+      r.output = `${r.output} (Ask at the caf@@BAD@@ corner if the counter is busy.)`;
+      return { bytes: withBadBytes(r, '@@BAD@@', [0xe9]), what: 'Latin-1 byte 0xE9 inside the output (invalid UTF-8)', rules: ['utf8-invalid'] };
+    }],
+  ]);
+  return buildShard('instruction.jsonl', 250, (n) => instructionRecord(rng, n), broken);
+}
+
+// ---- prompt and completion: strings, turn lists, or a turn-list prompt with a string completion
+
+function promptCompletionRecord(rng, n) {
+  const s = drawSlots(rng);
+  const topic = rng.pick(TOPICS);
+  const [ask, answer] = askAndAnswer(rng, topic, s);
+  const form = rng.pick(['strings', 'strings', 'strings', 'turns', 'turns', 'turns-string']);
+  const rec = { id: ids('pc', n) };
+  if (form === 'strings') {
+    const frame = rng.int(0, 2);
+    rec.prompt = [ask, `Member: ${ask}\n${S.ASSISTANT}:`, `Question from a co-op member: ${ask}\n\nAnswer:`][frame];
+    rec.completion = frame === 0 ? answer : ` ${answer}`;
+    return rec;
+  }
+  const prompt = [];
+  if (rng.chance(0.45)) prompt.push({ role: 'system', content: rng.pick(S.SYSTEM_PROMPTS) });
+  let reply = answer;
+  if (rng.chance(0.35) && topic.followups.length) {
+    const [fq, fa] = rng.pick(topic.followups);
+    prompt.push({ role: 'user', content: greet(rng, s, ask) }, { role: 'assistant', content: answer }, { role: 'user', content: fq(s) });
+    reply = fa(s);
+  } else {
+    prompt.push({ role: 'user', content: greet(rng, s, ask) });
+  }
+  rec.prompt = prompt;
+  rec.completion = form === 'turns' ? [{ role: 'assistant', content: reply }] : reply;
+  return rec;
+}
+
+function buildPromptCompletion(rng) {
+  const broken = new Map([
+    [29, (r) => {
+      r.completion.push({ role: 'user', content: 'Thanks! And do I need to book for that?' });
+      return { what: 'the conversational completion ends with a user turn', rules: ['chat-last-not-assistant'] };
+    }],
+    [77, (r) => { r.completion[0].content = ''; return { what: 'the completion turn is empty', rules: ['chat-content-empty'] }; }],
+    [123, (r) => {
+      const at = r.prompt.findIndex((t) => t.role === 'user');
+      r.prompt.splice(at, 0, { role: 'volunteer', content: `Note from ${S.MECHANICS[1]}: this member came in last week about the same bike.` });
+      return { what: 'a prompt turn with the unknown role "volunteer"', rules: ['chat-role-unknown'] };
+    }],
+    [166, (r) => {
+      const s = drawSlots(rng);
+      const [ask, answer] = askAndAnswer(rng, rng.pick(TOPICS), s);
+      return { bytes: line({ id: r.id, prompt: ask, chosen: answer, rejected: rng.pick(WEAK_ANSWERS)(s) }), what: 'a preference pair among prompt/completion records', rules: ['layout-mismatch'] };
+    }],
+    [204, (r) => ({
+      bytes: enc(JSON.stringify({ ...r, ticket_id: 1 }).replace('"ticket_id":1', '"ticket_id":18446744073709551615')),
+      what: 'ticket_id 2^64-1 is beyond 2^53-1', rules: ['number-unsafe'],
+    })],
+    [251, (r) => ({ bytes: enc(JSON.stringify(r) + JSON.stringify({ ...r, id: r.id.replace(/.$/, 'x') })), what: 'two records on one line (a missing newline)', rules: ['json-syntax'] })],
+    [283, (r) => {
+      const text = typeof r.completion === 'string' ? r.completion : r.completion[0].content;
+      const bad = `${text} Enjoy the ride \ud83d`;
+      if (typeof r.completion === 'string') r.completion = bad;
+      else r.completion[0].content = bad;
+      return { what: 'lone high surrogate escape \\ud83d at the end of the completion (half an emoji)', rules: ['surrogate-unpaired'] };
+    }],
+  ]);
+  const forms = new Map([[29, 'turns'], [77, 'turns'], [123, 'turns']]);
+  return buildShard('prompt-completion.jsonl', 300, (n) => {
+    // The broken conversational records need the conversational form: draw until it comes.
+    for (;;) {
+      const rec = promptCompletionRecord(rng, n);
+      if (!forms.has(n) || Array.isArray(rec.completion)) return rec;
+    }
+  }, broken);
+}
+
+// ---- preference pairs as whole Human/Assistant transcripts
+
+function transcript(turns) {
+  return turns.map(([who, text]) => `\n\n${who}: ${text}`).join('');
+}
+
+function transcriptPair(rng, multi) {
+  const s = drawSlots(rng);
+  const topic = rng.pick(TOPICS.filter((t) => !multi || t.followups.length));
+  const [ask, answer] = askAndAnswer(rng, topic, s);
+  const head = [['Human', greet(rng, s, ask)]];
+  let good = answer;
+  if (multi) {
+    const [fq, fa] = rng.pick(topic.followups);
+    head.push(['Assistant', answer], ['Human', fq(s)]);
+    good = fa(s);
+  }
+  return { head, good, weak: rng.pick(WEAK_ANSWERS)(s) };
+}
+
+function buildPreferenceTranscripts(rng) {
+  const multiAt = new Set([147, 188]);
+  const pairs = new Map();
+  const make = (n) => {
+    const p = transcriptPair(rng, multiAt.has(n) || rng.chance(0.35));
+    pairs.set(n, p);
+    return { id: ids('tr', n), chosen: transcript([...p.head, ['Assistant', p.good]]), rejected: transcript([...p.head, ['Assistant', p.weak]]) };
+  };
+  const broken = new Map([
+    [19, (r, n) => {
+      let other;
+      do other = transcriptPair(rng, false); while (other.head[0][1] === pairs.get(n).head[0][1]);
+      r.rejected = transcript([...other.head, ['Assistant', other.weak]]);
+      return { what: "rejected is another member's chat: the two transcripts share no prompt", rules: ['pair-prompt-mismatch'] };
+    }],
+    [61, (r) => { r.rejected = r.chosen; return { what: 'chosen and rejected transcripts are identical', rules: ['pair-identical'] }; }],
+    [102, (r) => { delete r.rejected; return { what: 'rejected transcript missing', rules: ['pair-side-missing'] }; }],
+    [147, (r, n) => {
+      r.chosen = transcript(pairs.get(n).head);
+      return { what: 'the chosen transcript stops at the Human turn, before any answer', rules: ['chat-last-not-assistant'] };
+    }],
+    [188, (r, n) => {
+      const p = pairs.get(n);
+      const head = p.head.map((t) => [...t]);
+      head[1][1] = `${head[1][1]} (Edited: see the workshop notice board for details.)`;
+      r.rejected = transcript([...head, ['Assistant', p.weak]]);
+      return { what: 'the earlier Assistant turn differs between the transcripts', rules: ['pair-prompt-mismatch'] };
+    }],
+    [226, (r) => { r.chosen += '<|endoftext|>'; return { what: 'chosen transcript ends with the special token <|endoftext|> spelled out', rules: ['tokens-special-text'] }; }],
+  ]);
+  return buildShard('preference-transcripts.jsonl', 240, make, broken);
+}
+
+// ---- preference pairs: a messages prompt with chosen/rejected strings or single turns
+
+function buildPreferenceMessages(rng) {
+  const turnFormAt = new Set([118]);
+  const stringFormAt = new Set([33, 79]);
+  const make = (n) => {
+    const s = drawSlots(rng);
+    const topic = rng.pick(TOPICS);
+    const [ask, answer] = askAndAnswer(rng, topic, s);
+    const messages = [];
+    if (rng.chance(0.4)) messages.push({ role: 'system', content: rng.pick(S.SYSTEM_PROMPTS) });
+    let good = answer;
+    if (rng.chance(0.3) && topic.followups.length) {
+      const [fq, fa] = rng.pick(topic.followups);
+      messages.push({ role: 'user', content: greet(rng, s, ask) }, { role: 'assistant', content: answer }, { role: 'user', content: fq(s) });
+      good = fa(s);
+    } else {
+      messages.push({ role: 'user', content: greet(rng, s, ask) });
+    }
+    const weak = rng.pick(WEAK_ANSWERS)(s);
+    const asTurns = turnFormAt.has(n) || (!stringFormAt.has(n) && rng.chance(0.35));
+    const side = (text) => (asTurns ? { role: 'assistant', content: text } : text);
+    return { id: ids('pm', n), messages, chosen: side(good), rejected: side(weak) };
+  };
+  const broken = new Map([
+    [33, (r) => { r.rejected = r.chosen; return { what: 'chosen and rejected are the same string', rules: ['pair-identical'] }; }],
+    [79, (r) => { r.rejected = ''; return { what: 'rejected is an empty string', rules: ['pair-side-empty'] }; }],
+    [118, (r) => { r.chosen.content = ''; return { what: 'the chosen turn has empty content', rules: ['chat-content-empty'] }; }],
+    [156, (r) => {
+      if (r.messages[0].role === 'system') delete r.messages[0].role;
+      else r.messages.unshift({ content: S.SYSTEM_PROMPTS[0] });
+      return { what: 'the system prompt turn has no role', rules: ['chat-role-missing'] };
+    }],
+    [197, (r) => ({ bytes: line({ id: r.id, messages: plainChat(rng) }), what: 'a whole chat with no chosen or rejected answer among preference pairs', rules: ['layout-mismatch'] })],
+    [222, () => ({ bytes: enc(''), what: 'blank line', rules: ['line-blank'] })],
+  ]);
+  return buildShard('preference-messages.jsonl', 240, make, broken);
+}
+
+// ---- unpaired feedback: one completion with a boolean label
+
+function buildFeedback(rng) {
+  const make = (n) => {
+    const s = drawSlots(rng);
+    const [ask, answer] = askAndAnswer(rng, rng.pick(TOPICS), s);
+    const good = rng.chance(0.6);
+    return {
+      id: ids('fb', n),
+      prompt: rng.chance(0.3) ? `Member question: ${ask}` : greet(rng, s, ask),
+      completion: good ? answer : rng.pick(WEAK_ANSWERS)(s),
+      label: good,
+    };
+  };
+  const broken = new Map([
+    [24, (r) => { r.label = String(r.label); return { what: `label is the string "${r.label}", not a boolean`, rules: ['feedback-label-invalid'] }; }],
+    [69, (r) => { r.label = r.label ? 1 : 0; return { what: `label is the number ${r.label}, not a boolean`, rules: ['feedback-label-invalid'] }; }],
+    [115, (r) => { r.label = null; return { what: 'label is null', rules: ['feedback-label-invalid'] }; }],
+    [158, (r) => { delete r.label; return { what: 'no label: a plain prompt/completion record among feedback records', rules: ['layout-mismatch'] }; }],
+    [201, (r) => { r.completion += '<|endoftext|>'; return { what: 'completion ends with the special token <|endoftext|> spelled out', rules: ['tokens-special-text'] }; }],
+    [244, (r) => ({ bytes: enc(JSON.stringify(r).replace(/\}$/, ',}')), what: 'trailing comma before the closing brace', rules: ['json-syntax'] })],
+  ]);
+  return buildShard('feedback.jsonl', 260, make, broken);
+}
+
+// ---- images drawn here: tiny PNGs (W3C PNG, one stored deflate block, so the bytes never depend on a zlib build)
+
+const CRC_TABLE = Array.from({ length: 256 }, (_, n) => {
+  let c = n;
+  for (let k = 0; k < 8; k++) c = c & 1 ? 0xedb88320 ^ (c >>> 1) : c >>> 1;
+  return c >>> 0;
+});
+function crc32(buf) {
+  let c = 0xffffffff;
+  for (const b of buf) c = CRC_TABLE[(c ^ b) & 0xff] ^ (c >>> 8);
+  return (c ^ 0xffffffff) >>> 0;
+}
+function adler32(buf) {
+  let a = 1;
+  let b = 0;
+  for (const x of buf) {
+    a = (a + x) % 65521;
+    b = (b + a) % 65521;
+  }
+  return ((b << 16) | a) >>> 0;
+}
+const u32 = (n) => { const b = Buffer.alloc(4); b.writeUInt32BE(n >>> 0); return b; };
+
+/** A truecolour PNG of `size`×`size` pixels, `pixel(x, y)` giving [r, g, b]. */
+function drawPng(size, pixel) {
+  const stride = 1 + size * 3;
+  const raw = Buffer.alloc(size * stride);
+  for (let y = 0; y < size; y++) {
+    for (let x = 0; x < size; x++) raw.set(pixel(x, y), y * stride + 1 + x * 3);
+  }
+  const len = raw.length;
+  const zlib = Buffer.concat([Buffer.from([0x78, 0x01, 0x01, len & 0xff, len >> 8, ~len & 0xff, (~len >> 8) & 0xff]), raw, u32(adler32(raw))]);
+  const chunk = (type, data) => Buffer.concat([u32(data.length), Buffer.from(type, 'latin1'), data, u32(crc32(Buffer.concat([Buffer.from(type, 'latin1'), data])))]);
+  const ihdr = Buffer.concat([u32(size), u32(size), Buffer.from([8, 2, 0, 0, 0])]);
+  return Buffer.concat([Buffer.from([0x89, 0x50, 0x4e, 0x47, 0x0d, 0x0a, 0x1a, 0x0a]), chunk('IHDR', ihdr), chunk('IDAT', zlib), chunk('IEND', Buffer.alloc(0))]);
+}
+
+const IMAGES = {
+  // A brake pad seen edge on: steel backing plate, a sliver of brown friction material, the rotor below.
+  'media/worn-brake-pads.png': drawPng(16, (x, y) => {
+    if (y >= 4 && y <= 10 && x >= 2 && x <= 13) return (x + y) % 5 === 0 ? [104, 108, 114] : [122, 126, 132];
+    if (y === 11 && x >= 3 && x <= 12) return [96, 70, 48];
+    if (y === 13) return [184, 188, 194];
+    return [232, 231, 226];
+  }),
+  // Chain links on a diagonal, plates alternating bare steel and rust.
+  'media/rusty-chain.png': drawPng(16, (x, y) => {
+    const d = Math.abs(x - y);
+    if (d <= 2) {
+      const link = Math.floor((x + y) / 4);
+      if (d <= 0 && (x + y) % 4 === 0) return [40, 38, 36];
+      return link % 2 === 0 ? [168, 92, 40] : [78, 78, 82];
+    }
+    return [241, 237, 229];
+  }),
+  // A disc rotor: a silver ring with vent holes, a dark spider, a blue heat tint on one side.
+  'media/disc-rotor.png': drawPng(16, (x, y) => {
+    const dx = x - 7.5;
+    const dy = y - 7.5;
+    const r = Math.hypot(dx, dy);
+    if (r < 2.5) return [58, 58, 62];
+    if (r >= 4.5 && r <= 7.5) {
+      const a = Math.atan2(dy, dx);
+      if (Math.abs(r - 6) < 0.8 && Math.abs(Math.sin(a * 4)) < 0.25) return [236, 236, 236];
+      return dx > 2 ? [132, 140, 176] : [178, 182, 188];
+    }
+    if (r < 4.5 && (Math.abs(dx) < 0.8 || Math.abs(dy) < 0.8)) return [58, 58, 62];
+    return [236, 236, 236];
+  }),
+};
+const dataUrl = (file) => `data:image/png;base64,${IMAGES[file].toString('base64')}`;
+
+const PICTURES = [
+  {
+    file: 'media/worn-brake-pads.png', what: 'brake pads', topic: 'brake-pads',
+    asks: [
+      () => 'This is what my front brake pads look like after the winter. Do they need replacing?',
+      (s) => `Photo of the pads from my ${s.bike}. How much life is left in them?`,
+      () => 'Took the wheel out and photographed the caliper. Are these pads finished?',
+    ],
+    answers: [
+      (s) => `From the photo, the friction material is down to a thin strip on the backing plate, well under the 1.5 mm where we'd replace them. Please don't ride far on them: once the plate touches the rotor, braking gets weak and the rotor is damaged. ${s.pad} pads are $14 for members.`,
+      (s) => `Those look worn out: there's barely any pad material left above the metal plate. Replace both pads in the caliper together and check the rotor for grooves while the wheel is out. ${s.mechanic} can show you how at the open workshop on ${s.day}.`,
+    ],
+  },
+  {
+    file: 'media/rusty-chain.png', what: 'chain', topic: 'chain-care',
+    asks: [
+      () => 'My bike stood outside all winter and the chain looks like this. Can it be saved?',
+      () => 'Is this much rust on the chain a problem?',
+      (s) => `Here's the chain on my ${s.bike}. Clean it or bin it?`,
+    ],
+    answers: [
+      (s) => `That's mostly surface rust. Scrub it with degreaser and a brush, dry it, and oil every roller. Then pedal backwards and watch for stiff links: if links stay kinked, or the chain checker reads 0.75% or more, replace it. A ${s.chain} chain is $22 at the counter.`,
+      () => 'The orange on the plates is surface rust; what matters is whether the links still move freely. Flex a few by hand. If they stay stiff after cleaning and oiling, fit a new chain, because a badly rusted chain can snap under load.',
+    ],
+  },
+  {
+    file: 'media/disc-rotor.png', what: 'rotor', topic: 'disc-rub',
+    asks: [
+      () => 'Is my rotor warped? It has gone bluish on one side after a long descent.',
+      () => 'This is my rear rotor. Does it look bent to you?',
+      () => 'The rotor has turned this colour. Is that bad?',
+    ],
+    answers: [
+      () => 'The blue tint is heat discolouration from hard braking. On its own it is usually harmless, though it can glaze the pads. Spin the wheel and watch the gap at the caliper: if the rotor wobbles, straighten it gently with the rotor truing fork from the tool library.',
+      (s) => `A little blue or gold colour after a long descent is normal. What matters is that the rotor runs straight and is thicker than the minimum stamped on it, often 1.5 mm. Bring it in on ${s.day} and ${s.mechanic} can measure it.`,
+    ],
+  },
+];
+
+function multimodalRecord(rng, n, form) {
+  const s = drawSlots(rng);
+  const messages = [];
+  if (rng.chance(0.3)) messages.push({ role: 'system', content: rng.pick(S.SYSTEM_PROMPTS) });
+  const rec = { id: ids('mm', n), source: rng.pick(['member-chat', 'workshop-kiosk']), created: drawTimestamp(rng) };
+  const pic = rng.pick(PICTURES);
+  form ??= rng.pick(['parts', 'parts', 'parts', 'placeholder', 'placeholder-two']);
+  if (form === 'parts') {
+    const ask = rng.pick(pic.asks)(s);
+    const textPart = rng.chance(0.2) ? { type: 'text', value: ask } : { type: 'text', text: ask };
+    const image = { type: 'image', image: rng.chance(0.35) ? dataUrl(pic.file) : pic.file };
+    messages.push({ role: 'user', content: rng.chance(0.5) ? [image, textPart] : [textPart, image] }, { role: 'assistant', content: rng.pick(pic.answers)(s) });
+  } else if (form === 'placeholder') {
+    const ask = rng.pick(pic.asks)(s);
+    messages.push({ role: 'user', content: rng.chance(0.6) ? `<image>\n${ask}` : `${ask}\n<image>` }, { role: 'assistant', content: rng.pick(pic.answers)(s) });
+    rec.images = [pic.file];
+  } else {
+    const [a, b] = rng.sample(PICTURES, 2);
+    messages.push(
+      { role: 'user', content: `<image>\n<image>\nThe first photo is my ${a.what}, the second my ${b.what}. ${rng.pick(['What do you make of them?', 'Which should I deal with first?', 'Are either of these a problem?'])}` },
+      { role: 'assistant', content: `Taking them in order. ${rng.pick(a.answers)(s)}\n\nAs for the ${b.what}: ${rng.pick(b.answers)(s)}` },
+    );
+    rec.images = [a.file, b.file];
+  }
+  if (rng.chance(0.3)) {
+    const [q, a] = rng.pick(topicByKey(pic.topic).followups);
+    messages.push({ role: 'user', content: q(s) }, { role: 'assistant', content: a(s) });
+  }
+  rec.messages = messages;
+  return rec;
+}
+
+function buildMultimodal(rng) {
+  const forms = new Map([[26, 'placeholder-two'], [71, 'placeholder'], [109, 'placeholder'], [146, 'parts'], [177, 'parts']]);
+  const broken = new Map([
+    [26, (r) => { r.images.pop(); return { what: 'two <image> placeholders but one image listed', rules: ['media-count-mismatch'] }; }],
+    [71, (r) => { r.images = []; return { what: 'an <image> placeholder but an empty images list', rules: ['media-count-mismatch'] }; }],
+    [109, (r) => { r.images = ['media/cracked-rim.png']; return { what: 'images names media/cracked-rim.png, which is not beside the shard', rules: ['media-path-missing'] }; }],
+    [146, (r) => {
+      r.messages.find((t) => t.role === 'user').content.find((p) => p.type === 'image').image = 'media/kiosk-photo-0412.jpg';
+      return { what: 'an image part names media/kiosk-photo-0412.jpg, which is not beside the shard', rules: ['media-path-missing'] };
+    }],
+    [177, (r) => {
+      const user = r.messages.find((t) => t.role === 'user');
+      user.content = [...user.content.filter((p) => p.type === 'text'), { type: 'sticker', sticker: 'thumbs-up' }];
+      return { what: 'a content part of the unknown type "sticker"', rules: ['part-type-unknown'] };
+    }],
+    [192, (r) => {
+      const t = JSON.stringify(r);
+      return { bytes: enc(t.slice(0, Math.floor(t.length * 0.5))), what: 'record cut off mid-line (truncated object)', rules: ['json-syntax'] };
+    }],
+  ]);
+  return buildShard('multimodal.jsonl', 200, (n) => multimodalRecord(rng, n, forms.get(n)), broken);
+}
+
+// ---- evaluation items: question/answer, problem/solution, multi-turn prompts
+
+const EVAL_FACTS = [
+  ['brakes', 'How thin can disc brake pad material get before the pads should be replaced?', 'About 1.5 mm; below that, replace them.'],
+  ['tyres', 'How often should tubeless sealant be topped up?', 'Every two to three months, and more often in hot weather.'],
+  ['tyres', 'What causes a pinch flat?', 'The tube is squeezed between the rim and an obstacle such as a kerb, usually because the pressure is too low; it leaves two small holes side by side.'],
+  ['workshop', 'When does the Spoke & Chain open workshop run?', 'Tuesday and Thursday 17:30 to 21:00, and Saturday 10:00 to 16:00.'],
+  ['membership', "How much is a year's membership of the co-op?", '$48 a year, or $20 at the concession rate.'],
+  ['membership', 'For how long can members borrow a tool from the tool library?', 'Up to seven days.'],
+  ['brakes', 'What does a disc brake rub once per wheel turn usually mean?', 'A caliper slightly out of line, or a small bend in the rotor.'],
+  ['drivetrain', 'What should you check first when a rear derailleur will not index?', 'That the derailleur hanger is straight.'],
+  ['brakes', 'How do you centre a rubbing disc brake caliper?', 'Loosen both mounting bolts, squeeze and hold the lever, and tighten the bolts again.'],
+  ['tyres', 'Why must the vulcanising solution be dry before a patch goes on?', 'It only bonds once its solvent has evaporated; a patch put on wet peels off.'],
+  ['steering and fit', "How is play taken out of a threadless headset?", 'Loosen the stem clamp bolts, tighten the top cap until the play is gone, then retighten the stem bolts.'],
+  ['brakes', 'What do sintered pads do better than organic ones?', 'They last longer in wet, gritty conditions; organic pads are quieter and bite better when cold.'],
+];
+const RIM_BSD = { '700x32c': 622, '700x38c': 622, '700x28c': 622, '29x2.2': 622, '27.5x2.4': 584, '26x1.95': 559, '20x1.75': 406 };
+const CIRCUMFERENCE = { '700x28c': 2136, '700x32c': 2155, '700x38c': 2180, '29x2.2': 2288, '27.5x2.4': 2220, '26x1.95': 2050, '20x1.75': 1491 };
+const PSI_TO_BAR = 0.0689476;
+
+function evalRecord(rng, n) {
+  const s = drawSlots(rng);
+  const id = ids('ev', n);
+  const kind = rng.pick(['fact', 'fact', 'rim', 'open', 'ratio', 'distance', 'wear', 'dues', 'pressure', 'loan', 'turns']);
+  if (kind === 'fact') {
+    const [category, question, answer] = rng.pick(EVAL_FACTS);
+    return { id, category, question, answer };
+  }
+  if (kind === 'rim') {
+    return { id, category: 'tyres', question: `A member's tyre is marked ${s.size}. What is the bead seat diameter of the rim it fits, in millimetres?`, answer: `${RIM_BSD[s.size]} mm.` };
+  }
+  if (kind === 'open') {
+    const when = new Date(Date.UTC(2024, rng.int(0, 11), rng.int(1, 28)));
+    const day = ['Sunday', 'Monday', 'Tuesday', 'Wednesday', 'Thursday', 'Friday', 'Saturday'][when.getUTCDay()];
+    const iso = when.toISOString().slice(0, 10);
+    const hours = day === 'Saturday' ? '10:00 to 16:00' : day === 'Tuesday' || day === 'Thursday' ? '17:30 to 21:00' : null;
+    return { id, category: 'workshop', question: `Is the open workshop running on ${iso}?`, answer: hours ? `Yes: ${iso} is a ${day}, and the workshop runs ${hours}.` : `No: ${iso} is a ${day}; the workshop runs on Tuesdays, Thursdays and Saturdays.` };
+  }
+  const ring = rng.pick([34, 36, 38, 40, 42, 44, 46, 48, 50]);
+  const cog = rng.int(11, 28);
+  if (kind === 'ratio') {
+    return { id, category: 'drivetrain', problem: `A bike has a ${ring}-tooth chainring and a ${cog}-tooth rear cog. What is the gear ratio, to two decimal places?`, solution: `The ratio is chainring teeth over cog teeth: ${ring} / ${cog} = ${(ring / cog).toFixed(2)}.` };
+  }
+  if (kind === 'distance') {
+    const c = CIRCUMFERENCE[s.size];
+    return { id, category: 'drivetrain', problem: `How far does a bike travel per crank turn in ${ring}/${cog} on ${s.size} tyres with a wheel circumference of ${c} mm? Give metres to two decimal places.`, solution: `Each crank turn turns the wheel ${ring} / ${cog} times, so the distance is ${ring} / ${cog} × ${c} mm = ${((ring / cog) * c / 1000).toFixed(2)} m.` };
+  }
+  if (kind === 'wear') {
+    const extra = rng.int(6, 30) / 10;
+    const length = (304.8 + extra).toFixed(1);
+    const pct = (extra / 304.8) * 100;
+    return { id, category: 'drivetrain', problem: `Twelve links of a new chain measure 304.8 mm pin to pin. On a member's chain the same twelve links measure ${length} mm. What is the wear in percent, to two decimal places, and is it past a 0.75% limit?`, solution: `Wear is (${length} − 304.8) / 304.8 = ${pct.toFixed(2)}%, which is ${pct >= 0.75 ? 'past the limit: replace the chain' : 'within the limit'}.` };
+  }
+  if (kind === 'dues') {
+    const full = rng.int(1, 4);
+    const conc = rng.int(0, 3);
+    return { id, category: 'membership', problem: `A household joins the co-op with ${full} full member${full === 1 ? '' : 's'} and ${conc} concession member${conc === 1 ? '' : 's'}. Dues are $48 a year, or $20 concession. What do they pay for a year?`, solution: `${full} × $48 + ${conc} × $20 = $${full * 48 + conc * 20}.` };
+  }
+  if (kind === 'pressure') {
+    const psi = rng.pick([40, 45, 50, 55, 60, 65, 70, 80, 90, 100]);
+    return { id, category: 'tyres', problem: `A tyre's sidewall gives a maximum of ${psi} psi. What is that in bar, to one decimal place (1 psi = ${PSI_TO_BAR} bar)?`, solution: `${psi} × ${PSI_TO_BAR} = ${(psi * PSI_TO_BAR).toFixed(1)} bar.` };
+  }
+  if (kind === 'loan') {
+    const d = new Date(Date.UTC(2024, rng.int(0, 11), rng.int(1, 28)));
+    const due = new Date(d.getTime() + 7 * 86400000);
+    return { id, category: 'membership', problem: `A member borrows the ${s.tool} on ${d.toISOString().slice(0, 10)} for the longest loan the tool library allows (seven days). On which date is it due back?`, solution: `${due.toISOString().slice(0, 10)}.` };
+  }
+  const topic = rng.pick(TOPICS);
+  const [ask] = askAndAnswer(rng, topic, s);
+  const [fq] = rng.pick(topic.followups);
+  return { id, category: AREAS[topic.key], turns: [ask, fq(s)] };
+}
+
+function buildEvalItems(rng) {
+  const broken = new Map([
+    [31, (r) => {
+      const s = drawSlots(rng);
+      const [ask, answer] = askAndAnswer(rng, rng.pick(TOPICS), s);
+      return { bytes: line({ id: r.id, instruction: ask, input: '', output: answer }), what: 'an instruction record among evaluation items', rules: ['layout-mismatch'] };
+    }],
+    [60, () => {
+      const [category, question, answer] = EVAL_FACTS[4];
+      return { bytes: line({ id: ids('ev', 60), category, question, answer: `${answer}<|im_end|>` }), what: 'answer ends with the chat marker <|im_end|> spelled out', rules: ['tokens-special-text'] };
+    }],
+    [88, () => ({ bytes: line({ item: 4711, scores: [3, 4], passed: true }), what: 'a results row with no text at all among the items', rules: ['tokens-no-text'] })],
+    [130, () => {
+      const [category, question, answer] = EVAL_FACTS[5];
+      return { bytes: enc(JSON.stringify({ id: ids('ev', 130), category, question, answer }).replace(/\}$/, ',"answer":"Seven days."}')), what: 'key "answer" appears twice', rules: ['key-duplicate'] };
+    }],
+    [175, () => {
+      const [category, question, answer] = EVAL_FACTS[1];
+      return { bytes: line({ id: ids('ev', 175), category, question: `${question} \udeb2`, answer }), what: 'lone low surrogate escape \\udeb2 in the question (half an emoji)', rules: ['surrogate-unpaired'] };
+    }],
+    [203, () => ({ bytes: enc('   '), what: 'line of spaces only', rules: ['line-blank'] })],
+  ]);
+  return buildShard('eval-items.jsonl', 220, (n) => evalRecord(rng, n), broken);
+}
+
+// ---- JSON Lines under other names: a `.json` file and an extension-less shard
+
+function buildKioskChats(rng) {
+  const make = (n) => {
+    const s = drawSlots(rng);
+    const turns = rng.chance(0.5) ? shortChat(s) : plainChat(rng);
+    return { id: ids('ks', n), kiosk: rng.pick(['front-counter', 'workshop-floor']), created: drawTimestamp(rng), dialog: turns };
+  };
+  const broken = new Map([
+    [41, (r) => { r.dialog.push({ role: 'assistant', content: 'Anything else I can help with at the kiosk?' }); return { what: 'two assistant turns in a row', rules: ['chat-role-repeated'] }; }],
+    [88, (r, n) => {
+      r.dialog = [{ role: 'system', content: S.SYSTEM_PROMPTS[3] }, { role: 'assistant', content: `Welcome to the ${S.COOP} kiosk! What can I help with?` }, ...shortChat(drawSlots(rng))];
+      return { what: 'the first turn after the system turn is the assistant (a kiosk greeting)', rules: ['chat-first-not-user'] };
+    }],
+    [123, (r) => ({ bytes: enc(JSON.stringify(r).replace(/"/g, "'")), what: 'single-quoted strings (not JSON)', rules: ['json-syntax'] })],
+    [150, (r) => { r.dialog.push({ role: 'user', content: 'And where do I lock my bike?' }); return { what: 'chat ends with a user turn', rules: ['chat-last-not-assistant'] }; }],
+  ]);
+  return buildShard('kiosk-chats.json', 160, make, broken);
+}
+
+function buildTrainShard(rng) {
+  const make = () => {
+    const turns = plainChat(rng);
+    return { conversation: turns, source: rng.pick(S.SOURCES), lang: 'en' };
+  };
+  const broken = new Map([
+    [37, (r) => {
+      if (r.conversation[0].role === 'system') r.conversation[0].role = 'System';
+      else r.conversation.unshift({ role: 'System', content: S.SYSTEM_PROMPTS[0] });
+      return { what: 'role "System" (roles are case-sensitive)', rules: ['chat-role-unknown'] };
+    }],
+    [92, (r) => { r.conversation = []; return { what: 'conversation is an empty list', rules: ['chat-turns-empty'] }; }],
+    [144, (r) => ({ bytes: enc(JSON.stringify(r).replace(/\}$/, ',}')), what: 'trailing comma before the closing brace', rules: ['json-syntax'] })],
+    [181, (r) => {
+      r.conversation = r.conversation.map((t) => `${t.role}: ${t.content}`).join('\n');
+      return { what: 'conversation is one string, not a list of turns', rules: ['chat-turns-not-list'] };
+    }],
+  ]);
+  return buildShard('train-00000-of-00001', 200, make, broken);
+}
+
+function writeMedia() {
+  fs.mkdirSync(path.join(OUT, 'media'), { recursive: true });
+  for (const [file, bytes] of Object.entries(IMAGES)) fs.writeFileSync(path.join(OUT, file), bytes);
+}
+
 // ---------------------------------------------------------------- schema, settings, manifest
 
 const SCHEMA = {
@@ -813,6 +1838,21 @@ function main() {
   const plain = buildPlainText(makeRng(SEED + 3));
   const edge = buildEdgeCases(makeRng(SEED + 4));
   const columnar = buildColumnar(chat, plain);
+  writeMedia();
+  // The shards of the other training-data layouts, each with the layout the checks should settle on.
+  const layoutShards = [
+    [buildToolCalls(makeRng(SEED + 5)), 'turns'],
+    [buildWorkshopFromValue(makeRng(SEED + 6)), 'turns'],
+    [buildInstruction(makeRng(SEED + 7)), 'instruction'],
+    [buildPromptCompletion(makeRng(SEED + 8)), 'prompt-completion'],
+    [buildPreferenceTranscripts(makeRng(SEED + 9)), 'preference'],
+    [buildPreferenceMessages(makeRng(SEED + 10)), 'preference'],
+    [buildFeedback(makeRng(SEED + 11)), 'feedback'],
+    [buildMultimodal(makeRng(SEED + 12)), 'turns'],
+    [buildEvalItems(makeRng(SEED + 13)), 'eval'],
+    [buildKioskChats(makeRng(SEED + 14)), 'turns'],
+    [buildTrainShard(makeRng(SEED + 15)), 'turns'],
+  ];
   fs.writeFileSync(path.join(OUT, 'chat-sft.schema.json'), json(SCHEMA));
   fs.writeFileSync(path.join(OUT, '.vscode', 'settings.json'), json(SETTINGS));
   const manifest = {
@@ -828,8 +1868,10 @@ function main() {
       'chat-sft.parquet': { rows: columnar.chatRows, rowGroupSize: 250, compression: 'zstd' },
       'chat-sft.arrow': { rows: columnar.chatRows, batchSize: 250 },
       'plain-text.arrows': { rows: columnar.textRows, batchSize: 200 },
+      ...Object.fromEntries(layoutShards.map(([s, layout]) => [s.name, { lines: s.lines, layout }])),
     },
-    broken: [...chat.manifest, ...fromValue.manifest, ...pairs.manifest, ...plain.manifest, ...edge.manifest, ...columnar.manifest],
+    broken: [...chat.manifest, ...fromValue.manifest, ...pairs.manifest, ...plain.manifest, ...edge.manifest, ...columnar.manifest,
+      ...layoutShards.flatMap(([s]) => s.manifest)],
     absent: [
       { rule: 'line-too-long', why: 'needs a line over the configured limit (64 MiB by default), too large to commit; tests generate one in a temporary folder' },
     ],

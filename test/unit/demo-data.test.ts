@@ -1,27 +1,35 @@
 // The demo shards: made by the committed generator (same bytes on a re-run), and the manifest
 // names exactly the broken records, judged by independent oracles rather than by our engine:
 // JSON.parse (RFC 8259), TextDecoder in fatal mode (WHATWG Encoding / RFC 3629), ajv (JSON Schema
-// 2020-12), js-tiktoken (the cl100k_base reference port), apache-arrow and hyparquet (readers).
+// 2020-12), js-tiktoken (the cl100k_base reference port), apache-arrow and hyparquet (readers),
+// node:zlib (RFC 1950 inflate, CRC-32) for the PNG files (W3C PNG). The layout verdicts come from
+// small predicates written here from the layout descriptions (common practice of the trade, not a
+// standard). The last block runs our CLI on the layout shards: an integration test, not an oracle.
 
 import { describe, it, expect, beforeAll, afterAll } from 'vitest';
-import { execFileSync } from 'node:child_process';
+import { execFileSync, spawnSync } from 'node:child_process';
+import { createHash } from 'node:crypto';
 import fs from 'node:fs';
 import os from 'node:os';
 import path from 'node:path';
+import zlib from 'node:zlib';
 import { fileURLToPath } from 'node:url';
 import Ajv2020Module from 'ajv/dist/2020.js';
 import { getEncoding } from 'js-tiktoken';
 import { tableFromIPC } from 'apache-arrow';
 import { parquetMetadata, parquetReadObjects } from 'hyparquet';
 import { compressors } from 'hyparquet-compressors';
+import { buildBundles } from './helpers/build';
 
 const projectRoot = path.resolve(path.dirname(fileURLToPath(import.meta.url)), '../..');
 const demo = path.join(projectRoot, 'demo-data');
 const CONTEXT = 8192;
 
-type Kind = 'chat' | 'pairs' | 'text';
+/** The shards of the training-data layouts are judged by their layout's predicates below. */
+type Layout = 'turns' | 'instruction' | 'prompt-completion' | 'preference' | 'feedback' | 'eval';
+type Kind = 'chat' | 'pairs' | 'text' | Layout;
 interface Broken { file: string; line?: number; row?: number; what: string; rules: string[] }
-interface Manifest { files: Record<string, { lines?: number; rows?: number }>; broken: Broken[]; absent: { rule: string }[] }
+interface Manifest { files: Record<string, { lines?: number; rows?: number; layout?: string }>; broken: Broken[]; absent: { rule: string }[] }
 
 const manifest: Manifest = JSON.parse(fs.readFileSync(path.join(demo, 'manifest.json'), 'utf8'));
 const settings = JSON.parse(fs.readFileSync(path.join(demo, '.vscode/settings.json'), 'utf8'));
@@ -34,7 +42,13 @@ const KIND: Record<string, Kind> = {
   'chat-sft.jsonl': 'chat', 'chat-sft-from-value.jsonl': 'chat', 'edge-cases.jsonl': 'chat',
   'chat-sft.parquet': 'chat', 'chat-sft.arrow': 'chat',
   'preference-pairs.jsonl': 'pairs', 'plain-text.jsonl': 'text', 'plain-text.arrows': 'text',
+  'tool-calls.jsonl': 'turns', 'workshop-chats-from-value.jsonl': 'turns', 'multimodal.jsonl': 'turns',
+  'kiosk-chats.json': 'turns', 'train-00000-of-00001': 'turns', 'instruction.jsonl': 'instruction',
+  'prompt-completion.jsonl': 'prompt-completion', 'preference-transcripts.jsonl': 'preference',
+  'preference-messages.jsonl': 'preference', 'feedback.jsonl': 'feedback', 'eval-items.jsonl': 'eval',
 };
+const LAYOUT_KINDS = new Set<Kind>(['turns', 'instruction', 'prompt-completion', 'preference', 'feedback', 'eval']);
+const isLayoutKind = (k: Kind): k is Layout => LAYOUT_KINDS.has(k);
 
 /** Whether the demo workspace's `shardwise.schemas` globs give this file the schema. */
 function hasSchema(file: string): boolean {
@@ -92,16 +106,31 @@ function strings(v: unknown, out: string[] = []): string[] {
 }
 
 const isObject = (v: unknown): v is Record<string, unknown> => !!v && typeof v === 'object' && !Array.isArray(v);
-const ROLE: Record<string, string> = { system: 'system', user: 'user', assistant: 'assistant', tool: 'tool', human: 'user', gpt: 'assistant' };
+// Speaker names as the layout description maps them (common practice of speaker lists).
+const ROLE: Record<string, string> = {
+  system: 'system', user: 'user', assistant: 'assistant', tool: 'tool', human: 'user', gpt: 'assistant',
+  function_call: 'assistant', observation: 'tool',
+};
+
+/** A content value's text: a string, or the text of its text parts (`text` or `value`). */
+function contentText(content: unknown): string {
+  if (typeof content === 'string') return content;
+  if (!Array.isArray(content)) return '';
+  return content.map((p) => (typeof p === 'string' ? p : isObject(p) && (p.type === undefined || p.type === 'text') ? String(p.text ?? p.value ?? '') : '')).join('');
+}
 
 /** The chat rules as the brief defines them (common practice for role/content chat data). */
 function chatRules(rec: Record<string, unknown>): string[] {
+  return turnRules('messages' in rec ? rec.messages : rec.conversations);
+}
+
+function turnRules(turns: unknown): string[] {
   const out = new Set<string>();
-  const turns = 'messages' in rec ? rec.messages : rec.conversations;
   if (!Array.isArray(turns)) return ['chat-turns-not-list'];
   if (turns.length === 0) return ['chat-turns-empty'];
   const seq: string[] = [];
   const calls = new Set<string>();
+  const usesIds = turns.some((t) => isObject(t) && ('tool_call_id' in t || Array.isArray(t.tool_calls)));
   for (const t of turns) {
     if (!isObject(t)) { out.add('chat-turn-not-object'); continue; }
     const raw = (t.role ?? t.from) as string | undefined;
@@ -110,11 +139,15 @@ function chatRules(rec: Record<string, unknown>): string[] {
     if (!role) { out.add('chat-role-unknown'); continue; }
     const content = 'content' in t ? t.content : t.value;
     const toolCalls = Array.isArray(t.tool_calls) ? t.tool_calls : [];
-    if ((content === null && toolCalls.length === 0) || (typeof content === 'string' && content.trim() === '')) out.add('chat-content-empty');
+    // Tool calls and non-text parts (images, reasoning) are content without text.
+    const nonText = Array.isArray(content) && content.some((p) => isObject(p) && p.type !== undefined && p.type !== 'text');
+    if (toolCalls.length === 0 && raw !== 'function_call' && !nonText && contentText(content).trim() === '') out.add('chat-content-empty');
     if (role === 'system' && seq.some((r) => r !== 'system')) out.add('chat-system-misplaced');
-    if (role !== 'system' && seq.length > 0 && seq[seq.length - 1] === role) out.add('chat-role-repeated');
+    // Tool after tool is legal: parallel calls get one answer each (README, chat-role-repeated).
+    if (role !== 'system' && role !== 'tool' && seq.length > 0 && seq[seq.length - 1] === role) out.add('chat-role-repeated');
     for (const c of toolCalls) calls.add((c as { id: string }).id);
-    if (role === 'tool' && !calls.has(t.tool_call_id as string)) out.add('chat-tool-orphan');
+    // Speaker lists carry no call ids: only a conversation that uses them is held to them.
+    if (role === 'tool' && usesIds && !calls.has(t.tool_call_id as string)) out.add('chat-tool-orphan');
     seq.push(role);
   }
   const first = seq.find((r) => r !== 'system');
@@ -137,7 +170,149 @@ function pairRules(rec: Record<string, unknown>): string[] {
   return [];
 }
 
+// ---- layout predicates, written from the layout descriptions (common practice, no standard)
+
+const TURN_KEYS = ['messages', 'conversations', 'conversation', 'dialog'];
+const turnsKeyOf = (rec: Record<string, unknown>) => TURN_KEYS.find((k) => k in rec);
+const normalised = (text: string) => text.trim().replace(/\s+/g, ' ');
+
+/** The layout a record fits by its keys alone; null when no layout finds text in it. */
+function fitsLayout(rec: Record<string, unknown>): Layout | 'text' | null {
+  if (['chosen', 'rejected', 'chosen_messages', 'rejected_messages'].some((k) => k in rec)) return 'preference';
+  if ('label' in rec && ('completion' in rec || turnsKeyOf(rec))) return 'feedback';
+  if ('prompt' in rec && 'completion' in rec) return 'prompt-completion';
+  if (turnsKeyOf(rec)) return 'turns';
+  if ('instruction' in rec) return 'instruction';
+  if (('question' in rec && 'answer' in rec) || ('problem' in rec && 'solution' in rec)) return 'eval';
+  if (Array.isArray(rec.turns) && rec.turns.length > 0 && rec.turns.every((t) => typeof t === 'string')) return 'eval';
+  if (Object.values(rec).some((v) => typeof v === 'string')) return 'text';
+  return null;
+}
+
+/** tool-arguments-invalid: a call's `arguments` is a string that JSON.parse rejects (or a `function_call` speaker's value is). */
+function argumentsStringFailsJsonParse(turns: unknown[]): boolean {
+  const fails = (text: unknown) => {
+    if (typeof text !== 'string') return false;
+    try { JSON.parse(text); return false; } catch { return true; }
+  };
+  return turns.some((t) => isObject(t) && (
+    (t.from === 'function_call' && fails(t.value)) ||
+    (Array.isArray(t.tool_calls) && t.tool_calls.some((c) => isObject(c) && isObject(c.function) && fails(c.function.arguments)))));
+}
+
+// Part types the layout description names: text, reasoning/thinking, tool calls, image/audio/video.
+const KNOWN_PART_TYPES = new Set(['text', 'reasoning', 'thinking', 'tool_call', 'image', 'audio', 'video']);
+
+/** part-type-unknown: a content part whose `type` is none of the described ones. */
+function partTypeNotDescribed(turns: unknown[]): boolean {
+  return turns.some((t) => isObject(t) && Array.isArray(t.content) &&
+    t.content.some((p) => isObject(p) && typeof p.type === 'string' && !KNOWN_PART_TYPES.has(p.type)));
+}
+
+/** A relative file path: not a URL or `data:` URL, not absolute. */
+const isRelativePath = (loc: string) => loc !== '' && !/^[a-z][a-z0-9+.-]*:/i.test(loc) && !path.isAbsolute(loc);
+
+/** media-count-mismatch and media-path-missing: placeholder count ≠ list length; a relative path fs.existsSync does not find. */
+function mediaRules(rec: Record<string, unknown>, turns: unknown[]): string[] {
+  const out: string[] = [];
+  const text = turns.map((t) => (isObject(t) ? contentText(t.content ?? t.value) : '')).join('\n');
+  for (const [mark, key] of [['<image>', 'images'], ['<video>', 'videos'], ['<audio>', 'audios']]) {
+    const marks = text.split(mark).length - 1;
+    const listed = Array.isArray(rec[key]) ? (rec[key] as unknown[]).length : 0;
+    if ((key in rec || marks > 0) && marks !== listed) out.push('media-count-mismatch');
+  }
+  const locations: unknown[] = [...(Array.isArray(rec.images) ? rec.images : [])];
+  for (const t of turns) {
+    if (isObject(t) && Array.isArray(t.content)) for (const p of t.content) if (isObject(p) && p.type === 'image') locations.push(p.image ?? p.path);
+  }
+  if (locations.some((l) => typeof l === 'string' && isRelativePath(l) && !fs.existsSync(path.join(demo, l)))) out.push('media-path-missing');
+  return out;
+}
+
+/** Every rule on one conversation: the chat rules, tool-call arguments, part types, media. */
+function conversationRules(rec: Record<string, unknown>, turns: unknown): string[] {
+  const out = turnRules(turns);
+  if (!Array.isArray(turns)) return out;
+  if (argumentsStringFailsJsonParse(turns)) out.push('tool-arguments-invalid');
+  if (partTypeNotDescribed(turns)) out.push('part-type-unknown');
+  return [...out, ...mediaRules(rec, turns)];
+}
+
+/** An answer side as a turn: a string is the assistant's text; a turn object stands for itself. */
+const asTurn = (side: unknown) => (typeof side === 'string' ? { role: 'assistant', content: side } : side);
+
+/** Splits a `\n\nHuman:` / `\n\nAssistant:` transcript into [speaker, text]; null when it has not both markers. */
+function splitTranscript(text: string): [string, string][] | null {
+  if (!text.includes('Human:') || !text.includes('\n\nAssistant:')) return null;
+  return text.split(/\n\n(?=(?:Human|Assistant):)/).filter((seg) => seg !== '').map((seg) => {
+    const m = /^(Human|Assistant): ?([\s\S]*)$/.exec(seg);
+    return m ? [m[1], m[2]] as [string, string] : ['?', seg];
+  });
+}
+
+/** The pair rules on every pair form: sides present and not empty, the same prompt, different answers. */
+function preferenceRules(rec: Record<string, unknown>): string[] {
+  const out = new Set<string>();
+  const key = (names: string[]) => names.find((k) => k in rec);
+  const sides = [key(['chosen', 'chosen_messages']), key(['rejected', 'rejected_messages'])].map((k) => (k === undefined ? undefined : rec[k]));
+  for (const v of sides) {
+    if (v === undefined) out.add('pair-side-missing');
+    else if ((typeof v === 'string' && v.trim() === '') || (Array.isArray(v) && v.length === 0) || v === null) out.add('pair-side-empty');
+  }
+  if (out.size > 0) return [...out];
+  const [chosen, rejected] = sides;
+  const transcripts = typeof chosen === 'string' && typeof rejected === 'string' ? [splitTranscript(chosen), splitTranscript(rejected)] : [null, null];
+  const [tc, tr] = transcripts;
+  if (tc && tr) {
+    // The prompt of a transcript: every turn up to its last Human turn.
+    const prompt = (t: [string, string][]) => t.slice(0, t.map((x) => x[0]).lastIndexOf('Human') + 1).map((x) => `${x[0]}:${normalised(x[1])}`).join('\n');
+    for (const t of [tc, tr]) if (t[t.length - 1][0] !== 'Assistant') out.add('chat-last-not-assistant');
+    if (prompt(tc) !== prompt(tr)) out.add('pair-prompt-mismatch');
+    else if (normalised(chosen as string) === normalised(rejected as string)) out.add('pair-identical');
+    return [...out];
+  }
+  const promptKey = turnsKeyOf(rec);
+  if (promptKey !== undefined) {
+    const promptTurns = Array.isArray(rec[promptKey]) ? (rec[promptKey] as unknown[]) : [];
+    for (const side of sides) for (const r of turnRules([...promptTurns, asTurn(side)])) out.add(r);
+  }
+  const answer = (v: unknown) => normalised(typeof v === 'string' ? v : contentText(isObject(v) ? v.content : undefined));
+  if (answer(chosen) === answer(rejected)) out.add('pair-identical');
+  return [...out];
+}
+
+/** The verdict of a record in a layout shard: layout-mismatch, then the rules of the layout it fits. */
+function layoutRules(rec: Record<string, unknown>, shard: Layout): string[] {
+  const fits = fitsLayout(rec);
+  if (fits === null) return ['tokens-no-text'];
+  const out: string[] = [];
+  if (fits !== shard) {
+    // In a chat shard a record with no conversation is a chat record without turns.
+    if (shard === 'turns' && fits === 'text') return ['chat-turns-not-list'];
+    out.push('layout-mismatch');
+  }
+  if (fits === 'turns') out.push(...conversationRules(rec, rec[turnsKeyOf(rec)!]));
+  if (fits === 'instruction' && (typeof rec.output !== 'string' || rec.output.trim() === '')) out.push('instruction-output-missing');
+  if (fits === 'feedback' && typeof rec.label !== 'boolean') out.push('feedback-label-invalid');
+  if ((fits === 'prompt-completion' || fits === 'feedback') && Array.isArray(rec.prompt)) {
+    // A turn-list prompt with its completion is one conversation; a string completion is the assistant's turn.
+    out.push(...conversationRules(rec, [...rec.prompt, ...(Array.isArray(rec.completion) ? rec.completion : [asTurn(rec.completion)])]));
+  }
+  if (fits === 'feedback' && !('completion' in rec)) out.push(...conversationRules(rec, rec[turnsKeyOf(rec)!]));
+  if (fits === 'preference') out.push(...preferenceRules(rec));
+  return out;
+}
+
+/** Every string value of a record (keys left out): an upper bound on a layout record's content text. */
+function stringValues(v: unknown, out: string[] = []): string[] {
+  if (typeof v === 'string') out.push(v);
+  else if (Array.isArray(v)) v.forEach((x) => stringValues(x, out));
+  else if (isObject(v)) Object.values(v).forEach((x) => stringValues(x, out));
+  return out;
+}
+
 function recordText(rec: Record<string, unknown>, kind: Kind): string {
+  if (isLayoutKind(kind)) return stringValues(rec).join('\n');
   if (kind === 'text') return typeof rec.text === 'string' ? rec.text : '';
   const turns = rec.messages ?? rec.conversations;
   return Array.isArray(turns) ? turns.map((t) => (isObject(t) ? String(t.content ?? t.value ?? '') : '')).join('\n') : '';
@@ -152,6 +327,7 @@ function recordRules(value: unknown, file: string, byteLength: number): string[]
   if (!isObject(value)) return out;
   if (kind === 'chat') out.push(...chatRules(value));
   if (kind === 'pairs') out.push(...pairRules(value));
+  if (isLayoutKind(kind)) out.push(...layoutRules(value, kind));
   // Special-token spellings of cl100k_base and the im_start/im_end chat markers (from memory).
   if (strings(value).some((s) => /<\|(endoftext|im_start|im_end|fim_prefix|fim_middle|fim_suffix|endofprompt)\|>/.test(s))) out.push('tokens-special-text');
   if (strings(value).some((s) => /[\uD800-\uDBFF](?![\uDC00-\uDFFF])|(?<![\uD800-\uDBFF])[\uDC00-\uDFFF]/.test(s))) out.push('surrogate-unpaired');
@@ -212,7 +388,14 @@ describe('demo data generator', () => {
 });
 
 describe('demo data manifest', () => {
-  const jsonlFiles = Object.keys(manifest.files).filter((f) => f.endsWith('.jsonl'));
+  // JSON Lines by content, whatever the name: `.jsonl`, `.json` and extension-less shards.
+  const jsonlFiles = Object.keys(manifest.files).filter((f) => manifest.files[f].lines !== undefined);
+
+  it('names a kind for every shard, and the layout the manifest gives each layout shard', () => {
+    for (const f of Object.keys(manifest.files)) expect(KIND[f], f).toBeDefined();
+    for (const [f, info] of Object.entries(manifest.files)) if (info.layout !== undefined) expect(KIND[f], f).toBe(info.layout);
+    expect(jsonlFiles).toEqual(expect.arrayContaining(['kiosk-chats.json', 'train-00000-of-00001']));
+  });
 
   it.each(jsonlFiles)('%s: the listed lines, and only they, are broken as stated', (file) => {
     const lines = splitLines(fs.readFileSync(path.join(demo, file)));
@@ -232,11 +415,76 @@ describe('demo data manifest', () => {
       'chat-turn-not-object', 'chat-role-missing', 'chat-role-unknown', 'chat-content-empty', 'chat-system-misplaced',
       'chat-first-not-user', 'chat-role-repeated', 'chat-last-not-assistant', 'chat-tool-orphan', 'pair-side-missing',
       'pair-side-empty', 'pair-identical', 'pair-prompt-mismatch', 'schema-violation', 'tokens-over-context',
-      'tokens-special-text'];
+      'tokens-special-text', 'tokens-no-text', 'layout-mismatch', 'instruction-output-missing', 'feedback-label-invalid',
+      'tool-arguments-invalid', 'part-type-unknown', 'media-count-mismatch', 'media-path-missing'];
     const present = new Set(manifest.broken.flatMap((b) => b.rules));
     const absent = new Set(manifest.absent.map((a) => a.rule));
     for (const rule of all) expect(present.has(rule) || absent.has(rule), rule).toBe(true);
     for (const rule of absent) expect(present.has(rule), rule).toBe(false);
+  });
+
+  /** The clean records of a shard, parsed. */
+  const goodRecords = (file: string) => {
+    const broken = expectedFor(file, 'line');
+    return splitLines(fs.readFileSync(path.join(demo, file))).filter((_, i) => !broken.has(i + 1)).map((l) => JSON.parse(l.toString('utf8')));
+  };
+  type Rec = Record<string, any>;
+  const count = (file: string, pred: (r: Rec) => boolean) => goodRecords(file).filter(pred).length;
+
+  it('each layout shard has 150-400 records, 3-8 of them broken', () => {
+    for (const [f, info] of Object.entries(manifest.files)) {
+      if (info.layout === undefined) continue;
+      expect(info.lines, f).toBeGreaterThanOrEqual(150);
+      expect(info.lines, f).toBeLessThanOrEqual(400);
+      const broken = expectedFor(f, 'line').size;
+      expect(broken, f).toBeGreaterThanOrEqual(3);
+      expect(broken, f).toBeLessThanOrEqual(8);
+    }
+  });
+
+  it('each layout shard holds the forms its layout description names', () => {
+    const turns = (r: Rec): Rec[] => r.messages ?? r.conversations ?? r.dialog ?? r.conversation ?? [];
+    const parts = (r: Rec): Rec[] => turns(r).flatMap((t) => (Array.isArray(t.content) ? t.content : []));
+    // tool-calls: OpenAI-style calls (arguments as JSON strings and as objects), parallel calls, tool answers, a tools list, reasoning parts, weight flags.
+    expect(count('tool-calls.jsonl', (r) => Array.isArray(r.tools) && r.tools.length > 0)).toBe(goodRecords('tool-calls.jsonl').length);
+    const calls = (r: Rec) => turns(r).flatMap((t) => t.tool_calls ?? []);
+    expect(count('tool-calls.jsonl', (r) => calls(r).some((c: Rec) => typeof c.function.arguments === 'string'))).toBeGreaterThan(150);
+    expect(count('tool-calls.jsonl', (r) => calls(r).some((c: Rec) => isObject(c.function.arguments)))).toBeGreaterThan(10);
+    expect(count('tool-calls.jsonl', (r) => turns(r).some((t) => (t.tool_calls ?? []).length > 1))).toBeGreaterThan(10);
+    expect(count('tool-calls.jsonl', (r) => calls(r).some((c: Rec) => c.function.name === 'book_repair_slot'))).toBeGreaterThan(30);
+    expect(count('tool-calls.jsonl', (r) => calls(r).some((c: Rec) => c.function.name === 'lookup_part_stock'))).toBeGreaterThan(30);
+    expect(count('tool-calls.jsonl', (r) => parts(r).some((p) => p.type === 'reasoning'))).toBeGreaterThan(10);
+    expect(count('tool-calls.jsonl', (r) => turns(r).some((t) => t.weight === 0))).toBeGreaterThan(5);
+    // from/value: function_call and observation speakers, a system turn.
+    const speakers = (r: Rec) => new Set(turns(r).map((t) => t.from));
+    expect(count('workshop-chats-from-value.jsonl', (r) => speakers(r).has('function_call') && speakers(r).has('observation'))).toBeGreaterThan(80);
+    expect(count('workshop-chats-from-value.jsonl', (r) => speakers(r).has('system'))).toBeGreaterThan(80);
+    // instruction: with and without input, some with history, some with system.
+    expect(count('instruction.jsonl', (r) => Array.isArray(r.history))).toBeGreaterThan(20);
+    expect(count('instruction.jsonl', (r) => typeof r.system === 'string')).toBeGreaterThan(40);
+    expect(count('instruction.jsonl', (r) => !('input' in r))).toBeGreaterThan(20);
+    // prompt-completion: both strings, both turn lists, a turn-list prompt with a string completion.
+    expect(count('prompt-completion.jsonl', (r) => typeof r.prompt === 'string' && typeof r.completion === 'string')).toBeGreaterThan(50);
+    expect(count('prompt-completion.jsonl', (r) => Array.isArray(r.prompt) && Array.isArray(r.completion))).toBeGreaterThan(50);
+    expect(count('prompt-completion.jsonl', (r) => Array.isArray(r.prompt) && typeof r.completion === 'string')).toBeGreaterThan(20);
+    // preference: whole transcripts; a messages prompt with string and with turn-object answers.
+    expect(count('preference-transcripts.jsonl', (r) => r.chosen.startsWith('\n\nHuman: ') && r.chosen.includes('\n\nAssistant: '))).toBe(goodRecords('preference-transcripts.jsonl').length);
+    expect(count('preference-transcripts.jsonl', (r) => r.chosen.split('\n\nHuman:').length > 2)).toBeGreaterThan(40);
+    expect(count('preference-messages.jsonl', (r) => typeof r.chosen === 'string')).toBeGreaterThan(50);
+    expect(count('preference-messages.jsonl', (r) => isObject(r.chosen) && r.chosen.role === 'assistant')).toBeGreaterThan(50);
+    // feedback: both labels.
+    expect(count('feedback.jsonl', (r) => r.label === true)).toBeGreaterThan(50);
+    expect(count('feedback.jsonl', (r) => r.label === false)).toBeGreaterThan(50);
+    // multimodal: image parts by relative path and inline base64, `<image>` placeholders beside an images list.
+    const images = (r: Rec) => parts(r).filter((p) => p.type === 'image').map((p) => p.image as string);
+    expect(count('multimodal.jsonl', (r) => images(r).some((i) => i.startsWith('media/')))).toBeGreaterThan(30);
+    expect(count('multimodal.jsonl', (r) => images(r).some((i) => i.startsWith('data:image/png;base64,')))).toBeGreaterThan(20);
+    expect(count('multimodal.jsonl', (r) => Array.isArray(r.images) && r.images.length === 2)).toBeGreaterThan(10);
+    expect(count('multimodal.jsonl', (r) => parts(r).some((p) => p.type === 'text' && 'value' in p))).toBeGreaterThan(5);
+    // eval: question/answer, problem/solution, turns as a list of strings.
+    expect(count('eval-items.jsonl', (r) => 'question' in r && 'answer' in r)).toBeGreaterThan(50);
+    expect(count('eval-items.jsonl', (r) => 'problem' in r && 'solution' in r)).toBeGreaterThan(50);
+    expect(count('eval-items.jsonl', (r) => Array.isArray(r.turns))).toBeGreaterThan(5);
   });
 
   it('chat-sft.jsonl has the size and mix the demo needs', () => {
@@ -249,6 +497,44 @@ describe('demo data manifest', () => {
     expect(good.filter((r) => r.messages[0].role === 'system').length).toBeGreaterThan(100);
     expect(good.filter((r) => r.messages.length >= 6).length).toBeGreaterThan(100);
     expect([...broken.values()].filter((r) => r.includes('tokens-over-context')).length).toBeGreaterThan(0);
+  });
+});
+
+describe('demo data images', () => {
+  const files = fs.readdirSync(path.join(demo, 'media')).map((f) => `media/${f}`);
+
+  // W3C PNG (Portable Network Graphics, 3rd ed.): signature, chunks with CRC-32, IHDR, a zlib (RFC 1950) IDAT.
+  it.each(files)('%s is a valid 16×16 truecolour PNG', (file) => {
+    const b = fs.readFileSync(path.join(demo, file));
+    expect([...b.subarray(0, 8)]).toEqual([0x89, 0x50, 0x4e, 0x47, 0x0d, 0x0a, 0x1a, 0x0a]);
+    const chunks: { type: string; data: Buffer }[] = [];
+    for (let i = 8; i < b.length;) {
+      const n = b.readUInt32BE(i);
+      const type = b.toString('latin1', i + 4, i + 8);
+      const data = b.subarray(i + 8, i + 8 + n);
+      expect(zlib.crc32(b.subarray(i + 4, i + 8 + n)), `${type} CRC`).toBe(b.readUInt32BE(i + 8 + n));
+      chunks.push({ type, data });
+      i += 12 + n;
+    }
+    expect(chunks.map((c) => c.type)).toEqual(['IHDR', 'IDAT', 'IEND']);
+    const ihdr = chunks[0].data;
+    expect([ihdr.readUInt32BE(0), ihdr.readUInt32BE(4), ihdr[8], ihdr[9]]).toEqual([16, 16, 8, 2]);
+    const pixels = zlib.inflateSync(chunks[1].data);
+    expect(pixels.length).toBe(16 * (1 + 16 * 3));
+    expect(new Set(Array.from({ length: 16 }, (_, y) => pixels[y * 49])).size).toBe(1);
+  });
+
+  it('inline images are base64 (RFC 4648) of the shipped PNG files', () => {
+    const shipped = new Set(files.map((f) => fs.readFileSync(path.join(demo, f)).toString('hex')));
+    const lines = splitLines(fs.readFileSync(path.join(demo, 'multimodal.jsonl')));
+    let inline = 0;
+    for (const l of lines) {
+      for (const m of l.toString('utf8').matchAll(/"data:image\/png;base64,([A-Za-z0-9+/=]+)"/g)) {
+        inline++;
+        expect(shipped.has(Buffer.from(m[1], 'base64').toString('hex'))).toBe(true);
+      }
+    }
+    expect(inline).toBeGreaterThan(20);
   });
 });
 
@@ -306,4 +592,31 @@ describe('demo data columnar copies', () => {
     expect(rows).toEqual(good);
     expect(tableFromIPC(buf('plain-text.arrows')).batches.length).toBeGreaterThan(1);
   });
+});
+
+// Integration, not an oracle: our CLI on each layout shard must settle on the shard's layout and
+// report exactly the manifest's broken records (rule ids at their lines), nothing more.
+describe('demo layout shards through the CLI', () => {
+  const layoutFiles = Object.keys(manifest.files).filter((f) => manifest.files[f].layout !== undefined);
+  const fingerprint = (f: string) => `${createHash('sha256').update(fs.readFileSync(path.join(demo, f))).digest('hex')} ${fs.statSync(path.join(demo, f)).mtimeMs}`;
+  const before = new Map(layoutFiles.map((f) => [f, fingerprint(f)]));
+  let cli = '';
+  beforeAll(() => {
+    cli = path.join(buildBundles(), 'cli.js');
+  }, 120_000);
+  // Read-only, always: checking a shard never changes a byte of it, nor its modification time.
+  afterAll(() => {
+    for (const f of layoutFiles) expect(fingerprint(f), f).toBe(before.get(f));
+  });
+
+  it.each(layoutFiles)('%s: the layout, and findings exactly the manifest\'s broken records', (file) => {
+    const r = spawnSync(process.execPath, [cli, 'check', path.join(demo, file), '--format', 'json'], { encoding: 'utf8' });
+    expect(r.status, r.stderr).toBeLessThan(2);
+    const doc = JSON.parse(r.stdout);
+    expect(doc.files[0].layout).toBe(KIND[file]);
+    const got = new Set<string>(doc.files[0].findings.map((f: { line: number | null; rule: string }) => `line ${f.line} ${f.rule}`));
+    const want = new Set<string>();
+    for (const b of manifest.broken.filter((x) => x.file === file)) for (const rule of b.rules) want.add(`line ${b.line} ${rule}`);
+    expect([...got].sort()).toEqual([...want].sort());
+  }, 60_000);
 });
