@@ -39,7 +39,8 @@ Options:
   --workers N            worker threads (default ${defaultWorkerCount()}; 0 = none)
   -h, --help             show this help
 
-Files: ${supportedEndings().join(' ')}
+Files: JSON Lines, JSON arrays (both also gzip or zstd), Parquet, Arrow IPC files and streams,
+       known by their bytes whatever their names; usual endings: ${supportedEndings().join(' ')}
 Exit status: 0 no error findings, 1 error findings, 2 bad usage or a file that cannot be opened.
 `;
 

@@ -50,7 +50,8 @@ export function activate(context: vscode.ExtensionContext): void {
       if (!target) {
         const picked = await vscode.window.showOpenDialog({
           canSelectMany: false,
-          filters: { Shards: ['jsonl', 'ndjson', 'gz', 'zst', 'parquet', 'arrow', 'feather', 'arrows', 'json'] },
+          // The record view's own selectors name the usual endings; files are known by their bytes, so any file may be picked.
+          filters: { Shards: dialogExtensions(context), 'All files': ['*'] },
         });
         if (!picked?.[0]) return;
         return vscode.commands.executeCommand('vscode.openWith', picked[0], RECORD_VIEW_TYPE);
@@ -117,3 +118,10 @@ export function parseGoTo(text: string): { kind: 'record' | 'line'; value: numbe
 }
 
 export function deactivate(): void {}
+
+/** Last name segments (`gz` of `*.jsonl.gz`) of the record view's file patterns in package.json. */
+function dialogExtensions(context: vscode.ExtensionContext): string[] {
+  const editors = (context.extension.packageJSON?.contributes?.customEditors ?? []) as { selector?: { filenamePattern?: string }[] }[];
+  const last = editors.flatMap((e) => e.selector ?? []).map((s) => /\.([^.*]+)$/.exec(s.filenamePattern ?? '')?.[1]);
+  return [...new Set(last.filter((x): x is string => !!x))];
+}

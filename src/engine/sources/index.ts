@@ -1,7 +1,8 @@
-// Dispatch on format once, at the edge: a file name picks its source here and nowhere else.
+// Dispatch on format once, at the edge: a file's bytes pick its source here and nowhere else; its
+// name is only a hint (see sniff.ts).
 
 import type { FormatName, RecordSource } from './source.js';
-import { JsonlSource, compressionOf } from './jsonl.js';
+import { JsonlSource, compressionOf, type Compression } from './jsonl.js';
 import { sniff } from './sniff.js';
 import { ParquetSource } from './parquet.js';
 import { ArrowFileSource } from './arrowFile.js';
@@ -13,25 +14,35 @@ export interface OpenOptions {
   maxLineBytes?: number;
 }
 
-interface FormatEntry {
-  format: FormatName;
-  /** Lower-case file-name endings, longest first where they overlap. */
-  endings: string[];
-  create(path: string, opts: OpenOptions): RecordSource;
+export interface FormatEntry {
+  readonly format: FormatName;
+  /** What people call it, for messages. */
+  readonly title: string;
+  /** Lower-case file-name endings the format usually has (the editor claims these; the bytes decide). */
+  readonly endings: readonly string[];
+  create(path: string, opts: OpenOptions, compression: Compression): RecordSource;
 }
 
-const FORMATS: FormatEntry[] = [
+/** The one list of formats and their usual endings; package.json's editor selectors and menu follow it (a unit test checks). */
+export const FORMATS: readonly FormatEntry[] = [
   {
     format: 'jsonl',
+    title: 'JSON Lines',
     endings: ['.jsonl', '.ndjson', '.jsonl.gz', '.ndjson.gz', '.jsonl.zst', '.ndjson.zst'],
-    create: (p, o) => new JsonlSource(p, o),
+    create: (p, o, compression) => new JsonlSource(p, { ...o, compression }),
   },
-  { format: 'parquet', endings: ['.parquet'], create: (p) => new ParquetSource(p) },
-  { format: 'arrow-file', endings: ['.arrow', '.feather'], create: (p) => new ArrowFileSource(p) },
-  { format: 'arrow-stream', endings: ['.arrows', '.stream'], create: (p) => new ArrowStreamSource(p) },
-  { format: 'json-array', endings: ['.json'], create: (p, o) => new JsonArraySource(p, { maxElementBytes: o.maxLineBytes }) },
+  {
+    format: 'json-array',
+    title: 'a JSON array',
+    endings: ['.json', '.json.gz', '.json.zst'],
+    create: (p, o, compression) => new JsonArraySource(p, { maxElementBytes: o.maxLineBytes, compression }),
+  },
+  { format: 'parquet', title: 'Parquet', endings: ['.parquet'], create: (p) => new ParquetSource(p) },
+  { format: 'arrow-file', title: 'an Arrow IPC file', endings: ['.arrow', '.feather'], create: (p) => new ArrowFileSource(p) },
+  { format: 'arrow-stream', title: 'an Arrow IPC stream', endings: ['.arrows', '.stream'], create: (p) => new ArrowStreamSource(p) },
 ];
 
+/** The format a file's name suggests (the longest matching ending), or null. Only a hint: see `sniffFormat`. */
 export function formatOf(path: string): FormatName | null {
   const lower = path.toLowerCase();
   let best: FormatEntry | null = null;
@@ -52,34 +63,31 @@ export function supportedEndings(): string[] {
 }
 
 /**
- * The reader a file needs: its bytes decide (an Arrow stream named `.arrow`, JSON Lines named
- * `.json`, a shard with no ending at all); the name decides only for an empty file.
+ * The reader a file needs, from its first and last bytes: an Arrow stream named `.arrow`, JSON Lines
+ * named `.json`, a shard with no ending at all. The name decides only what the bytes leave open.
+ * Throws `UnsupportedFileError` for bytes none of the formats fits.
  */
-export function sniffFormat(path: string): { format: FormatName; compression: 'none' | 'gzip' | 'zstd' } {
-  const s = sniff(path);
-  if (s.format !== null) return { format: s.format, compression: s.compression };
+export function sniffFormat(path: string): { format: FormatName; compression: Compression } {
   const byName = formatOf(path);
-  if (s.what === 'an empty file' && byName !== null) return { format: byName, compression: compressionOf(path) };
-  throw new UnsupportedFileError(path, s.what);
+  const s = sniff(path, byName ? { format: byName, compression: compressionOf(path) } : null);
+  if (s.format === null) throw new UnsupportedFileError(path, s.what);
+  return { format: s.format, compression: s.compression };
 }
 
 export function createSource(path: string, opts: OpenOptions = {}): RecordSource {
   const { format, compression } = sniffFormat(path);
-  if (format === 'jsonl') return new JsonlSource(path, { ...opts, compression });
-  const entry = FORMATS.find((f) => f.format === format);
-  if (!entry) throw new UnsupportedFileError(path, format);
-  return entry.create(path, opts);
+  const entry = FORMATS.find((f) => f.format === format)!;
+  return entry.create(path, opts, compression);
 }
 
 export class UnsupportedFileError extends Error {
   constructor(
     readonly path: string,
-    found?: string,
+    /** What the bytes were found to be, e.g. `it starts with bytes 89 50 4e 47 … (a PNG image?)`. */
+    readonly found: string,
   ) {
-    super(
-      `${path}: not a shard Shardwise reads: neither JSON Lines, a JSON array, Parquet nor Arrow` +
-        (found ? ` (${found})` : '') +
-        ` — the usual endings are ${supportedEndings().join(', ')}`,
-    );
+    const titles = FORMATS.map((f) => f.title);
+    super(`${path}: not a shard Shardwise reads: neither ${titles.slice(0, -1).join(', ')} nor ${titles[titles.length - 1]}; ${found}`);
+    this.name = 'UnsupportedFileError';
   }
 }

@@ -1,11 +1,16 @@
 // JSON array shards (.json holding one array of records): a streaming tokenizer finds each
 // top-level element's byte range, line and column without parsing the file whole; each element is
-// then parsed alone (RFC 8259), so a broken element is one finding, not a lost file.
+// then parsed alone (RFC 8259), so a broken element is one finding, not a lost file. A gzip or
+// zstd file is decompressed once, while indexing, into a temporary file that pages then read.
 
+import { mkdtemp, open, rm } from 'node:fs/promises';
+import { tmpdir } from 'node:os';
+import { join } from 'node:path';
 import type { Finding } from '../findings.js';
 import type { ByteReader, Entry, RecordSource, ScanOptions, SourceInfo } from './source.js';
-import { readFinding } from './columnarRules.js';
+import { errorText, readFinding } from './columnarRules.js';
 import { openFileReader, type ReaderFactory } from './columnar/byteReader.js';
+import { compressionOf, decompressedChunks, type Compression } from './jsonl.js';
 
 export interface JsonArraySourceOptions {
   openReader?: ReaderFactory;
@@ -13,6 +18,8 @@ export interface JsonArraySourceOptions {
   maxElementBytes?: number;
   /** Bytes read per step while indexing. */
   chunkBytes?: number;
+  /** What the bytes are compressed with, when sniffed; else the name decides. */
+  compression?: Compression;
 }
 
 interface Span {
@@ -34,18 +41,24 @@ export class JsonArraySource implements RecordSource {
   private current: SourceInfo;
   private indexing: Promise<SourceInfo> | null = null;
   private readonly decoder = new TextDecoder('utf-8', { fatal: true });
+  readonly compression: Compression;
+  /** The decompressed copy of a compressed file, once indexing has written it. */
+  private tempDir: string | null = null;
 
   constructor(
     readonly path: string,
     private readonly opts: JsonArraySourceOptions = {},
   ) {
+    this.compression = opts.compression ?? compressionOf(path);
     this.current = { format: 'json-array', path, sizeBytes: 0, entries: 0, complete: false, findings: [] };
   }
 
   async open(_signal?: AbortSignal): Promise<SourceInfo> {
     if (!this.reader) {
       this.reader = await (this.opts.openReader ?? openFileReader)(this.path);
-      this.current = { format: 'json-array', path: this.path, sizeBytes: this.reader.size, entries: 0, complete: false, findings: [], facts: { format: 'JSON array' } };
+      const facts: Record<string, string> = { format: 'JSON array' };
+      if (this.compression !== 'none') facts.compression = this.compression;
+      this.current = { format: 'json-array', path: this.path, sizeBytes: this.reader.size, entries: 0, complete: false, findings: [], facts };
     }
     return this.info();
   }
@@ -61,10 +74,9 @@ export class JsonArraySource implements RecordSource {
 
   private async runIndex(opts: ScanOptions): Promise<SourceInfo> {
     await this.open(opts.signal);
-    const reader = this.reader!;
-    const size = reader.size;
-    const chunk = this.opts.chunkBytes ?? 1 << 20;
     const fileFindings: Finding[] = [];
+    /** Bytes of (decompressed) text tokenized so far; the text's size once the loop ends. */
+    let size = 0;
     // Tokenizer state, carried across chunks.
     let state: 'before' | 'open' | 'element' | 'after' | 'closed' | 'broken' = 'before';
     let depth = 0;
@@ -108,9 +120,9 @@ export class JsonArraySource implements RecordSource {
       fileFindings.push(readFinding('array-structure', message, { line, column }));
       state = 'broken';
     };
-    for (let at = 0; at < size && (state as string) !== 'broken'; at += chunk) {
-      opts.signal?.throwIfAborted();
-      const bytes = await reader.read(at, Math.min(chunk, size - at));
+    for await (const { bytes, done, total } of this.textChunks(opts.signal, fileFindings)) {
+      const at = size;
+      size += bytes.length;
       for (let k = 0; k < bytes.length; k++) {
         const b = bytes[k];
         const pos = at + k;
@@ -182,7 +194,8 @@ export class JsonArraySource implements RecordSource {
         } else if ((b & 0xc0) !== 0x80) column += b >= 0xf0 ? 2 : 1;
       }
       this.current.entries = this.spans.length;
-      opts.onProgress?.({ done: Math.min(size, at + chunk), total: size, entries: this.spans.length });
+      opts.onProgress?.({ done, total, entries: this.spans.length });
+      if ((state as string) === 'broken') break;
     }
     if (state === 'element') {
       flushNumber();
@@ -201,8 +214,50 @@ export class JsonArraySource implements RecordSource {
       fileFindings.push(readFinding('array-structure', size === 0 ? 'the file is empty: no JSON array' : 'the file holds only white space: no JSON array', { line, column }));
     }
     if (sawBom) fileFindings.push(readFinding('array-structure', 'the file starts with a byte order mark, which JSON text must not (RFC 8259 §8.1)', { line: 1, column: 1 }, 'warning'));
-    this.current = { ...this.current, entries: this.spans.length, complete: true, findings: fileFindings };
+    const facts = { ...this.current.facts };
+    if (this.compression !== 'none') facts.decompressedBytes = String(size);
+    this.current = { ...this.current, entries: this.spans.length, complete: true, findings: fileFindings, facts };
     return this.info();
+  }
+
+  /**
+   * The text in chunks, with progress in file bytes. A compressed file is written to a temporary
+   * copy on the way, which then replaces the reader; a corrupt stream ends the text where it breaks.
+   */
+  private async *textChunks(signal: AbortSignal | undefined, findings: Finding[]): AsyncGenerator<{ bytes: Uint8Array; done: number; total: number }> {
+    const reader = this.reader!;
+    const total = reader.size;
+    if (this.compression === 'none') {
+      const chunk = this.opts.chunkBytes ?? 1 << 20;
+      for (let at = 0; at < total; at += chunk) {
+        signal?.throwIfAborted();
+        yield { bytes: await reader.read(at, Math.min(chunk, total - at)), done: Math.min(total, at + chunk), total };
+      }
+      return;
+    }
+    this.tempDir ??= await mkdtemp(join(tmpdir(), 'shardwise-json-'));
+    const copy = join(this.tempDir, 'decompressed.json');
+    const out = await open(copy, 'w');
+    let written = 0;
+    let consumed = 0;
+    try {
+      for await (const bytes of decompressedChunks(this.path, this.compression, (n) => (consumed += n))) {
+        signal?.throwIfAborted();
+        // Written before it is tokenized, so every span found is readable from the copy.
+        let off = 0;
+        while (off < bytes.length) off += (await out.write(bytes, off, bytes.length - off, written + off)).bytesWritten;
+        written += bytes.length;
+        yield { bytes, done: consumed, total };
+      }
+    } catch (e) {
+      signal?.throwIfAborted();
+      if ((e as Error)?.name === 'AbortError') throw e;
+      findings.push(readFinding('read-corrupt', `the ${this.compression} stream is corrupt or cut short after ${written} decompressed bytes (${errorText(e)}); elements up to there were read`));
+    } finally {
+      await out.close();
+      this.reader = await openFileReader(copy);
+      await reader.close();
+    }
   }
 
   async read(start: number, end: number, opts: { columns?: string[]; signal?: AbortSignal } = {}): Promise<Entry[]> {
@@ -285,5 +340,7 @@ export class JsonArraySource implements RecordSource {
     const r = this.reader;
     this.reader = null;
     await r?.close();
+    if (this.tempDir) await rm(this.tempDir, { recursive: true, force: true });
+    this.tempDir = null;
   }
 }

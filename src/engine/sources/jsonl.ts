@@ -173,7 +173,7 @@ export function buildEntry(entry: number, byteOffset: number, bytes: Uint8Array 
 }
 
 /** Chunks of the decompressed stream; `onInput` reports compressed bytes consumed. */
-async function* decompressedChunks(path: string, compression: Compression, onInput: (n: number) => void): AsyncGenerator<Uint8Array> {
+export async function* decompressedChunks(path: string, compression: Compression, onInput: (n: number) => void): AsyncGenerator<Uint8Array> {
   if (compression === 'gzip') {
     if ((await stat(path)).size === 0) return; // an empty file is an empty shard, as for zstd
     // Small input pieces: on a bad second member header, only the last piece's output is lost.

@@ -9,6 +9,7 @@ import { blobOf, openFileReader, type ReaderFactory } from './columnar/byteReade
 import { ByteBudgetCache, batchEntries, groupOf, lostEntries } from './columnar/rows.js';
 import { schemaColumns } from './columnar/toJson.js';
 import { guardWasm } from './columnar/wasmGuard.js';
+import { structFieldIds } from './columnar/thrift.js';
 
 export { wasmFaults } from './columnar/wasmGuard.js';
 
@@ -44,6 +45,9 @@ export interface ParquetSourceOptions {
 const CODEC_NAMES = ['uncompressed', 'snappy', 'gzip', 'brotli', 'lz4 (hadoop framing)', 'zstd', 'lz4 raw', 'lzo'];
 
 const MAGIC = [0x50, 0x41, 0x52]; // "PAR"
+
+const ENCRYPTED_FOOTER = 'encrypted Parquet (PARE): the footer is encrypted (Parquet modular encryption); Shardwise does not decrypt files';
+const ENCRYPTED_COLUMNS = 'encrypted Parquet (plaintext footer): the columns are encrypted (Parquet modular encryption); Shardwise does not decrypt files';
 
 interface Decoded {
   batches: RecordBatch[];
@@ -95,7 +99,8 @@ export class ParquetSource implements RecordSource {
       file = await guardWasm(() => pw.ParquetFile.fromFile(blobOf(this.reader!) as unknown as Blob));
     } catch (e) {
       const text = errorText(e);
-      findings.push(readFinding(/encrypt/i.test(text) ? 'read-unsupported' : 'read-footer-invalid', `the footer does not decode: ${text}`));
+      if (await this.plaintextFooterEncrypted(size)) findings.push(readFinding('read-unsupported', ENCRYPTED_COLUMNS));
+      else findings.push(readFinding(/encrypt/i.test(text) ? 'read-unsupported' : 'read-footer-invalid', `the footer does not decode: ${text}`));
       return this.info();
     }
     this.file = file;
@@ -115,13 +120,29 @@ export class ParquetSource implements RecordSource {
     return this.info();
   }
 
+  /**
+   * True when the footer is a FileMetaData carrying `encryption_algorithm` (field 8): Parquet
+   * modular encryption with a plaintext footer, whose columns are encrypted (parquet-format,
+   * Encryption.md).
+   */
+  private async plaintextFooterEncrypted(size: number): Promise<boolean> {
+    try {
+      const tail = await this.reader!.read(size - 8, 4);
+      const len = new DataView(tail.buffer, tail.byteOffset, 4).getUint32(0, true);
+      if (len === 0 || len > size - 12) return false;
+      return structFieldIds(await this.reader!.read(size - 8 - len, len)).includes(8);
+    } catch {
+      return false;
+    }
+  }
+
   /** Magic at both ends; an encrypted footer ("PARE") is named, not decoded. */
   private async checkEnds(size: number): Promise<Finding | null> {
     if (size < 12) return readFinding('read-footer-invalid', `the file is ${size} bytes: too short for Parquet (magic, footer, magic)`);
     const head = await this.reader!.read(0, 4);
     const tail = await this.reader!.read(size - 8, 8);
     const isMagic = (b: Uint8Array, last: number) => MAGIC.every((m, k) => b[k] === m) && b[3] === last;
-    if (isMagic(tail.subarray(4), 0x45)) return readFinding('read-unsupported', 'the footer is encrypted (Parquet modular encryption); this reader does not decrypt');
+    if (isMagic(tail.subarray(4), 0x45) || isMagic(head, 0x45)) return readFinding('read-unsupported', ENCRYPTED_FOOTER);
     if (!isMagic(head, 0x31)) return readFinding('read-footer-invalid', 'the file does not start with the Parquet magic "PAR1"');
     if (!isMagic(tail.subarray(4), 0x31)) return readFinding('read-truncated', 'the file does not end with the Parquet magic "PAR1": the footer is missing or cut short');
     const footerLen = new DataView(tail.buffer, tail.byteOffset, 4).getUint32(0, true);
