@@ -2,18 +2,11 @@
 // object or a transcript; and the reading a layout builds from them.
 
 import { joinPointer, type RecordIssue } from '../findings.js';
-import type { LayoutFields, LTurn, Reading, Sequence, Side, TextPiece, TurnList } from './layout.js';
+import type { LayoutFields, LTurn, PairSide, Reading, Sequence, Side, TextPiece, TurnList } from './layout.js';
 import { has, isPlainObject, parseTranscript, readMediaValue, readTurn, readTurns, turnPieces } from './turnReader.js';
 
-export interface SideValue {
-  pointer: string;
-  present: boolean;
-  raw: unknown;
-  /** Plain text, or null for a turn side. */
-  text: string | null;
-  turns: LTurn[] | null;
-  transcript: boolean;
-}
+/** A pair side before it is named; unlike `PairSide`, a transcript keeps its string in `text`. */
+export type SideValue = Omit<PairSide, 'name'>;
 
 /** Reads `record[key]` as plain text, a list of turns, one turn object, or (if `transcripts`) a transcript. */
 export function readSide(record: Record<string, unknown>, key: string, fields: LayoutFields, transcripts = false): SideValue {
