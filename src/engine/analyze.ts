@@ -19,6 +19,9 @@ export interface EntryOutcome {
   /** Content tokens on the prompt side and on the response side. */
   prompt?: number | null;
   response?: number | null;
+  /** With a chat template: tokens of the record's rendered sequences and of their trained spans. */
+  rendered?: number | null;
+  trainable?: number | null;
   /** The layout that read the record. */
   layout?: string | null;
   kind: 'record' | 'blank' | 'invalid';
@@ -121,6 +124,7 @@ export function analyzeEntry(entry: Entry, checks: readonly Check[], config: Che
     length: result.length ?? result.tokens ?? null,
     prompt: result.prompt ?? null,
     response: result.response ?? null,
+    ...(result.rendered !== undefined ? { rendered: result.rendered, trainable: result.trainable ?? 0 } : {}),
     layout: result.layout ?? null,
     kind,
     findings,

@@ -31,7 +31,13 @@ export interface CheckConfig {
   shardLayout?: string | null;
   /** The shard's folder, where relative media paths are looked for (set by the analysis). */
   baseDir?: string | null;
+  /** The built-in encoding, used when `tokenizer` is not set. */
   encoding: EncodingName;
+  /**
+   * The tokenizer: a built-in encoding name or the absolute path of a model folder holding
+   * tokenizer.json (see `resolveTokenizerValue` in tokens/). When unset, `encoding` is the tokenizer.
+   */
+  tokenizer?: string;
   /** Records with more tokens than this overflow the context window. */
   contextLength: number;
   /** Field names looked for, in order, as the text of a plain (non-chat) record. */

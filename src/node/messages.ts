@@ -1,6 +1,7 @@
 // Messages between a host thread (extension host or CLI) and its worker threads.
 
 import type { EntryOutcome, Share } from '../engine/analyze.js';
+import type { RenderedRecord } from '../engine/checks/tokens.js';
 import type { CheckConfig } from '../engine/config.js';
 import type { OpenOptions } from '../engine/sources/index.js';
 import type { Entry, Progress, SourceInfo } from '../engine/sources/source.js';
@@ -10,6 +11,7 @@ export type WorkerRequest =
   | { id: number; op: 'open'; path: string; open: OpenOptions }
   | { id: number; op: 'read'; start: number; end: number; columns?: string[] }
   | { id: number; op: 'turnTokens'; value: unknown; config: CheckConfig }
+  | { id: number; op: 'rendered'; value: unknown; config: CheckConfig }
   | { id: number; op: 'cancel'; target: number }
   | { id: number; op: 'memory' };
 
@@ -19,6 +21,7 @@ export type WorkerEvent =
   | { id: number; kind: 'outcomes'; outcomes: EntryOutcome[] }
   | { id: number; kind: 'entries'; entries: Entry[] }
   | { id: number; kind: 'turnTokens'; turns: { pointer: string; role: string | null; tokens: number }[] }
+  | { id: number; kind: 'rendered'; rendered: RenderedRecord | null }
   | { id: number; kind: 'memory'; rss: number; wasm: number; faults: number }
   | { id: number; kind: 'done' }
   | { id: number; kind: 'error'; message: string; name: string };

@@ -99,6 +99,13 @@ export class SourceSession {
     return ev.turns;
   }
 
+  /** The record rendered with the model's chat template (null without one), computed in the worker. */
+  async rendered(value: unknown, config: CheckConfig) {
+    const ev = await this.request({ id: this.nextId++, op: 'rendered', value, config });
+    if (ev.kind !== 'rendered') throw new Error('unexpected answer from the shard worker');
+    return ev.rendered;
+  }
+
   dispose(): void {
     this.disposed = true;
     for (const p of this.pending.values()) p.reject(new Error('the record view was closed'));

@@ -4,8 +4,8 @@
 import { parentPort } from 'node:worker_threads';
 import { analyzeSource, type EntryOutcome } from '../engine/analyze.js';
 import { ALL_CHECKS } from '../engine/checks/index.js';
-import { turnTokenCounts } from '../engine/checks/tokens.js';
-import { loadTokenCounter } from '../engine/tokens/counter.js';
+import { renderedRecord, turnTokenCounts } from '../engine/checks/tokens.js';
+import { loadTokenizer, tokenizerOf } from '../engine/tokens/index.js';
 import { createSource } from '../engine/sources/index.js';
 import type { RecordSource } from '../engine/sources/source.js';
 import type { WorkerEvent, WorkerRequest } from './messages.js';
@@ -104,8 +104,13 @@ async function handle(req: WorkerRequest): Promise<void> {
       return;
     }
     case 'turnTokens': {
-      await loadTokenCounter(req.config.encoding);
+      await loadTokenizer(tokenizerOf(req.config));
       post({ id: req.id, kind: 'turnTokens', turns: turnTokenCounts(req.value, req.config) });
+      return;
+    }
+    case 'rendered': {
+      await loadTokenizer(tokenizerOf(req.config));
+      post({ id: req.id, kind: 'rendered', rendered: renderedRecord(req.value, req.config) });
       return;
     }
     case 'cancel': {

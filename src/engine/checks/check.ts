@@ -19,6 +19,9 @@ export interface RecordResult {
   /** Set by the tokens check: content tokens on the prompt side and on the response side. */
   prompt?: number;
   response?: number;
+  /** Set by the tokens check when the model has a chat template: tokens of the rendered sequences, and of their trained spans. */
+  rendered?: number;
+  trainable?: number;
   /** Set by the analysis: the layout that read the record. */
   layout?: string;
 }

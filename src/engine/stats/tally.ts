@@ -53,7 +53,10 @@ export function tokenStats(counts: ArrayLike<number>, n: number, contextLength: 
 
 /** Token statistics of a shard as every presenter shows them (the CLI document's `tokens`). */
 export interface TokenSummary {
+  /** The tokenizer's name (kept under this key for readers of earlier reports). */
   encoding: string;
+  /** The tokenizer: a built-in encoding name or the model folder's path. */
+  tokenizer: string;
   /** Content tokens of the shard: every piece of text of every record, each counted on its own. */
   total: number;
   /** Content tokens on the prompt side (conditioned on) and on the response side (trained on). */
@@ -64,7 +67,11 @@ export interface TokenSummary {
   p90: number;
   p99: number;
   contextLength: number;
+  /** Records whose longest sequence (rendered, with a chat template) is over the context length. */
   overContext: number;
+  /** With a chat template: tokens of every rendered sequence over the shard, and of their trained spans. */
+  rendered?: number;
+  trainable?: number;
 }
 
 export class ShardTally {
@@ -84,6 +91,9 @@ export class ShardTally {
   private contentTotal = 0;
   private promptTotal = 0;
   private responseTotal = 0;
+  /** With a chat template: rendered and trained tokens summed over records (null until a record brings them). */
+  private renderedTotal: number | null = null;
+  private trainableTotal = 0;
   /** Records read by each layout. */
   readonly byLayout = new Map<string, number>();
   /** The layout settled for the shard, when the analysis reports it. */
@@ -105,6 +115,10 @@ export class ShardTally {
       if (o.tokens !== null) this.contentTotal += o.tokens;
       this.promptTotal += o.prompt ?? 0;
       this.responseTotal += o.response ?? (o.prompt == null ? (o.tokens ?? 0) : 0);
+      if (o.rendered != null) {
+        this.renderedTotal = (this.renderedTotal ?? 0) + o.rendered;
+        this.trainableTotal += o.trainable ?? 0;
+      }
       if (o.layout) this.byLayout.set(o.layout, (this.byLayout.get(o.layout) ?? 0) + 1);
     }
     for (const f of o.findings) this.addFinding(f);
@@ -162,8 +176,22 @@ export class ShardTally {
     return tokenStats(this.tokens, this.maxRecord + 1, contextLength);
   }
 
-  tokenSummary(encoding: string, contextLength: number): TokenSummary {
+  /** `tokenizer` names the tokenizer (`tokenizerOf(config)`; an encoding name for the built-ins). */
+  tokenSummary(tokenizer: string, contextLength: number): TokenSummary {
     const t = this.tokenStats(contextLength);
-    return { encoding, total: this.contentTotal, prompt: this.promptTotal, response: this.responseTotal, max: t.max, p50: t.p50, p90: t.p90, p99: t.p99, contextLength, overContext: t.overContext };
+    return {
+      encoding: tokenizer,
+      tokenizer,
+      total: this.contentTotal,
+      prompt: this.promptTotal,
+      response: this.responseTotal,
+      max: t.max,
+      p50: t.p50,
+      p90: t.p90,
+      p99: t.p99,
+      contextLength,
+      overContext: t.overContext,
+      ...(this.renderedTotal !== null ? { rendered: this.renderedTotal, trainable: this.trainableTotal } : {}),
+    };
   }
 }

@@ -4,9 +4,12 @@
 import type { EncodingName } from '../config.js';
 import { BytePairEncoder, decodeRanks, type EncoderOptions, type RankTable } from './bpe.js';
 import { PATTERNS, type PatternName } from './patterns.js';
+import type { Tokenizer } from './tokenizer.js';
 
-export interface TokenCounter {
+/** A built-in encoding: the first tokenizer kind. Content counts read special spellings as ordinary text. */
+export interface TokenCounter extends Tokenizer {
   readonly encoding: EncodingName;
+  readonly kind: 'encoding';
   /** Number of tokens in text; special-token spellings count as ordinary text. */
   count(text: string): number;
   /** Token ids of text; special-token spellings are encoded as ordinary text. */
@@ -84,7 +87,7 @@ export function getTokenCounter(encoding: EncodingName): TokenCounter {
 }
 
 /** What a rank table and a pattern family give, before the table is named as one of ours. */
-export type BpeCounter = Omit<TokenCounter, 'encoding'>;
+export type BpeCounter = Pick<TokenCounter, 'count' | 'encode' | 'encodeWithSpecial' | 'specialTokens'>;
 
 /** Builds a counter from any rank table and the pattern family it uses (gpt2, cl100k_base, o200k_base). */
 export function createBpeCounter(table: RankTable, pattern: PatternName, options?: EncoderOptions): BpeCounter {
@@ -114,7 +117,18 @@ export function createBpeCounter(table: RankTable, pattern: PatternName, options
 
 /** Builds one of our encodings' counters from its rank table. */
 export function createTokenCounter(encoding: EncodingName, table: RankTable, options?: EncoderOptions): TokenCounter {
-  return { encoding, ...createBpeCounter(table, encoding, options) };
+  const bpe = createBpeCounter(table, encoding, options);
+  return {
+    encoding,
+    name: encoding,
+    label: encoding,
+    kind: 'encoding',
+    specialsInContent: 'text',
+    chatTemplate: null,
+    ...bpe,
+    countRendered: (text) => bpe.encodeWithSpecial(text).length,
+    encodeRendered: (text) => bpe.encodeWithSpecial(text),
+  };
 }
 
 /** Where text spells one of the encoding's special tokens, left to right, without overlaps. */
@@ -138,13 +152,26 @@ export function findChatMarkerText(text: string): SpecialTokenHit[] {
   return findSpellings(text, MARKER_TABLE);
 }
 
+const finders = new WeakMap<object, (text: string) => SpecialTokenHit[]>();
 function findSpellings(text: string, tokens: Readonly<Record<string, number>>): SpecialTokenHit[] {
-  const names = Object.keys(tokens);
-  if (names.length === 0 || !text.includes('|')) return [];
+  let find = finders.get(tokens);
+  if (!find) finders.set(tokens, (find = spellingFinder(Object.keys(tokens))));
+  return find(text);
+}
+
+/** A finder of the given spellings in text, left to right, without overlaps; compiled once. */
+export function spellingFinder(spellings: readonly string[]): (text: string) => SpecialTokenHit[] {
+  const names = spellings.filter((n) => n !== '');
+  if (names.length === 0) return () => [];
   // Longest first, so that a spelling that is a prefix of another never hides it.
-  const alternatives = names.sort((a, b) => b.length - a.length).map((n) => n.replace(/[\\^$.*+?()[\]{}|]/g, '\\$&'));
+  const alternatives = [...names].sort((a, b) => b.length - a.length).map((n) => n.replace(/[\\^$.*+?()[\]{}|]/g, '\\$&'));
   const re = new RegExp(alternatives.join('|'), 'g');
-  const hits: SpecialTokenHit[] = [];
-  for (const m of text.matchAll(re)) hits.push({ token: m[0], index: m.index! });
-  return hits;
+  // Most spellings share a character (`|`, `<`); a text without it cannot hold any of them.
+  const common = [...new Set(names[0])].find((ch) => names.every((n) => n.includes(ch)));
+  return (text) => {
+    if (common !== undefined && !text.includes(common)) return [];
+    const hits: SpecialTokenHit[] = [];
+    for (const m of text.matchAll(re)) hits.push({ token: m[0], index: m.index! });
+    return hits;
+  };
 }

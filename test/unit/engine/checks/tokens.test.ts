@@ -33,7 +33,7 @@ describe('tokensCheck', () => {
   it('declares its rules in the tokens family', async () => {
     await tokensCheck.prepare!(withDefaults());
     expect(tokensCheck.rules).toBe(TOKENS_RULES);
-    expect(TOKENS_RULES.map((r) => r.id).sort()).toEqual(['tokens-no-text', 'tokens-over-context', 'tokens-special-text']);
+    expect(TOKENS_RULES.map((r) => r.id).sort()).toEqual(['tokens-no-text', 'tokens-no-trainable', 'tokens-over-context', 'tokens-rendered-over-context', 'tokens-special-text', 'tokens-template-error']);
     expect(TOKENS_RULES.every((r) => r.family === 'tokens')).toBe(true);
   });
 

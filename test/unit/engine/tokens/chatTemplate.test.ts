@@ -1,0 +1,267 @@
+// Chat templates of three model families rendered by us (@huggingface/jinja) against Python's
+// jinja2 (the engine the templates are written for) set up as the model-hub library sets it up
+// (from memory: a sandboxed environment with trim_blocks and lstrip_blocks, loop controls, a
+// `tojson` that keeps non-ASCII and key order, `raise_exception` and `strftime_now`); rendered token
+// totals against the reference Rust tokenizer (npm `tokenizers`); trained spans worked by hand.
+import { spawnSync } from 'node:child_process';
+import { beforeAll, describe, expect, it } from 'vitest';
+import { withDefaults, type CheckConfig } from '../../../../src/engine/config.js';
+import type { RecordResult } from '../../../../src/engine/checks/check.js';
+import { chatTemplateOf, renderedRecord, tokensCheck } from '../../../../src/engine/checks/tokens.js';
+import { analyzeEntry } from '../../../../src/engine/analyze.js';
+import { ALL_CHECKS } from '../../../../src/engine/checks/index.js';
+import { readRecord } from '../../../../src/engine/layouts/index.js';
+import { conversationOf, type ChatMessage } from '../../../../src/engine/tokens/chatTemplate.js';
+import { loadTokenizer, type Tokenizer } from '../../../../src/engine/tokens/index.js';
+import { FAMILIES, modelFolder, referenceTokenizer, type Family, type ReferenceTokenizer } from './models.js';
+
+const PYTHON_ORACLE = String.raw`
+import json, sys
+from datetime import datetime
+import jinja2
+from jinja2.sandbox import ImmutableSandboxedEnvironment
+from jinja2.ext import loopcontrols
+
+def raise_exception(message):
+    raise jinja2.exceptions.TemplateError(message)
+
+def tojson(x, ensure_ascii=False, indent=None, separators=None, sort_keys=False):
+    return json.dumps(x, ensure_ascii=ensure_ascii, indent=indent, separators=separators, sort_keys=sort_keys)
+
+env = ImmutableSandboxedEnvironment(trim_blocks=True, lstrip_blocks=True, extensions=[loopcontrols])
+env.filters["tojson"] = tojson
+env.globals["raise_exception"] = raise_exception
+env.globals["strftime_now"] = lambda fmt: datetime.now().strftime(fmt)
+req = json.load(sys.stdin)
+template = env.from_string(req["template"])
+out = []
+for ctx in req["contexts"]:
+    try:
+        out.append({"text": template.render(**ctx)})
+    except Exception as e:
+        out.append({"error": type(e).__name__ + ": " + str(e)})
+sys.stdout.write(json.dumps(out))
+`;
+
+/** Renders each context with Python's jinja2. */
+function pythonRender(template: string, contexts: Record<string, unknown>[]): ({ text: string } | { error: string })[] {
+  const r = spawnSync('python3', ['-c', PYTHON_ORACLE], { input: JSON.stringify({ template, contexts }), encoding: 'utf8', maxBuffer: 64 << 20 });
+  if (r.status !== 0) throw new Error(`python3 jinja2 oracle failed: ${r.stderr}`);
+  return JSON.parse(r.stdout);
+}
+
+const TOOLS = [
+  {
+    type: 'function',
+    function: {
+      name: 'lookup_part',
+      description: 'Find a spare part in the co-op’s stock — by name (ünïcode welcome)',
+      parameters: { type: 'object', properties: { name: { type: 'string' }, size: { type: 'integer' } }, required: ['name'] },
+    },
+  },
+];
+
+/** Records of the bicycle-repair desk in the layouts the trade writes; each becomes one conversation. */
+const RECORDS: Record<string, unknown> = {
+  'system + user + assistant': {
+    messages: [
+      { role: 'system', content: 'You are the repair desk of the Spoke & Sprocket co-op.' },
+      { role: 'user', content: 'My chain skips on the 11-tooth cog\u3000— why? 🚲' },
+      { role: 'assistant', content: 'Check the hanger alignment first.\n\n1. Shift to the smallest cog.\n2. Look from behind.' },
+    ],
+  },
+  'multi-turn': {
+    conversations: [
+      { from: 'human', value: '  自行车链条多久上一次油？ ' },
+      { from: 'gpt', value: 'Every 300 km, or after rain.' },
+      { from: 'human', value: 'And the cassette?\n\n```\ndegrease --all\n```' },
+      { from: 'gpt', value: 'Degrease it every second chain change.\t' },
+    ],
+  },
+  'tool calls': {
+    messages: [
+      { role: 'system', content: 'Use the stock tool.' },
+      { role: 'user', content: 'Do you have a 10 mm cone spanner?' },
+      { role: 'assistant', content: '', tool_calls: [{ id: 'call_1', type: 'function', function: { name: 'lookup_part', arguments: { name: 'cone spanner', size: 10 } } }] },
+      { role: 'tool', tool_call_id: 'call_1', content: '{"in_stock": 3, "shelf": "B4"}' },
+      { role: 'assistant', content: 'Yes — three, on shelf B4.' },
+    ],
+    tools: TOOLS,
+  },
+  'tool call with arguments as a string': {
+    messages: [
+      { role: 'user', content: 'Price of a KMC X11 chain?' },
+      { role: 'assistant', content: '', tool_calls: [{ id: 'c7', type: 'function', function: { name: 'lookup_part', arguments: '{"name": "KMC X11"}' } }] },
+      { role: 'tool', tool_call_id: 'c7', content: '29.90 EUR' },
+      { role: 'assistant', content: 'It is 29.90 EUR.' },
+    ],
+    tools: TOOLS,
+  },
+  'reasoning': {
+    messages: [
+      { role: 'user', content: 'Is 5 N·m enough for a stem bolt?' },
+      { role: 'assistant', reasoning_content: 'Stem bolts are usually 4–6 N·m.', content: 'Yes, 5 N·m is within the usual range.' },
+    ],
+  },
+  'instruction record': { instruction: 'Explain a quick-release skewer.', input: 'For a beginner.', output: 'It clamps the wheel with a cam lever.' },
+};
+
+describe.each(FAMILIES)('%s chat template against Python jinja2', (family: Family) => {
+  let tokenizer: Tokenizer;
+  let reference: ReferenceTokenizer;
+  let config: CheckConfig;
+  const cases: { name: string; messages: ChatMessage[]; tools?: unknown[]; record: unknown }[] = [];
+  beforeAll(async () => {
+    tokenizer = await loadTokenizer(modelFolder(family));
+    reference = referenceTokenizer(family);
+    config = withDefaults({ tokenizer: modelFolder(family) });
+    for (const [name, record] of Object.entries(RECORDS)) {
+      const reading = readRecord(record, config)!;
+      const conv = conversationOf(reading, reading.sequences[0]!, record)!;
+      cases.push({ name, messages: conv.messages, tools: conv.tools, record });
+    }
+  }, 60_000);
+
+  it('renders every conversation as jinja2 does (or both refuse it)', () => {
+    const template = chatTemplateOf(tokenizer)!;
+    const spec = tokenizer.chatTemplate!;
+    const contexts = cases.map((c) => ({ ...spec.specials, messages: c.messages, add_generation_prompt: false, ...(c.tools ? { tools: c.tools } : {}) }));
+    const expected = pythonRender(spec.source, contexts);
+    let rendered = 0;
+    cases.forEach((c, i) => {
+      const want = expected[i]!;
+      let ours: { text: string } | { error: string };
+      try {
+        ours = { text: template.render(c.messages, c.tools) };
+      } catch (err) {
+        ours = { error: (err as Error).message };
+      }
+      if ('text' in want) {
+        expect(ours, c.name).toEqual(want);
+        rendered++;
+      } else {
+        expect('error' in ours, `${c.name}: jinja2 raised ${want.error}, we rendered`).toBe(true);
+      }
+    });
+    // Every family renders the plain conversations; Gemma's template refuses tool turns.
+    expect(rendered).toBeGreaterThanOrEqual(family === 'gemma3' ? 3 : cases.length);
+  });
+
+  it('counts each rendered sequence as the reference tokenizer does, through the tokens check', async () => {
+    const spec = tokenizer.chatTemplate!;
+    const contexts = cases.map((c) => ({ ...spec.specials, messages: c.messages, add_generation_prompt: false, ...(c.tools ? { tools: c.tools } : {}) }));
+    const expected = pythonRender(spec.source, contexts);
+    await tokensCheck.prepare!(config);
+    for (const [i, c] of cases.entries()) {
+      const want = expected[i]!;
+      const out: RecordResult = { issues: [] };
+      tokensCheck.checkRecord({ record: 0, value: c.record }, config, out);
+      if (!('text' in want)) {
+        expect(out.issues.map((x) => x.rule), c.name).toContain('tokens-template-error');
+        continue;
+      }
+      // Oracle: tokenizers (Rust) on jinja2's rendering, special spellings as control tokens, nothing added.
+      const n = (await reference.encode(want.text, null, { addSpecialTokens: false })).getIds().length;
+      expect(out.rendered, c.name).toBe(n);
+      expect(out.length, c.name).toBe(n);
+      // A template may drop text the content counts (Gemma's drops reasoning); elsewhere it only adds.
+      if (c.name !== 'reasoning') expect(out.rendered! - out.tokens!, `${c.name}: template overhead`).toBeGreaterThan(0);
+    }
+  });
+});
+
+/** Tokens of a string by the reference. */
+async function refCount(reference: ReferenceTokenizer, text: string): Promise<number> {
+  return (await reference.encode(text, null, { addSpecialTokens: false })).getIds().length;
+}
+
+describe('trained tokens on hand-worked conversations', () => {
+  const record = {
+    messages: [
+      { role: 'user', content: 'Brake squeal?' },
+      { role: 'assistant', content: 'Clean the rotor.' },
+      { role: 'user', content: 'Still squeals.' },
+      { role: 'assistant', content: 'Replace the pads.' },
+    ],
+  };
+  // The assistant spans, worked out by hand from each template: from after the assistant header
+  // through the turn's end marker (and the newline the template writes after it).
+  const HAND: Record<Family, string[]> = {
+    qwen3: ['Clean the rotor.<|im_end|>\n', '<think>\n\n</think>\n\nReplace the pads.<|im_end|>\n'],
+    llama3: ['Clean the rotor.<|eot_id|>', 'Replace the pads.<|eot_id|>'],
+    gemma3: ['Clean the rotor.<end_of_turn>\n', 'Replace the pads.<end_of_turn>\n'],
+  };
+
+  it.each(FAMILIES)('%s: the trained spans are the assistant turns, and their tokens the reference counts', async (family) => {
+    const config = withDefaults({ tokenizer: modelFolder(family) });
+    await tokensCheck.prepare!(config);
+    const reference = referenceTokenizer(family);
+    const r = renderedRecord(record, config)!;
+    const seq = r.sequences[0]!;
+    expect(seq.spans.map((s) => seq.text.slice(s.start, s.end))).toEqual(HAND[family]);
+    let want = 0;
+    for (const s of HAND[family]) want += await refCount(reference, s);
+    expect(seq.trainable).toBe(want);
+    expect(r.trainable).toBe(want);
+  }, 60_000);
+
+  it('leaves out a turn whose flag excludes it from the loss, and a prompt turn of a pair', async () => {
+    const family = 'qwen3';
+    const config = withDefaults({ tokenizer: modelFolder(family) });
+    await tokensCheck.prepare!(config);
+    const reference = referenceTokenizer(family);
+    const flagged = { messages: record.messages.map((m, i) => (i === 1 ? { ...m, weight: 0 } : m)) };
+    const r = renderedRecord(flagged, config)!;
+    const seq = r.sequences[0]!;
+    expect(seq.spans.map((s) => seq.text.slice(s.start, s.end))).toEqual([HAND.qwen3[1]]);
+    expect(seq.trainable).toBe(await refCount(reference, HAND.qwen3[1]!));
+
+    // A pair: each side rendered on its own; the prompt's turns condition the answer and are not trained.
+    const pair = { prompt: [{ role: 'user', content: 'Tubeless or tubes?' }], chosen: [{ role: 'assistant', content: 'Tubeless, for fewer flats.' }], rejected: [{ role: 'assistant', content: 'Whatever.' }] };
+    const p = renderedRecord(pair, config)!;
+    expect(p.sequences.map((s) => s.name)).toEqual(['prompt + chosen', 'prompt + rejected']);
+    const spans = p.sequences.map((s) => s.spans.map((x) => s.text.slice(x.start, x.end)));
+    expect(spans).toEqual([['<think>\n\n</think>\n\nTubeless, for fewer flats.<|im_end|>\n'], ['<think>\n\n</think>\n\nWhatever.<|im_end|>\n']]);
+    expect(p.length).toBe(Math.max(...p.sequences.map((s) => s.rendered)));
+    expect(p.rendered).toBe(p.sequences[0]!.rendered + p.sequences[1]!.rendered);
+  }, 60_000);
+
+  it('finds a conversation with no trained token', async () => {
+    const config = withDefaults({ tokenizer: modelFolder('llama3') });
+    await tokensCheck.prepare!(config);
+    const out: RecordResult = { issues: [] };
+    tokensCheck.checkRecord({ record: 0, value: { messages: [{ role: 'user', content: 'Hello?' }, { role: 'assistant', content: 'Hi.', train: false }] } }, config, out);
+    expect(out.trainable).toBe(0);
+    expect(out.issues.map((i) => i.rule)).toEqual(['tokens-no-trainable']);
+  }, 60_000);
+});
+
+describe('template findings at their record', () => {
+  it("is a tokens-template-error where the template raises (Gemma's refuses a tool turn), placed at the turns", async () => {
+    const config = withDefaults({ tokenizer: modelFolder('gemma3') });
+    const value = RECORDS['tool calls'];
+    const text = JSON.stringify(value);
+    await tokensCheck.prepare!(config);
+    const o = analyzeEntry({ entry: 4, record: 4, line: 5, column: 1, text, value, findings: [] }, ALL_CHECKS, config);
+    const f = o.findings.find((x) => x.rule === 'tokens-template-error');
+    expect(f).toBeDefined();
+    expect(f!.message).toMatch(/Conversation roles must alternate/);
+    expect([f!.record, f!.line, f!.column, f!.pointer]).toEqual([4, 5, text.indexOf('"messages"') + 1 + '"messages":'.length, '/messages']);
+    // Its tokens are the content's; the other records still render.
+    expect(o.rendered).toBe(o.tokens);
+  }, 60_000);
+
+  it('is tokens-rendered-over-context when the rendered form is over the context length, though the content is not', async () => {
+    const folder = modelFolder('qwen3');
+    const base = withDefaults({ tokenizer: folder });
+    await tokensCheck.prepare!(base);
+    const value = RECORDS['system + user + assistant'];
+    const probe: RecordResult = { issues: [] };
+    tokensCheck.checkRecord({ record: 0, value }, base, probe);
+    const config = withDefaults({ tokenizer: folder, contextLength: probe.tokens! + 1 });
+    const out: RecordResult = { issues: [] };
+    tokensCheck.checkRecord({ record: 0, value }, config, out);
+    expect(out.issues.map((i) => i.rule)).toEqual(['tokens-rendered-over-context']);
+    expect(out.issues[0]!.message).toContain(`${out.rendered} tokens`);
+  }, 60_000);
+});
