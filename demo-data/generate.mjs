@@ -1827,6 +1827,13 @@ const SETTINGS = {
   'workbench.startupEditor': 'none',
 };
 
+/** The project file: the same schema mapping for the editor and for `shardwise check demo-data`. */
+const PROJECT = {
+  schemas: SETTINGS['shardwise.schemas'],
+  tokens: { contextLength: 8192 },
+  check: { failOn: 'error' },
+};
+
 const json = (v) => JSON.stringify(v, null, 2) + '\n';
 
 function main() {
@@ -1855,6 +1862,7 @@ function main() {
   ];
   fs.writeFileSync(path.join(OUT, 'chat-sft.schema.json'), json(SCHEMA));
   fs.writeFileSync(path.join(OUT, '.vscode', 'settings.json'), json(SETTINGS));
+  fs.writeFileSync(path.join(OUT, 'shardwise.json'), json(PROJECT));
   const manifest = {
     description: 'Every deliberately broken record in the demo shards, with the rule ids the checks are expected to report. Lines are 1-based; rows are 0-based across the whole file.',
     generator: 'demo-data/generate.mjs',

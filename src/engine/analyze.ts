@@ -7,6 +7,7 @@ import type { Finding, RecordIssue, RuleInfo } from './findings.js';
 import type { Entry, Progress, RecordSource } from './sources/source.js';
 import { locatePointer } from './json/scan.js';
 import { settleConfig } from './stats/shape.js';
+import { applyPolicyAll, hash64, recordKey, stableJson } from './policy.js';
 
 /** One entry's outcome, as a worker streams it back. */
 export interface EntryOutcome {
@@ -26,6 +27,17 @@ export interface EntryOutcome {
   layout?: string | null;
   kind: 'record' | 'blank' | 'invalid';
   findings: Finding[];
+  /** The record's identity (its id field, else a content hash), set when it has findings. */
+  key?: string;
+  /** Set when the configuration asks for a profile: a content hash and each top-level field's JSON type. */
+  profile?: RecordProfile;
+}
+
+export interface RecordProfile {
+  /** 64-bit content hash (16 hex digits) of the record's text, for distinct counts. */
+  hash: string;
+  /** [field, type] for each top-level field; type is string, number, boolean, null, object or array. */
+  fields: [string, string][];
 }
 
 export interface Share {
@@ -105,7 +117,8 @@ export function analyzeEntry(entry: Entry, checks: readonly Check[], config: Che
   const kind: EntryOutcome['kind'] =
     entry.value !== undefined ? 'record' : entry.findings.some((f) => f.rule === 'line-blank') ? 'blank' : 'invalid';
   if (entry.value === undefined || entry.record === null) {
-    return { entry: entry.entry, record: entry.record, tokens: null, kind, findings };
+    const kept = applyPolicyAll(findings, config.rules);
+    return { entry: entry.entry, record: entry.record, tokens: null, kind, findings: kept, ...(kept.length ? { key: `@${hash64(entry.text ?? '')}` } : {}) };
   }
   const result: RecordResult = { issues: [] };
   for (const check of checks) {
@@ -117,7 +130,10 @@ export function analyzeEntry(entry: Entry, checks: readonly Check[], config: Che
   }
   const rules = ruleTable(checks);
   for (const issue of result.issues) findings.push(locateIssue(entry, issue, rules.get(issue.rule)));
+  const kept = applyPolicyAll(findings, config.rules);
   return {
+    ...(kept.length ? { key: recordKey(entry.value, entry.text) } : {}),
+    ...(config.profile ? { profile: profileOf(entry) } : {}),
     entry: entry.entry,
     record: entry.record,
     tokens: result.tokens ?? null,
@@ -127,8 +143,23 @@ export function analyzeEntry(entry: Entry, checks: readonly Check[], config: Che
     ...(result.rendered !== undefined ? { rendered: result.rendered, trainable: result.trainable ?? 0 } : {}),
     layout: result.layout ?? null,
     kind,
-    findings,
+    findings: kept,
   };
+}
+
+function jsonType(v: unknown): string {
+  if (v === null || v === undefined) return 'null';
+  if (Array.isArray(v)) return 'array';
+  if (typeof v === 'bigint') return 'number';
+  if (v instanceof Uint8Array) return 'binary';
+  return typeof v === 'object' ? 'object' : typeof v;
+}
+
+function profileOf(entry: Entry): RecordProfile {
+  const v = entry.value;
+  const fields: [string, string][] =
+    v !== null && typeof v === 'object' && !Array.isArray(v) ? Object.entries(v as Record<string, unknown>).map(([k, x]) => [k, jsonType(x)]) : [];
+  return { hash: hash64(entry.text !== undefined ? entry.text.trim() : stableJson(v)), fields };
 }
 
 const ruleTables = new WeakMap<readonly Check[], Map<string, RuleInfo>>();

@@ -1,4 +1,5 @@
 import type { LayoutConfig } from './layouts/layout.js';
+import type { RulePolicy } from './policy.js';
 
 // Settings the checks read. The host maps VS Code settings onto this; the CLI maps flags onto it.
 
@@ -46,6 +47,10 @@ export interface CheckConfig {
   schema: SchemaConfig | null;
   /** A line longer than this many bytes is a finding and is not parsed. */
   maxLineBytes: number;
+  /** Per-rule severity overrides and rules turned off (a project's policy). */
+  rules?: RulePolicy;
+  /** Also report each record's content hash and field types (for `shardwise stats`). */
+  profile?: boolean;
 }
 
 export const DEFAULT_CONFIG: CheckConfig = {

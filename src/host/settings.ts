@@ -2,7 +2,7 @@
 
 import * as vscode from 'vscode';
 import { ENCODINGS, withDefaults, type CheckConfig, type EncodingName } from '../engine/config.js';
-import { globToRegExp } from './globs.js';
+import { globToRegExp } from '../engine/globs.js';
 import { LAYOUT_IDS } from '../engine/layouts/index.js';
 import type { LayoutConfig, LayoutFields } from '../engine/layouts/layout.js';
 

@@ -11,6 +11,7 @@ import type { OpenOptions } from '../engine/sources/index.js';
 import type { Progress, SourceInfo } from '../engine/sources/source.js';
 import type { Finding } from '../engine/findings.js';
 import type { WorkerEvent, WorkerRequest } from './messages.js';
+import { applyPolicyAll } from '../engine/policy.js';
 
 export interface AnalyzeFileOptions {
   config: CheckConfig;
@@ -50,7 +51,8 @@ export function withFileFindingsOnce(options: AnalyzeFileOptions): AnalyzeFileOp
         seen.add(key);
         return true;
       });
-      if (fresh.length) options.onFileFindings?.(fresh);
+      const kept = applyPolicyAll(fresh, options.config.rules);
+      if (kept.length) options.onFileFindings?.(kept);
     },
   };
 }

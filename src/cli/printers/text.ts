@@ -1,33 +1,76 @@
-// `--format text`: one line per finding (path:line:column for text formats, path row N for
-// columnar ones), then a summary per file — readable in a CI log.
+// `--format text`: findings grouped by file, each as `path:line:column` (terminals and editors make
+// it a link) or `path row N` for columnar rows, then one summary table over every file.
 
-import type { Printer } from '../report.js';
+import type { FileReport, Printer, ReportFinding } from '../report.js';
+
+export function findingPlace(path: string, f: ReportFinding): string {
+  if (f.line !== null) return `${path}:${f.line}:${f.column ?? 1}`;
+  if (f.row !== undefined) return `${path} row ${f.row}`;
+  return path;
+}
+
+const n = (x: number | null) => (x === null ? '–' : x.toLocaleString('en-US'));
 
 export const textPrinter: Printer = {
   print(report, extras, out) {
     report.files.forEach((file, i) => {
       const x = extras[i];
+      if (file.findings.length) out.write(`\n${file.path}${file.split ? ` (split ${file.split})` : ''}\n`);
       for (const f of file.findings) {
-        const place =
-          f.line !== null ? `${file.path}:${f.line}:${f.column ?? 1}` : f.record !== null ? `${file.path} row ${f.record}` : file.path;
         const at = f.pointer ? ` at ${f.pointer}` : '';
-        out.write(`${place}: ${f.severity} ${f.rule}: ${f.message}${at}\n`);
+        out.write(`  ${findingPlace(file.path, f)}: ${f.severity} ${f.rule}: ${f.message}${at}${f.baseline ? ' (in baseline)' : ''}\n`);
       }
-      const t = file.tokens;
-      const sev = x.bySeverity;
-      out.write(
-        `${file.path}: ${file.format}, ${file.records} records` +
-          (file.layout ? ` (layout ${file.layout}, ${Math.round(file.layoutShare * 1000) / 10}% of records)` : '') +
-          (x.blankLines ? `, ${x.blankLines} blank lines` : '') +
-          (x.invalidLines ? `, ${x.invalidLines} unreadable entries` : '') +
-          `; ${t.total} content tokens (${t.encoding}; prompt ${t.prompt}, response ${t.response}; per record p50 ${t.p50}, p90 ${t.p90}, p99 ${t.p99}, max ${t.max});` +
-          ` ${t.overContext} over ${t.contextLength}` +
-          `; ${sev.error} errors, ${sev.warning} warnings, ${sev.info} notes\n`,
-      );
-      if (x.byRule.size) {
-        const rules = [...x.byRule.entries()].sort((a, b) => b[1] - a[1]).map(([r, n]) => `${r} ×${n}`);
-        out.write(`  by rule: ${rules.join(', ')}\n`);
-      }
+      const listed = file.findings.length;
+      if (listed < file.findingsTotal) out.write(`  … ${n(file.findingsTotal - listed)} more findings not listed (--max-findings)\n`);
+      out.write(`  ${describe(file, x.blankLines, x.invalidLines)}\n`);
     });
+    out.write(`\n${table(report.files, extras)}`);
+    const t = report.total;
+    const rules = Object.entries(t.findings.byRule).map(([r, c]) => `${r} ×${n(c)}`);
+    if (rules.length) out.write(`by rule: ${rules.join(', ')}\n`);
+    const baselined = extras.reduce((a, x) => a + x.baselined, 0);
+    if (baselined) out.write(`${n(baselined)} findings are in the baseline and do not fail the run\n`);
   },
 };
+
+function describe(file: FileReport, blank: number, invalid: number): string {
+  const t = file.tokens;
+  return (
+    `${file.path}: ${file.format}, ${n(file.records)} records` +
+    (file.layout ? ` (layout ${file.layout}, ${Math.round(file.layoutShare * 1000) / 10}% of records)` : '') +
+    (blank ? `, ${n(blank)} blank lines` : '') +
+    (invalid ? `, ${n(invalid)} unreadable lines or rows` : '') +
+    `; ${n(t.total)} content tokens (${t.encoding}; prompt ${n(t.prompt)}, response ${n(t.response)}; per record p50 ${n(t.p50)}, p90 ${n(t.p90)}, p99 ${n(t.p99)}, max ${n(t.max)});` +
+    ` ${n(t.overContext)} over ${n(t.contextLength)}`
+  );
+}
+
+function table(files: FileReport[], extras: { bySeverity: Record<string, number> }[]): string {
+  const head = ['file', 'format', 'records', 'tokens', 'max', 'over context', 'errors', 'warnings', 'notes'];
+  const rows = files.map((f, i) => [
+    f.path + (f.split ? ` [${f.split}]` : ''),
+    f.format,
+    n(f.records),
+    n(f.tokens.total),
+    n(f.tokens.max),
+    n(f.tokens.overContext),
+    n(extras[i].bySeverity.error),
+    n(extras[i].bySeverity.warning),
+    n(extras[i].bySeverity.info),
+  ]);
+  const sum = (k: string) => extras.reduce((a, x) => a + x.bySeverity[k], 0);
+  rows.push([
+    `total (${files.length} ${files.length === 1 ? 'file' : 'files'})`,
+    '',
+    n(files.reduce((a, f) => a + f.records, 0)),
+    n(files.reduce((a, f) => a + f.tokens.total, 0)),
+    n(files.reduce((a, f) => Math.max(a, f.tokens.max), 0)),
+    n(files.reduce((a, f) => a + f.tokens.overContext, 0)),
+    n(sum('error')),
+    n(sum('warning')),
+    n(sum('info')),
+  ]);
+  const widths = head.map((h, c) => Math.max(h.length, ...rows.map((r) => r[c].length)));
+  const line = (r: string[]) => r.map((cell, c) => (c < 2 ? cell.padEnd(widths[c]) : cell.padStart(widths[c]))).join('  ').trimEnd() + '\n';
+  return line(head) + line(widths.map((w) => '─'.repeat(w))) + rows.slice(0, -1).map(line).join('') + line(widths.map((w) => '─'.repeat(w))) + line(rows[rows.length - 1]);
+}

@@ -6,7 +6,7 @@ import { createHash } from 'node:crypto';
 import { readFileSync, statSync } from 'node:fs';
 import { join } from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { globToRegExp } from '../../../src/host/globs';
+import { globToRegExp } from '../../../src/engine/globs';
 import { buildBundles, projectRoot } from '../helpers/build';
 
 const demo = join(projectRoot, 'demo-data');

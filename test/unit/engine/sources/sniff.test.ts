@@ -252,7 +252,7 @@ describe('the CLI reports the sniffed format and exits 1 on findings, 2 only on 
     let e = '';
     out.on('data', (c) => (o += c));
     err.on('data', (c) => (e += c));
-    const code = await run(['check', ...args, '--format', 'json', '--workers', '0'], out, err);
+    const code = await run(['check', ...args, '--format', 'json', '--in-thread'], out, err);
     return { code, out: o, err: e };
   }
 

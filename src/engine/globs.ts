@@ -1,4 +1,4 @@
-// File globs of the `shardwise.schemas` setting. Free of 'vscode' so tests and the CLI can use it.
+// File globs of settings and the project file (`schemas`, `layout.byGlob`) and of CLI arguments.
 
 /** Glob → RegExp for the `shardwise.schemas` keys: `**` any path, `*` within a segment, `?` one char. */
 export function globToRegExp(glob: string): RegExp {

@@ -1,0 +1,160 @@
+// The command line's options: one table, read by every verb's parser and its --help. Options that
+// mirror a setting write the setting's key, so a project file and a flag mean the same thing.
+
+import { ENCODINGS } from '../engine/config.js';
+import { LAYOUT_IDS } from '../engine/layouts/index.js';
+import { RULE_LEVELS } from '../engine/policy.js';
+import { FAIL_LEVELS, checkValue, settingSpec, type SettingValues } from '../engine/project.js';
+
+export class UsageError extends Error {
+  constructor(message: string) {
+    super(message);
+    this.name = 'UsageError';
+  }
+}
+
+/** A file that cannot be opened at all, or a setting that cannot work: exit 2. */
+export class InputProblem extends Error {
+  constructor(message: string) {
+    super(message);
+    this.name = 'InputProblem';
+  }
+}
+
+export interface Parsed {
+  verb: string;
+  positional: string[];
+  /** Setting values given on the command line, by setting key. */
+  settings: SettingValues;
+  /** Other options, by option name without dashes. */
+  opts: Record<string, string | boolean | string[]>;
+}
+
+interface OptionDef {
+  flag: string;
+  alias?: string[];
+  value?: string;
+  help: string;
+  /** The setting it sets, if any. */
+  setting?: string;
+  repeat?: boolean;
+  verbs: readonly string[];
+  /** Turns the text into the setting's value (default: by the setting's type). */
+  convert?: (v: string, prev: unknown) => unknown;
+}
+
+const CHECKING = ['check', 'stats'] as const;
+const RECORDS = ['sample', 'head', 'slice'] as const;
+const listOf = (v: string) => v.split(',').map((s) => s.trim()).filter(Boolean);
+
+export const OPTIONS: readonly OptionDef[] = [
+  { flag: '--config', value: 'FILE', help: 'use this project file for every data file instead of looking for shardwise.json', verbs: [...CHECKING] },
+  { flag: '--no-config', help: 'ignore every project file', verbs: [...CHECKING] },
+  { flag: '--schema', value: 'FILE', help: 'validate every record against this JSON Schema (draft 2020-12 or draft-07), whatever the project file maps', setting: 'schema.file', verbs: [...CHECKING], convert: (v) => v },
+  { flag: '--encoding', value: 'NAME', help: `token encoding: ${ENCODINGS.join(', ')} (default cl100k_base)`, setting: 'tokens.encoding', verbs: [...CHECKING] },
+  { flag: '--context-length', alias: ['--context'], value: 'N', help: 'context length in tokens; longer records are findings (default 8192)', setting: 'tokens.contextLength', verbs: [...CHECKING] },
+  { flag: '--text-field', value: 'NAME', repeat: true, help: "field holding a plain record's text (repeatable; default: text, content, document, body, passage)", setting: 'text.fields', verbs: [...CHECKING], convert: (v, prev) => [...((prev as string[]) ?? []), v] },
+  { flag: '--layout', value: 'ID', help: `how records are read: auto (decided from the shard's first records) or one of ${LAYOUT_IDS.join(', ')}`, setting: 'layout.default', verbs: [...CHECKING] },
+  { flag: '--turns-field', value: 'NAME', repeat: true, help: 'a key holding a list of turns, tried before messages/conversations/conversation/dialog (repeatable)', setting: 'layout.fields', verbs: [...CHECKING], convert: (v, prev) => addField(prev, 'turns', v) },
+  { flag: '--role-field', value: 'NAME', repeat: true, help: 'a turn key holding the role, tried before role/from (repeatable)', setting: 'layout.fields', verbs: [...CHECKING], convert: (v, prev) => addField(prev, 'role', v) },
+  { flag: '--content-field', value: 'NAME', repeat: true, help: 'a turn key holding the content, tried before content/value/text (repeatable)', setting: 'layout.fields', verbs: [...CHECKING], convert: (v, prev) => addField(prev, 'content', v) },
+  { flag: '--roles', value: 'LIST', help: 'allowed chat roles, comma-separated (default system,user,assistant,tool)', setting: 'chat.roles', verbs: [...CHECKING], convert: listOf },
+  { flag: '--allow-repeated-roles', help: 'do not report the same role twice in a row', setting: 'chat.allowRepeatedRoles', verbs: [...CHECKING], convert: () => true },
+  { flag: '--require-conversation', value: 'auto|always|never', help: "report records without a conversation (default auto: when the shard's first records are chats)", setting: 'chat.requireConversation', verbs: [...CHECKING] },
+  { flag: '--max-line-bytes', value: 'N', help: 'lines longer than this are findings and are not parsed (default 67108864)', setting: 'lines.maxBytes', verbs: [...CHECKING, ...RECORDS] },
+  { flag: '--rule', value: 'ID=LEVEL', repeat: true, help: `set a rule's severity: ${RULE_LEVELS.join(', ')} (repeatable; \`shardwise rules\` lists the ids)`, setting: 'rules', verbs: [...CHECKING], convert: addRule },
+  { flag: '--fail-on', value: FAIL_LEVELS.join('|'), help: 'exit 1 when a finding at or above this severity is found (default error)', setting: 'check.failOn', verbs: ['check'] },
+  { flag: '--max-findings', value: 'N', help: 'list at most N findings per file; all are still counted (default 10000)', setting: 'check.maxFindings', verbs: ['check'] },
+  { flag: '--baseline', value: 'FILE', help: 'fail only on findings that are not in this baseline (matched by rule, file and record identity)', verbs: ['check'] },
+  { flag: '--write-baseline', value: 'FILE', help: 'write the findings of this run as a baseline file', verbs: ['check'] },
+  { flag: '--workers', value: 'auto|N', help: 'worker threads (default auto: one per core, up to 4)', verbs: [...CHECKING] },
+  { flag: '--in-thread', help: 'check in this thread, without worker threads (small files, debugging)', verbs: [...CHECKING] },
+  { flag: '--format', value: 'FORMAT', help: 'output: text or json (check also sarif)', verbs: [...CHECKING, 'merge', 'rules'] },
+  { flag: '--output', alias: ['-o'], value: 'FILE', help: 'write the report to FILE instead of standard output (never over the data)', verbs: [...CHECKING, 'merge', ...RECORDS] },
+  { flag: '--quiet', alias: ['-q'], help: 'no progress bar on standard error', verbs: [...CHECKING] },
+  { flag: '--count', alias: ['-n'], value: 'N', help: 'how many records (sample, head: default 10)', verbs: ['sample', 'head'] },
+  { flag: '--seed', value: 'S', help: 'seed of the sample (the same seed gives the same sample; default 0)', verbs: ['sample'] },
+  { flag: '--from', value: 'N', help: 'first record of the slice (1 = the first record)', verbs: ['slice'] },
+  { flag: '--to', value: 'N', help: 'last record of the slice (inclusive; default the last record)', verbs: ['slice'] },
+];
+
+function addField(prev: unknown, key: 'turns' | 'role' | 'content', v: string): unknown {
+  const f = { ...((prev as Record<string, string[]>) ?? {}) };
+  f[key] = [...(f[key] ?? []), v];
+  return f;
+}
+
+function addRule(v: string, prev: unknown): unknown {
+  const eq = v.indexOf('=');
+  if (eq <= 0) throw new UsageError(`--rule takes ID=LEVEL (e.g. chat-role-repeated=off), not "${v}"`);
+  return { ...((prev as Record<string, string>) ?? {}), [v.slice(0, eq)]: v.slice(eq + 1) };
+}
+
+export const VERBS: Record<string, { usage: string; summary: string }> = {
+  check: { usage: 'shardwise check PATH... [options]', summary: 'check files, folders or glob patterns; exit 1 on findings at the fail level' },
+  stats: { usage: 'shardwise stats PATH... [options]', summary: 'records, tokens with percentiles, findings by rule, field types; --format json carries mergeable state' },
+  merge: { usage: 'shardwise merge REPORT... [options]', summary: 'combine `stats --format json` reports of shards into the report of the whole data set' },
+  sample: { usage: 'shardwise sample FILE -n N [--seed S]', summary: 'a seeded uniform random sample of records, as JSON Lines' },
+  head: { usage: 'shardwise head FILE [-n N]', summary: 'the first records, as JSON Lines' },
+  slice: { usage: 'shardwise slice FILE --from N [--to M]', summary: 'records N to M (1 = the first record), as JSON Lines' },
+  rules: { usage: 'shardwise rules [--format text|json]', summary: 'every rule: id, family, default severity, summary' },
+};
+
+export function parseCommandLine(argv: readonly string[]): Parsed | 'help' | { help: string } {
+  if (argv.length === 0) throw new UsageError('no command given');
+  if (argv[0] === '-h' || argv[0] === '--help' || argv[0] === 'help') return argv[1] && VERBS[argv[1]] ? { help: argv[1] } : 'help';
+  const [verb, ...rest] = argv;
+  if (!VERBS[verb]) throw new UsageError(`unknown command "${verb}" (one of ${Object.keys(VERBS).join(', ')})`);
+  if (rest.includes('-h') || rest.includes('--help')) return { help: verb };
+  const parsed: Parsed = { verb, positional: [], settings: {}, opts: {} };
+  for (let i = 0; i < rest.length; i++) {
+    const a = rest[i];
+    if (!a.startsWith('-') || a === '-') {
+      parsed.positional.push(a);
+      continue;
+    }
+    if (a === '--') {
+      parsed.positional.push(...rest.slice(i + 1));
+      break;
+    }
+    const eq = a.startsWith('--') ? a.indexOf('=') : -1;
+    const name = eq > 0 ? a.slice(0, eq) : a;
+    const def = OPTIONS.find((o) => o.flag === name || o.alias?.includes(name));
+    if (!def) throw new UsageError(`unknown option ${name}${verb ? ` for ${verb}` : ''}`);
+    if (!def.verbs.includes(verb)) throw new UsageError(`${def.flag} does not apply to ${verb}`);
+    let value: string | true = true;
+    if (def.value) {
+      if (eq > 0) value = a.slice(eq + 1);
+      else {
+        const v = rest[++i];
+        if (v === undefined) throw new UsageError(`${def.flag} needs a value (${def.value})`);
+        value = v;
+      }
+    }
+    if (def.setting) {
+      const prev = parsed.settings[def.setting];
+      let v: unknown = def.convert ? def.convert(value as string, prev) : value;
+      const spec = settingSpec(def.setting);
+      if (spec && !def.convert && (spec.type === 'integer')) v = Number(value);
+      if (spec) v = checkValue(spec, v, (m) => new UsageError(`${def.flag} ${m.replace(/^must/, 'must')}`));
+      parsed.settings[def.setting] = v;
+    } else {
+      const key = def.flag.replace(/^--/, '');
+      if (def.repeat) parsed.opts[key] = [...((parsed.opts[key] as string[]) ?? []), value as string];
+      else parsed.opts[key] = value;
+    }
+  }
+  return parsed;
+}
+
+/** `shardwise VERB --help`: the verb's usage and its options. */
+export function verbHelp(verb: string): string {
+  const v = VERBS[verb];
+  const lines = [`${v.usage}\n\n${v.summary}\n\nOptions:`];
+  for (const o of OPTIONS.filter((x) => x.verbs.includes(verb))) {
+    const names = [o.flag, ...(o.alias ?? [])].join(', ') + (o.value ? ` ${o.value}` : '');
+    lines.push(`  ${names.padEnd(30)} ${o.help}${o.setting && !o.setting.includes('.file') ? ` [setting ${o.setting}]` : ''}`);
+  }
+  lines.push(`  ${'-h, --help'.padEnd(30)} show this help`);
+  return `${lines.join('\n')}\n`;
+}
