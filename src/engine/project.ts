@@ -243,19 +243,22 @@ export function settleFileSettings(layers: { values: SettingValues; dir: string 
 
 /** The engine's configuration from checked setting values; what is not set keeps its default. */
 export function configFromValues(v: SettingValues): CheckConfig {
-  const partial: Partial<CheckConfig> = {};
-  if (v['tokens.encoding'] !== undefined) partial.encoding = v['tokens.encoding'] as EncodingName;
-  if (v['tokens.contextLength'] !== undefined) partial.contextLength = v['tokens.contextLength'] as number;
-  if (v['text.fields'] !== undefined) partial.textFields = v['text.fields'] as string[];
-  if (v['lines.maxBytes'] !== undefined) partial.maxLineBytes = v['lines.maxBytes'] as number;
-  const config = withDefaults(partial);
-  if (v['layout.default'] !== undefined) config.layout.id = v['layout.default'] as string;
-  if (v['layout.fields'] !== undefined) config.layout.fields = { ...(v['layout.fields'] as LayoutFields) };
-  if (v['chat.roles'] !== undefined) config.chat.roles = v['chat.roles'] as string[];
+  return overlayValues(withDefaults(), v);
+}
+
+/** Sets on `config` every setting `v` holds (the glob maps excepted: they need the file's path). */
+export function overlayValues(config: CheckConfig, v: SettingValues): CheckConfig {
+  if (v['tokens.encoding'] !== undefined) config.encoding = v['tokens.encoding'] as EncodingName;
+  if (v['tokens.contextLength'] !== undefined) config.contextLength = v['tokens.contextLength'] as number;
+  if (v['text.fields'] !== undefined) config.textFields = [...(v['text.fields'] as string[])];
+  if (v['lines.maxBytes'] !== undefined) config.maxLineBytes = v['lines.maxBytes'] as number;
+  if (v['layout.default'] !== undefined) config.layout = { ...config.layout, id: v['layout.default'] as string };
+  if (v['layout.fields'] !== undefined) config.layout = { ...config.layout, fields: { ...(v['layout.fields'] as LayoutFields) } };
+  if (v['chat.roles'] !== undefined) config.chat.roles = [...(v['chat.roles'] as string[])];
   if (v['chat.allowRepeatedRoles'] !== undefined) config.chat.allowRepeatedRoles = v['chat.allowRepeatedRoles'] as boolean;
   const req = v['chat.requireConversation'];
   if (req !== undefined) config.chat.requireConversation = req === 'always' ? true : req === 'never' ? false : 'auto';
-  if (v.rules !== undefined) config.rules = { ...(v.rules as Record<string, RuleLevel>) };
+  if (v.rules !== undefined) config.rules = { ...(config.rules ?? {}), ...(v.rules as Record<string, RuleLevel>) };
   return config;
 }
 
