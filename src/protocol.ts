@@ -18,6 +18,8 @@ export interface ShardSummary {
   blankLines: number;
   invalidLines: number;
   tokens: TokenSummary;
+  /** The tokenizer's short name (an encoding, or a model folder's name); `tokens.tokenizer` is its full name. */
+  tokenizerLabel?: string;
   /** The layout that reads the shard's records, and the share of records it read; null before any record. */
   layout: { id: string; share: number } | null;
   findingsBySeverity: Record<Severity, number>;
@@ -145,6 +147,23 @@ export interface DetailView {
   findings: FindingView[];
   /** The pointer to reveal (scroll to and highlight), when the selection came from a finding. */
   reveal?: string;
+  /** With a model's chat template: each sequence as the model sees it, and what the loss covers. */
+  rendered?: RenderedView[];
+}
+
+/** One sequence rendered with the chat template, for the detail pane. */
+export interface RenderedView {
+  name: string;
+  /** The rendered text (cut like other long values), or empty when the template raised an error. */
+  text: string;
+  /** True when `text` was cut. */
+  cut: boolean;
+  /** Trained spans of `text`, as UTF-16 offsets (clipped to the cut text). */
+  spans: { start: number; end: number }[];
+  rendered: number;
+  content: number;
+  trainable: number;
+  error: string | null;
 }
 
 // ---- record view ----

@@ -4,7 +4,8 @@
 // raster formats a browser decodes without running anything, and only when small.
 
 import type { LTurn, Part, PairSide, Reading } from '../engine/layouts/layout.js';
-import type { PairSideView, PairView, PartView, TurnView } from '../protocol.js';
+import type { RenderedRecord } from '../engine/checks/tokens.js';
+import type { PairSideView, PairView, PartView, RenderedView, TurnView } from '../protocol.js';
 
 /** Largest base64 payload (characters) sent as a thumbnail. */
 export const THUMBNAIL_BASE64_CHARS = 256 * 1024;
@@ -333,4 +334,21 @@ export function pairView(
 /** Media the record lists beside its turns (an `images` column …). */
 export function recordMediaViews(reading: Reading, cut: (s: string) => string, budget: ThumbnailBudget = thumbnailBudget()): PartView[] {
   return (reading.media ?? []).map((m) => mediaView({ pointer: m.pointer, media: m.kind, location: m.location, base64: m.base64, mime: m.mime }, cut, budget));
+}
+
+/** A record's sequences rendered with the chat template, cut to `max` characters each, spans clipped to the cut. */
+export function renderedViews(r: RenderedRecord, max: number): RenderedView[] {
+  return r.sequences.map((s) => {
+    const cutAt = s.text.length > max ? max : s.text.length;
+    return {
+      name: s.name,
+      text: s.text.slice(0, cutAt),
+      cut: cutAt < s.text.length,
+      spans: s.spans.filter((sp) => sp.start < cutAt).map((sp) => ({ start: sp.start, end: Math.min(sp.end, cutAt) })),
+      rendered: s.rendered,
+      content: s.content,
+      trainable: s.trainable,
+      error: s.error,
+    };
+  });
 }

@@ -2,7 +2,7 @@
 // VS Code glue only: formats and rules live in the engine.
 
 import * as vscode from 'vscode';
-import { ENCODINGS } from '../engine/config.js';
+import { chooseTokenizer } from './tokenizerPicker.js';
 import { ShardDiagnostics } from './diagnostics.js';
 import { RECORD_TEXT_SCHEME, recordTexts } from './openText.js';
 import { PANEL_VIEW_ID, PanelViewProvider } from './panelView.js';
@@ -72,15 +72,7 @@ export function activate(context: vscode.ExtensionContext): void {
       a.panel.reveal(a.panel.viewColumn, false);
       a.select(entry);
     }),
-    vscode.commands.registerCommand('shardwise.chooseEncoding', async () => {
-      const current = vscode.workspace.getConfiguration(SECTION).get<string>('tokens.encoding');
-      const pick = await vscode.window.showQuickPick(
-        ENCODINGS.map((e) => ({ label: e, description: e === current ? 'current' : undefined })),
-        { title: 'Token encoding for counts and context checks' },
-      );
-      if (!pick) return;
-      await vscode.workspace.getConfiguration(SECTION).update('tokens.encoding', pick.label, configTarget());
-    }),
+    vscode.commands.registerCommand('shardwise.chooseEncoding', () => chooseTokenizer(SECTION, configTarget())),
     vscode.commands.registerCommand('shardwise.setContextLength', async () => {
       const current = vscode.workspace.getConfiguration(SECTION).get<number>('tokens.contextLength', 8192);
       const v = await vscode.window.showInputBox({

@@ -4,6 +4,7 @@ import * as vscode from 'vscode';
 import { ENCODINGS, withDefaults, type CheckConfig, type EncodingName } from '../engine/config.js';
 import { globToRegExp } from '../engine/globs.js';
 import { LAYOUT_IDS } from '../engine/layouts/index.js';
+import { tokenizerSetting } from './tokenizerSetting.js';
 import type { LayoutConfig, LayoutFields } from '../engine/layouts/layout.js';
 
 export const SECTION = 'shardwise';
@@ -12,6 +13,8 @@ export interface HostSettings {
   config: CheckConfig;
   /** A clear message when the mapped schema could not be loaded. */
   schemaProblem?: string;
+  /** A clear message when the tokenizer setting names no usable tokenizer. */
+  tokenizerProblem?: string;
   maxProblems: number;
   workers: number;
   /** Files larger than this open in a read-only line document instead of the text editor. */
@@ -45,6 +48,9 @@ export async function settingsFor(uri: vscode.Uri): Promise<HostSettings> {
   const folder = vscode.workspace.getWorkspaceFolder(uri);
   const rel = folder ? vscode.workspace.asRelativePath(uri, false) : uri.path.split('/').pop() ?? '';
   const base = uri.path.split('/').pop() ?? '';
+  const tok = tokenizerSetting(s, folder?.uri.fsPath || vscode.Uri.joinPath(uri, '..').fsPath, base, (g) => globToRegExp(g).test(rel) || globToRegExp(g).test(base));
+  if (tok.tokenizer) out.config.tokenizer = tok.tokenizer;
+  if (tok.problem) out.tokenizerProblem = tok.problem;
   for (const [glob, schemaPath] of Object.entries(schemas)) {
     const re = globToRegExp(glob);
     if (!re.test(rel) && !re.test(base)) continue;

@@ -9,6 +9,7 @@ import type { EntryOutcome } from '../engine/analyze.js';
 import type { Finding } from '../engine/findings.js';
 import type { Progress, SourceInfo } from '../engine/sources/source.js';
 import { ShardTally } from '../engine/stats/tally.js';
+import { tokenizerLabel, tokenizerOf } from '../engine/tokens/tokenizer.js';
 import { analyzeFile, defaultWorkerCount } from '../node/pool.js';
 import { SourceSession } from '../node/session.js';
 import type { FindingView, ShardSummary } from '../protocol.js';
@@ -109,7 +110,7 @@ export class ShardDocument implements vscode.CustomDocument {
     this.recordEntry = new Int32Array(0);
     this.phase = 'analysing';
     this.progress = 0;
-    this.error = this.settings.schemaProblem;
+    this.error = this.settings.schemaProblem ?? this.settings.tokenizerProblem;
     this.fire();
     const workers = this.settings.workers || defaultWorkerCount();
     try {
@@ -233,7 +234,8 @@ export class ShardDocument implements vscode.CustomDocument {
       records: this.tally.records,
       blankLines: this.tally.blankLines,
       invalidLines: this.tally.invalidLines,
-      tokens: this.tally.tokenSummary(this.settings.config.encoding, this.settings.config.contextLength),
+      tokens: this.tally.tokenSummary(tokenizerOf(this.settings.config), this.settings.config.contextLength),
+      tokenizerLabel: tokenizerLabel(tokenizerOf(this.settings.config)),
       layout: this.tally.layout(),
       findingsBySeverity: { ...this.tally.bySeverity },
       phase: this.phase,

@@ -2,7 +2,7 @@
 // filterable by severity and text; a finding reveals its record or opens the text at its line.
 // Browser code: DOM only. All host text is untrusted and reaches the DOM as text.
 
-import type { Severity } from '../engine/findings.js';
+import type { Severity } from '../protocol.js';
 import { isMessage, type FindingView, type HostToPanel, type PanelToHost, type ShardSummary } from '../protocol.js';
 import { connect, formatBytes, formatCount, h, icon, iconButton, isSeverity, severityIcon, str } from './common.js';
 
@@ -157,7 +157,9 @@ function renderSummary(s: ShardSummary): void {
   if (t && typeof t === 'object') {
     const tok = h('div', 'sw-tokens');
     const tHead = h('div', 'sw-tokens-head');
-    tHead.append(icon('symbol-numeric'), h('span', '', 'Tokens'), h('span', 'sw-badge sw-encoding', str(t.encoding)));
+    const badge = h('span', 'sw-badge sw-encoding', str(s.tokenizerLabel ?? t.encoding));
+    badge.title = str(t.tokenizer ?? t.encoding);
+    tHead.append(icon('symbol-numeric'), h('span', '', 'Tokens'), badge);
     tok.append(tHead);
     const tg = h('div', 'sw-stats');
     tg.append(
@@ -169,6 +171,10 @@ function renderSummary(s: ShardSummary): void {
       stat('p99', formatCount(t.p99), 'p99'),
       stat('Max', formatCount(t.max), 'max'),
     );
+    // With a chat template: what the model sees, and what the loss covers (the per-record figures above are then rendered lengths).
+    if (typeof t.rendered === 'number') {
+      tg.append(stat('Rendered', formatCount(t.rendered), 'rendered'), stat('Trained', formatCount(Number(t.trainable) || 0), 'trainable'));
+    }
     tok.append(tg);
     const over = h('div', `sw-over${t.overContext > 0 ? ' sw-over-some' : ''}`);
     over.dataset.stat = 'overContext';

@@ -13,6 +13,7 @@ import {
   type PairView,
   type PartView,
   type RecordViewToHost,
+  type RenderedView,
   type RowView,
   type TurnView,
 } from '../protocol.js';
@@ -48,7 +49,7 @@ const TREE_MAX_DEPTH = 200;
 const COLUMNAR: ReadonlySet<FormatName> = new Set<FormatName>(['parquet', 'arrow-file', 'arrow-stream']);
 
 type InitMessage = Extract<HostToRecordView, { type: 'init' }>;
-type Tab = 'conversation' | 'pair' | 'json' | 'findings';
+type Tab = 'conversation' | 'pair' | 'rendered' | 'json' | 'findings';
 
 interface Page {
   rows: (RowView | undefined)[];
@@ -649,6 +650,7 @@ function onDetail(d: DetailView): void {
   const findings = Array.isArray(d.findings) ? d.findings : [];
   if (turns || (Array.isArray(d.media) && d.media.length)) tabs.push(['conversation', 'Conversation', 'comment-discussion', turns ? turns.length : 0]);
   if (d.pair && typeof d.pair === 'object') tabs.push(['pair', 'Pair', 'git-compare', null]);
+  if (Array.isArray(d.rendered) && d.rendered.length) tabs.push(['rendered', 'Rendered', 'symbol-key', null]);
   tabs.push(['json', d.value === undefined ? 'Raw' : 'JSON', 'json', null]);
   tabs.push(['findings', 'Findings', 'issues', findings.length]);
   const names = tabs.map((t) => t[0]);
@@ -697,6 +699,9 @@ function showTab(tab: Tab): void {
       break;
     case 'pair':
       if (detail.pair && typeof detail.pair === 'object') tabBody.append(renderPair(detail.pair));
+      break;
+    case 'rendered':
+      tabBody.append(renderRendered(Array.isArray(detail.rendered) ? detail.rendered : []));
       break;
     case 'json':
       tabBody.append(detail.value === undefined ? renderRaw(detail.raw) : renderTree(detail.value));
@@ -897,6 +902,50 @@ function renderPair(pair: PairView): HTMLElement {
   const sides = h('div', 'sw-pair-sides');
   sides.append(side('chosen', 'Chosen', 'thumbsup', pair.chosen), side('rejected', 'Rejected', 'thumbsdown', pair.rejected));
   box.append(sides);
+  return box;
+}
+
+/** Each sequence as the chat template renders it, the spans the loss covers marked; text nodes only. */
+function renderRendered(seqs: RenderedView[]): HTMLElement {
+  const box = h('div', 'sw-rendered');
+  for (const s of seqs) {
+    if (!s || typeof s !== 'object') continue;
+    const sec = h('section', 'sw-rendered-seq');
+    const head = h('div', 'sw-rendered-head');
+    const overhead = Number(s.rendered) - Number(s.content);
+    head.append(
+      h('span', 'sw-rendered-name', str(s.name)),
+      h('span', 'sw-badge', `${formatCount(Number(s.rendered) || 0)} rendered`),
+      h('span', 'sw-muted', `${formatCount(Number(s.content) || 0)} content · ${overhead >= 0 ? '+' : '−'}${formatCount(Math.abs(overhead) || 0)} template`),
+      h('span', 'sw-badge sw-trained-badge', `${formatCount(Number(s.trainable) || 0)} trained`),
+    );
+    sec.append(head);
+    if (typeof s.error === 'string') {
+      const err = h('div', 'sw-note sw-rendered-error');
+      err.append(icon('error'), h('span', '', `The chat template raised an error: ${s.error}`));
+      sec.append(err);
+    } else {
+      const pre = h('pre', 'sw-rendered-text');
+      const text = str(s.text);
+      let at = 0;
+      const spans = (Array.isArray(s.spans) ? s.spans : [])
+        .map((x) => ({ start: Math.max(0, Number(x?.start) || 0), end: Math.min(text.length, Number(x?.end) || 0) }))
+        .filter((x) => x.end > x.start)
+        .sort((a, b) => a.start - b.start);
+      for (const sp of spans) {
+        if (sp.start < at) continue;
+        if (sp.start > at) pre.append(document.createTextNode(text.slice(at, sp.start)));
+        const mark = h('mark', 'sw-trained', text.slice(sp.start, sp.end));
+        mark.title = 'Inside the loss: the model is trained on these tokens';
+        pre.append(mark);
+        at = sp.end;
+      }
+      if (at < text.length) pre.append(document.createTextNode(text.slice(at)));
+      if (s.cut) pre.append(h('span', 'sw-muted', '…'));
+      sec.append(pre);
+    }
+    box.append(sec);
+  }
   return box;
 }
 

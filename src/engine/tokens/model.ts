@@ -5,29 +5,15 @@
 
 import { existsSync, statSync } from 'node:fs';
 import { readFile } from 'node:fs/promises';
-import { basename, join } from 'node:path';
+import { join } from 'node:path';
 import { Tokenizer as HfTokenizer } from '@huggingface/tokenizers';
 import type { ChatTemplateSpec } from './chatTemplate.js';
 import { spellingFinder } from './counter.js';
+import { modelFolderProblem } from './resolve.js';
 import { TokenizerError, tokenizerLabel, type Tokenizer } from './tokenizer.js';
 
 export interface ModelTokenizer extends Tokenizer {
   readonly kind: 'model';
-}
-
-/** Checks, without reading it whole, that `folder` is a model folder; returns a clear problem or null. */
-export function modelFolderProblem(folder: string): string | null {
-  let st;
-  try {
-    st = statSync(folder);
-  } catch {
-    return `the model folder "${folder}" does not exist`;
-  }
-  if (!st.isDirectory()) {
-    return basename(folder) === 'tokenizer.json' ? null : `"${folder}" is not a folder (a model folder holds tokenizer.json)`;
-  }
-  if (!existsSync(join(folder, 'tokenizer.json'))) return `the folder "${folder}" holds no tokenizer.json (only tokenizer.json models are read)`;
-  return null;
 }
 
 async function readJson(path: string, what: string, required: boolean): Promise<Record<string, unknown> | null> {
