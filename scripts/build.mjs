@@ -6,6 +6,14 @@ import { dirname, join } from 'node:path';
 import { fileURLToPath } from 'node:url';
 
 const root = join(dirname(fileURLToPath(import.meta.url)), '..');
+
+// An import across the rooms' walls fails the build (scripts/rooms.mjs).
+const { wallBreaks } = await import('./rooms.mjs');
+const breaks = wallBreaks();
+if (breaks.length) {
+  console.error(`Imports across the rooms' walls (see DEVELOPERS.md):\n  ${breaks.join('\n  ')}`);
+  process.exit(1);
+}
 const outArg = process.argv.indexOf('--outdir');
 // Tests build into a folder of their own so parallel runs never race on dist/.
 const dist = outArg > 0 ? process.argv[outArg + 1] : join(root, 'dist');

@@ -48,6 +48,13 @@ if (b.status !== 0) {
   process.exit(1);
 }
 
+if (want('types')) {
+  // Every room type-checks as its own project (an import or a library across a wall fails), then the tests.
+  const rooms = run(process.execPath, ['node_modules/typescript/bin/tsc', '-b']);
+  const tests = run(process.execPath, ['node_modules/typescript/bin/tsc', '-p', 'test/tsconfig.json']);
+  layers.push(['types (each room its own TypeScript project, and the tests)', (rooms.status === 0) + (tests.status === 0), (rooms.status !== 0) + (tests.status !== 0)]);
+}
+
 if (want('unit')) {
   const jsonOut = join(out, 'vitest.json');
   const r = run(process.execPath, ['node_modules/vitest/vitest.mjs', 'run', '--reporter=default', '--reporter=json', `--outputFile=${jsonOut}`]);

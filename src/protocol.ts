@@ -5,6 +5,9 @@ import type { Finding, Severity } from './engine/findings.js';
 import type { ColumnInfo, FormatName, GroupInfo } from './engine/sources/source.js';
 
 export type { TokenSummary } from './engine/stats/tally.js';
+// The engine's types the webviews need, re-exported: the webviews import only from this file.
+export type { Severity } from './engine/findings.js';
+export type { ColumnInfo, FormatName, GroupInfo } from './engine/sources/source.js';
 import type { TokenSummary } from './engine/stats/tally.js';
 
 export interface ShardSummary {
@@ -185,6 +188,11 @@ export type HostToRecordView =
   | { type: 'detail'; detail: DetailView }
   | { type: 'select'; entry: number; pointer?: string }
   | { type: 'columns'; columns: ColumnInfo[] }
+  /**
+   * The layout that reads the shard's records (null before any record is read), the share of the
+   * records it read so far, and whether a setting or the project file chose it.
+   */
+  | { type: 'layout'; id: string | null; share: number; chosen: boolean }
   /** Token counts or findings changed: re-request the rows on screen without blanking them. */
   | { type: 'refresh' }
   | { type: 'error'; message: string };

@@ -2,6 +2,7 @@
 // VS Code glue only: formats and rules live in the engine.
 
 import * as vscode from 'vscode';
+import { PROJECT_FILE } from '../engine/project.js';
 import { chooseTokenizer } from './tokenizerPicker.js';
 import { ShardDiagnostics } from './diagnostics.js';
 import { RECORD_TEXT_SCHEME, recordTexts } from './openText.js';
@@ -93,6 +94,15 @@ export function activate(context: vscode.ExtensionContext): void {
       if (!e.affectsConfiguration(SECTION)) return;
       for (const d of docs) if (e.affectsConfiguration(SECTION, d.uri)) void d.analyze();
     }),
+    // A project file (shardwise.json) that appears, changes or goes away re-checks the shards below it.
+    ...(() => {
+      const w = vscode.workspace.createFileSystemWatcher(`**/${PROJECT_FILE}`);
+      const recheck = (u: vscode.Uri) => {
+        const dir = u.path.slice(0, u.path.lastIndexOf('/') + 1);
+        for (const d of docs) if (d.uri.path.startsWith(dir)) void d.analyze();
+      };
+      return [w, w.onDidCreate(recheck), w.onDidChange(recheck), w.onDidDelete(recheck)];
+    })(),
   );
 }
 

@@ -98,6 +98,8 @@ export class RecordEditorProvider implements vscode.CustomReadonlyEditorProvider
         entries: now.entries,
         complete: now.complete,
       });
+      lastLayout = '';
+      sendLayout();
       // A file that opens broken (no footer, cut short) says so at the top, not only in the panel.
       const broken = now.findings.filter((f) => f.severity === 'error');
       if (broken.length) {
@@ -109,8 +111,18 @@ export class RecordEditorProvider implements vscode.CustomReadonlyEditorProvider
     // Token counts and markers arrive with the analysis: refresh the rows on screen now and then.
     let lastRefresh = 0;
     let lastPhase = document.phase;
+    let lastLayout = '';
+    const sendLayout = () => {
+      const l = document.tally.layout();
+      const chosen = (document.settings?.config.layout.id ?? 'auto') !== 'auto';
+      const key = `${l?.id ?? ''}|${Math.round((l?.share ?? 0) * 1000)}|${chosen}`;
+      if (key === lastLayout) return;
+      lastLayout = key;
+      post({ type: 'layout', id: l?.id ?? null, share: l?.share ?? 0, chosen });
+    };
     const sub = document.onDidChange(() => {
       if (!ready || !document.info) return;
+      sendLayout();
       const now = Date.now();
       if (columns.length && (document.phase !== lastPhase || (document.phase === 'analysing' && now - lastRefresh > 1500))) {
         lastPhase = document.phase;

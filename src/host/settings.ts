@@ -5,6 +5,7 @@ import { ENCODINGS, withDefaults, type CheckConfig, type EncodingName } from '..
 import { globToRegExp } from '../engine/globs.js';
 import { LAYOUT_IDS } from '../engine/layouts/index.js';
 import { tokenizerSetting } from './tokenizerSetting.js';
+import { applyProjectFile } from './projectFile.js';
 import type { LayoutConfig, LayoutFields } from '../engine/layouts/layout.js';
 
 export const SECTION = 'shardwise';
@@ -15,6 +16,9 @@ export interface HostSettings {
   schemaProblem?: string;
   /** A clear message when the tokenizer setting names no usable tokenizer. */
   tokenizerProblem?: string;
+  /** The project file (shardwise.json) whose settings apply, and a clear message when it is broken. */
+  projectFile?: string;
+  projectProblem?: string;
   maxProblems: number;
   workers: number;
   /** Files larger than this open in a read-only line document instead of the text editor. */
@@ -63,6 +67,7 @@ export async function settingsFor(uri: vscode.Uri): Promise<HostSettings> {
     }
     break;
   }
+  await applyProjectFile(out, uri);
   return out;
 }
 

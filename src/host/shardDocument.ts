@@ -110,7 +110,7 @@ export class ShardDocument implements vscode.CustomDocument {
     this.recordEntry = new Int32Array(0);
     this.phase = 'analysing';
     this.progress = 0;
-    this.error = this.settings.schemaProblem ?? this.settings.tokenizerProblem;
+    this.error = this.settings.projectProblem ?? this.settings.schemaProblem ?? this.settings.tokenizerProblem;
     this.fire();
     const workers = this.settings.workers || defaultWorkerCount();
     try {

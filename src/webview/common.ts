@@ -1,7 +1,7 @@
 // Helpers shared by the record view and the side panel. Browser code: DOM only.
 // Every string that reaches the DOM goes through textContent or a DOM property, never through HTML parsing.
 
-import type { Severity } from '../engine/findings.js';
+import type { Severity } from '../protocol.js';
 
 export interface VsCodeApi<Out> {
   postMessage(message: Out): void;

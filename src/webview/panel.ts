@@ -2,7 +2,7 @@
 // filterable by severity and text; a finding reveals its record or opens the text at its line.
 // Browser code: DOM only. All host text is untrusted and reaches the DOM as text.
 
-import type { Severity } from '../engine/findings.js';
+import type { Severity } from '../protocol.js';
 import { isMessage, type FindingView, type HostToPanel, type PanelToHost, type ShardSummary } from '../protocol.js';
 import { connect, formatBytes, formatCount, h, icon, iconButton, isSeverity, severityIcon, str } from './common.js';
 

@@ -2,8 +2,7 @@
 // host, and a detail pane (conversation, preference pair, JSON tree, findings) for the selected entry.
 // Browser code: DOM only. All host text is untrusted and reaches the DOM as text.
 
-import type { Severity } from '../engine/findings.js';
-import type { ColumnInfo, FormatName, GroupInfo } from '../engine/sources/source.js';
+import type { ColumnInfo, FormatName, GroupInfo, Severity } from '../protocol.js';
 import {
   isMessage,
   type DetailView,
@@ -92,13 +91,15 @@ const fileNameEl = h('span', 'sw-file-name', '');
 const formatEl = h('span', 'sw-badge sw-format');
 const sizeEl = h('span', 'sw-size');
 const entriesEl = h('span', 'sw-entries');
+const layoutEl = h('span', 'sw-badge sw-layout');
+layoutEl.hidden = true;
 const indexingEl = h('span', 'sw-indexing');
 const indexBar = h('div', 'sw-progress');
 const indexBarFill = h('div', 'sw-progress-fill');
 indexBar.append(indexBarFill);
 indexBar.setAttribute('role', 'progressbar');
 indexingEl.append(icon('loading', 'codicon-modifier-spin'), h('span', 'sw-indexing-text'), indexBar);
-titleLine.append(fileIcon, fileNameEl, formatEl, sizeEl, entriesEl, indexingEl);
+titleLine.append(fileIcon, fileNameEl, formatEl, layoutEl, sizeEl, entriesEl, indexingEl);
 const factsEl = h('div', 'sw-facts');
 const structureEl = h('details', 'sw-structure');
 header.append(titleLine, factsEl, structureEl);
@@ -180,6 +181,20 @@ function renderHeader(): void {
   factsEl.hidden = factsEl.childElementCount === 0;
   renderStructure();
   renderEntriesCount();
+}
+
+/** The shard's layout beside its format: "layout turns · 98%", chosen by a setting or decided from the records. */
+function renderLayout(m: { id: string | null; share: number; chosen: boolean }): void {
+  if (m.id === null) {
+    layoutEl.hidden = true;
+    return;
+  }
+  const pct = Math.round(Math.max(0, Math.min(1, Number(m.share) || 0)) * 1000) / 10;
+  layoutEl.replaceChildren(icon('symbol-namespace'), h('span', '', `layout ${str(m.id)}`), h('span', 'sw-muted', ` · ${pct}% of records`));
+  layoutEl.title = m.chosen
+    ? `Records are read as the "${str(m.id)}" layout, as the settings or the project file say; ${pct}% of the records read so far fit it.`
+    : `Records are read as the "${str(m.id)}" layout, decided from the shard's first records; ${pct}% of the records read so far fit it.`;
+  layoutEl.hidden = false;
 }
 
 function renderEntriesCount(): void {
@@ -1156,6 +1171,9 @@ function onMessage(m: HostToRecordView): void {
       renderHeadRow();
       renderStructure();
       renderRows();
+      break;
+    case 'layout':
+      renderLayout(m);
       break;
     case 'refresh': {
       // New token counts or findings: ask again for the rows on screen, keep showing the old ones

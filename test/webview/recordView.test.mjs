@@ -563,6 +563,24 @@ describe('record view', () => {
     }
   });
 
+  test('the header shows the shard layout once the host names it, and how it was chosen', async () => {
+    const view = await openView(env.browser, env.server, { kind: 'recordView', theme: 'dark', onMessage: scriptedHost() });
+    try {
+      await view.send(initMessage(500, { fileName: 'preference-pairs.jsonl' }));
+      assert.equal(await view.page.isHidden('.sw-layout'), true);
+      await view.send({ type: 'layout', id: 'preference', share: 0.9876, chosen: false });
+      await view.page.waitForSelector('.sw-layout', { state: 'visible' });
+      assert.equal(await view.page.textContent('.sw-layout'), 'layout preference · 98.8% of records');
+      assert.match(await view.page.getAttribute('.sw-layout', 'title'), /decided from the shard's first records/);
+      await view.send({ type: 'layout', id: '<img src=x onerror=alert(1)>', share: 1, chosen: true });
+      assert.equal(await view.page.textContent('.sw-layout'), 'layout <img src=x onerror=alert(1)> · 100% of records');
+      assert.equal(await view.page.$$eval('.sw-layout img', (x) => x.length), 0);
+      assert.match(await view.page.getAttribute('.sw-layout', 'title'), /as the settings or the project file say/);
+    } finally {
+      await view.close();
+    }
+  });
+
   test('indexing progress shows while the entry count grows, and new rows become reachable', async () => {
     const view = await openView(env.browser, env.server, { kind: 'recordView', onMessage: scriptedHost() });
     try {

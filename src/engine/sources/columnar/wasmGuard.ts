@@ -3,6 +3,9 @@
 // While a guarded call is pending we catch that error and reject the call, so a bad shard becomes
 // a finding instead of a crash or a hang.
 
+/** The engine room has no DOM library, where WebAssembly's types live; Node provides the class. */
+declare const WebAssembly: { RuntimeError: new (message?: string) => Error };
+
 const pending = new Set<(e: Error) => void>();
 let faults = 0;
 

@@ -1,0 +1,70 @@
+// The project file (`shardwise.json`) in the editor: the nearest one above a data file, up to its
+// workspace folder or repository root, read through the workspace file system. Its settings win
+// over VS Code's, so the editor gives the verdicts `shardwise check` gives in CI.
+
+import * as vscode from 'vscode';
+import { PROJECT_FILE, matchGlobMap, overlayValues, parseProjectFile, type ProjectFile } from '../engine/project.js';
+import type { HostSettings } from './settings.js';
+
+async function exists(uri: vscode.Uri): Promise<boolean> {
+  try {
+    await vscode.workspace.fs.stat(uri);
+    return true;
+  } catch {
+    return false;
+  }
+}
+
+/** The project file that governs a data file, or null; throws a clear Error for a broken one. */
+export async function findProjectFile(uri: vscode.Uri): Promise<ProjectFile | null> {
+  const root = vscode.workspace.getWorkspaceFolder(uri)?.uri;
+  let dir = vscode.Uri.joinPath(uri, '..');
+  for (let depth = 0; depth < 64; depth++) {
+    const candidate = vscode.Uri.joinPath(dir, PROJECT_FILE);
+    if (await exists(candidate)) {
+      const text = new TextDecoder().decode(await vscode.workspace.fs.readFile(candidate));
+      return parseProjectFile(candidate.fsPath || candidate.toString(), dir.fsPath || dir.path, text);
+    }
+    if ((root && dir.toString() === root.toString()) || (await exists(vscode.Uri.joinPath(dir, '.git')))) return null;
+    const up = vscode.Uri.joinPath(dir, '..');
+    if (up.toString() === dir.toString()) return null;
+    dir = up;
+  }
+  return null;
+}
+
+/** Lays the project file's settings over the VS Code settings of one shard. */
+export async function applyProjectFile(out: HostSettings, uri: vscode.Uri): Promise<void> {
+  let project: ProjectFile | null;
+  try {
+    project = await findProjectFile(uri);
+  } catch (err) {
+    out.projectProblem = `The project file could not be used: ${(err as Error).message}`;
+    return;
+  }
+  if (!project) return;
+  out.projectFile = project.path;
+  overlayValues(out.config, project.values);
+  const dirUri = vscode.Uri.joinPath(uri, '..');
+  const base = uri.path.split('/').pop() ?? '';
+  const rel = relativeTo(project.dir, uri.fsPath || uri.path);
+  const layout = matchGlobMap(project.values['layout.byGlob'] as Record<string, string> | undefined, rel, base);
+  if (layout) out.config.layout = { ...out.config.layout, id: layout[1] };
+  const schema = matchGlobMap(project.values.schemas as Record<string, string> | undefined, rel, base);
+  if (schema) {
+    const projectDir = vscode.Uri.file(project.dir);
+    const schemaUri = schema[1].startsWith('/') ? vscode.Uri.file(schema[1]) : vscode.Uri.joinPath(dirUri.scheme === 'file' ? projectDir : dirUri, schema[1].replace(/^\.\//, ''));
+    try {
+      const bytes = await vscode.workspace.fs.readFile(schemaUri);
+      out.config.schema = { source: schemaUri.fsPath || schemaUri.toString(), schema: JSON.parse(new TextDecoder().decode(bytes)) };
+      out.schemaProblem = undefined;
+    } catch (err) {
+      out.schemaProblem = `The JSON Schema mapped to ${base} by "${schema[0]}" in ${project.path} (${schema[1]}) could not be loaded: ${(err as Error).message}`;
+    }
+  }
+}
+
+function relativeTo(dir: string, path: string): string {
+  const d = dir.replace(/\/+$/, '') + '/';
+  return path.startsWith(d) ? path.slice(d.length) : path.split('/').pop() ?? path;
+}
