@@ -23,7 +23,7 @@ export const TOKENS_RULES: RuleInfo[] = [
     id: 'tokens-special-text',
     family: 'tokens',
     severity: 'warning',
-    summary: 'Text spells a special token of the encoding; it is counted as ordinary text.',
+    summary: "Text spells a special token of the encoding (counted as ordinary text), or an added token of the model (read as that control token).",
   },
   {
     id: 'tokens-no-text',
