@@ -5,7 +5,9 @@ import { accessSync, constants, createWriteStream, existsSync, readFileSync, sta
 import { basename, relative, resolve, sep } from 'node:path';
 import type { Finding } from '../engine/findings.js';
 import { reaches } from '../engine/policy.js';
-import { settleFileSettings, type FailLevel } from '../engine/project.js';
+import { settleFileSettings, type FailLevel, type SettingValues } from '../engine/project.js';
+import { resolveTokenizerValue, tokenizerOf } from '../engine/tokens/index.js';
+import { homedir } from 'node:os';
 import { allRules } from '../engine/rules.js';
 import { sniffFormat, supportedEndings } from '../engine/sources/index.js';
 import type { FormatName } from '../engine/sources/source.js';
@@ -190,8 +192,8 @@ async function checkVerb(parsed: Parsed, out: NodeJS.WritableStream, err: NodeJS
   const plans = sized.map((f) => {
     const project = projects.forFile(f.path);
     const layers = [
-      ...(project ? [{ values: project.values, dir: project.dir, from: project.path }] : []),
-      { values: parsed.settings, dir: cwd, from: 'the command line' },
+      ...(project ? [{ values: withTokenizer(project.values, project.dir, project.path), dir: project.dir, from: project.path }] : []),
+      { values: withTokenizer(parsed.settings, cwd, '--tokenizer'), dir: cwd, from: 'the command line' },
     ];
     const abs = resolve(f.path);
     const s = settleFileSettings(layers, (dir) => relative(dir ?? cwd, abs).split(sep).join('/'), basename(abs));
@@ -239,6 +241,17 @@ async function checkVerb(parsed: Parsed, out: NodeJS.WritableStream, err: NodeJS
   const report: Report = { files: results.map((r) => r.report), total: totalOf(total, results) };
   printers[format].print(report, results.map((r) => r.extras), out);
   return results.some((r) => r.failing > 0) ? 1 : 0;
+}
+
+/** A tokenizer named in a layer, made absolute against that layer's folder (a clear message if it names nothing usable). */
+function withTokenizer(values: SettingValues, dir: string, from: string): SettingValues {
+  const v = values['tokens.tokenizer'];
+  if (typeof v !== 'string') return values;
+  try {
+    return { ...values, 'tokens.tokenizer': resolveTokenizerValue(v, dir, homedir()) };
+  } catch (e) {
+    throw new InputProblem(`${from}: ${(e as Error).message}`);
+  }
 }
 
 export function totalOf(total: ShardProfile, results: { report: FileReport }[]): TotalReport {
@@ -322,7 +335,7 @@ async function checkOne(
     records: tally.records,
     layout: tally.layout()?.id ?? null,
     layoutShare: round4(tally.layout()?.share ?? 0),
-    tokens: tally.tokenSummary(config.encoding, config.contextLength),
+    tokens: tally.tokenSummary(tokenizerOf(config), config.contextLength),
     findings,
     findingsTotal: tally.totalFindings,
     findingsByRule: Object.fromEntries([...tally.byRule.entries()].sort((a, b) => b[1] - a[1] || (a[0] < b[0] ? -1 : 1))),

@@ -52,6 +52,7 @@ export const OPTIONS: readonly OptionDef[] = [
   { flag: '--no-config', help: 'ignore every project file', verbs: [...CHECKING] },
   { flag: '--schema', value: 'FILE', help: 'validate every record against this JSON Schema (draft 2020-12 or draft-07), whatever the project file maps', setting: 'schema.file', verbs: [...CHECKING], convert: (v) => v },
   { flag: '--encoding', value: 'NAME', help: `token encoding: ${ENCODINGS.join(', ')} (default cl100k_base)`, setting: 'tokens.encoding', verbs: [...CHECKING] },
+  { flag: '--tokenizer', value: 'ENCODING|PATH', help: 'a built-in encoding or a model folder holding tokenizer.json (and tokenizer_config.json with a chat template)', setting: 'tokens.tokenizer', verbs: [...CHECKING] },
   { flag: '--context-length', alias: ['--context'], value: 'N', help: 'context length in tokens; longer records are findings (default 8192)', setting: 'tokens.contextLength', verbs: [...CHECKING] },
   { flag: '--text-field', value: 'NAME', repeat: true, help: "field holding a plain record's text (repeatable; default: text, content, document, body, passage)", setting: 'text.fields', verbs: [...CHECKING], convert: (v, prev) => [...((prev as string[]) ?? []), v] },
   { flag: '--layout', value: 'ID', help: `how records are read: auto (decided from the shard's first records) or one of ${LAYOUT_IDS.join(', ')}`, setting: 'layout.default', verbs: [...CHECKING] },

@@ -68,7 +68,7 @@ export function printStatsText(doc: StatsDocument, out: NodeJS.WritableStream): 
     const t = s.tokens;
     out.write(`${title}\n`);
     out.write(`  records ${n(s.records)}${s.blankLines ? `, blank lines ${n(s.blankLines)}` : ''}${s.invalidLines ? `, unreadable ${n(s.invalidLines)}` : ''}, ${n(s.bytes)} bytes${s.distinctRecords !== null ? `, about ${n(s.distinctRecords)} distinct` : ''}\n`);
-    out.write(`  tokens (${encoding}) ${n(t.total)}: prompt ${n(t.prompt)}, response ${n(t.response)}; per record p50 ${n(t.p50)}, p90 ${n(t.p90)}, p99 ${n(t.p99)}, max ${n(t.max)}; ${n(t.overContext)} over ${n(t.contextLength)}\n`);
+    out.write(`  tokens (${encoding}) ${n(t.total)}: prompt ${n(t.prompt)}, response ${n(t.response)}${t.rendered !== undefined ? `; rendered ${n(t.rendered)}, trained ${n(t.trainable ?? 0)}` : ''}; per record p50 ${n(t.p50)}, p90 ${n(t.p90)}, p99 ${n(t.p99)}, max ${n(t.max)}; ${n(t.overContext)} over ${n(t.contextLength)}\n`);
     const rules = Object.entries(s.findings.byRule).map(([r, c]) => `${r} ×${n(c)}`);
     out.write(`  findings ${n(s.findings.total)} (${n(s.findings.bySeverity.error)} errors, ${n(s.findings.bySeverity.warning)} warnings, ${n(s.findings.bySeverity.info)} notes)${rules.length ? `: ${rules.join(', ')}` : ''}\n`);
     if (s.fields.length) {

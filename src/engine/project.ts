@@ -11,7 +11,7 @@ import { RULE_LEVELS, type RuleLevel } from './policy.js';
 
 export const PROJECT_FILE = 'shardwise.json';
 
-export type SettingType = 'integer' | 'boolean' | 'enum' | 'strings' | 'map' | 'fields';
+export type SettingType = 'integer' | 'boolean' | 'enum' | 'string' | 'strings' | 'map' | 'fields';
 
 export interface SettingSpec {
   /** The key in the project file (nested or dotted) and, under `shardwise.`, in VS Code settings. */
@@ -30,6 +30,7 @@ export type FailLevel = (typeof FAIL_LEVELS)[number];
 /** Every setting a project file may hold. */
 export const SETTINGS: readonly SettingSpec[] = [
   { key: 'tokens.encoding', type: 'enum', values: () => ENCODINGS, summary: 'token encoding for counts and the context check' },
+  { key: 'tokens.tokenizer', type: 'string', summary: 'a built-in encoding or a model folder holding tokenizer.json (relative to the file that names it)' },
   { key: 'tokens.contextLength', type: 'integer', min: 1, max: 100_000_000, summary: 'context window in tokens; longer records are findings' },
   { key: 'text.fields', type: 'strings', summary: "fields looked for, in order, as a plain record's text" },
   { key: 'layout.default', type: 'enum', values: () => ['auto', ...LAYOUT_IDS], summary: "how records are read ('auto': decided per shard)" },
@@ -138,6 +139,9 @@ export function checkValue(spec: SettingSpec, v: unknown, fail: (message: string
     case 'integer':
       if (typeof v !== 'number' || !Number.isSafeInteger(v)) throw fail(`must be a whole number, not ${JSON.stringify(v)}`);
       if ((spec.min !== undefined && v < spec.min) || (spec.max !== undefined && v > spec.max)) throw fail(`must be between ${spec.min} and ${spec.max}, not ${v}`);
+      return v;
+    case 'string':
+      if (typeof v !== 'string' || v.trim() === '') throw fail(`must be a non-empty string, not ${JSON.stringify(v)}`);
       return v;
     case 'boolean':
       if (typeof v !== 'boolean') throw fail(`must be true or false, not ${JSON.stringify(v)}`);
@@ -249,6 +253,7 @@ export function configFromValues(v: SettingValues): CheckConfig {
 /** Sets on `config` every setting `v` holds (the glob maps excepted: they need the file's path). */
 export function overlayValues(config: CheckConfig, v: SettingValues): CheckConfig {
   if (v['tokens.encoding'] !== undefined) config.encoding = v['tokens.encoding'] as EncodingName;
+  if (v['tokens.tokenizer'] !== undefined) config.tokenizer = v['tokens.tokenizer'] as string;
   if (v['tokens.contextLength'] !== undefined) config.contextLength = v['tokens.contextLength'] as number;
   if (v['text.fields'] !== undefined) config.textFields = [...(v['text.fields'] as string[])];
   if (v['lines.maxBytes'] !== undefined) config.maxLineBytes = v['lines.maxBytes'] as number;

@@ -1,6 +1,7 @@
 // `--format text`: findings grouped by file, each as `path:line:column` (terminals and editors make
 // it a link) or `path row N` for columnar rows, then one summary table over every file.
 
+import { tokenizerLabel } from '../../engine/tokens/tokenizer.js';
 import type { FileReport, Printer, ReportFinding } from '../report.js';
 
 export function findingPlace(path: string, f: ReportFinding): string {
@@ -40,7 +41,8 @@ function describe(file: FileReport, blank: number, invalid: number): string {
     (file.layout ? ` (layout ${file.layout}, ${Math.round(file.layoutShare * 1000) / 10}% of records)` : '') +
     (blank ? `, ${n(blank)} blank lines` : '') +
     (invalid ? `, ${n(invalid)} unreadable lines or rows` : '') +
-    `; ${n(t.total)} content tokens (${t.encoding}; prompt ${n(t.prompt)}, response ${n(t.response)}; per record p50 ${n(t.p50)}, p90 ${n(t.p90)}, p99 ${n(t.p99)}, max ${n(t.max)});` +
+    `; ${n(t.total)} content tokens (${tokenizerLabel(t.tokenizer ?? t.encoding)}; prompt ${n(t.prompt)}, response ${n(t.response)}; per record p50 ${n(t.p50)}, p90 ${n(t.p90)}, p99 ${n(t.p99)}, max ${n(t.max)});` +
+    (t.rendered !== undefined ? ` rendered with the chat template ${n(t.rendered)} (template overhead ${n(t.rendered - t.total)}), trained ${n(t.trainable ?? 0)};` : '') +
     ` ${n(t.overContext)} over ${n(t.contextLength)}`
   );
 }

