@@ -5,6 +5,8 @@
 import * as vscode from 'vscode';
 import { PROJECT_FILE, matchGlobMap, overlayValues, parseProjectFile, type ProjectFile } from '../engine/project.js';
 import type { HostSettings } from './settings.js';
+import { homedir } from 'node:os';
+import { resolveTokenizerValue } from '../engine/tokens/resolve.js';
 
 async function exists(uri: vscode.Uri): Promise<boolean> {
   try {
@@ -45,6 +47,15 @@ export async function applyProjectFile(out: HostSettings, uri: vscode.Uri): Prom
   if (!project) return;
   out.projectFile = project.path;
   overlayValues(out.config, project.values);
+  const tokenizer = project.values['tokens.tokenizer'];
+  if (typeof tokenizer === 'string') {
+    try {
+      out.config.tokenizer = resolveTokenizerValue(tokenizer, project.dir, homedir());
+      out.tokenizerProblem = undefined;
+    } catch (err) {
+      out.tokenizerProblem = `${project.path}: ${(err as Error).message}`;
+    }
+  }
   const dirUri = vscode.Uri.joinPath(uri, '..');
   const base = uri.path.split('/').pop() ?? '';
   const rel = relativeTo(project.dir, uri.fsPath || uri.path);
