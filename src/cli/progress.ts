@@ -17,6 +17,7 @@ export class ProgressBar {
     private readonly enabled: boolean,
   ) {
     if (enabled) {
+      this.draw();
       this.timer = setInterval(() => this.draw(), 250);
       this.timer.unref();
     }

@@ -433,3 +433,16 @@ describe('a model tokenizer from the command line and the project file', () => {
     expect(r.err).toContain(join(dir, 'tokproj', 'models', 'none'));
   });
 });
+
+describe('the progress bar', () => {
+  it('draws on a terminal (files, records, MB/s, ETA) and never in a log or with --quiet', () => {
+    const p = put('progress/a.jsonl', Array.from({ length: 20000 }, (_, i) => chat(`spoke ${i}`, 'true it')).join('\n') + '\n');
+    // util-linux `script` gives the command a pseudo-terminal, as a person's shell would.
+    const tty = spawnSync('script', ['-qec', `"${process.execPath}" "${cli}" check "${p}" > /dev/null`, '/dev/null'], { encoding: 'utf8' });
+    expect(tty.stdout).toMatch(/\d+\/1 files · [\d,]+ records · [\d.]+ MB\/s · ETA \d+:\d\d/);
+    const quiet = spawnSync('script', ['-qec', `"${process.execPath}" "${cli}" check "${p}" --quiet > /dev/null`, '/dev/null'], { encoding: 'utf8' });
+    expect(quiet.stdout).not.toMatch(/MB\/s/);
+    const log = shardwise(['check', p]);
+    expect(log.err).toBe('');
+  });
+});
