@@ -195,13 +195,16 @@ export type HostToRecordView =
   | { type: 'layout'; id: string | null; share: number; chosen: boolean }
   /** Token counts or findings changed: re-request the rows on screen without blanking them. */
   | { type: 'refresh' }
-  | { type: 'error'; message: string };
+  | { type: 'error'; message: string }
+  /** The typed place is not one, or not in the shard: shown beside the box. */
+  | { type: 'gotoInvalid'; message: string };
 
 export type RecordViewToHost =
   | { type: 'ready' }
   | { type: 'requestRows'; requestId: number; start: number; count: number }
   | { type: 'requestDetail'; entry: number; reveal?: string }
-  | { type: 'goto'; kind: 'record' | 'line' | 'entry'; value: number }
+  /** A place as the person typed it (`12`, `line 40`, `row 7`): the host parses it, as it does the palette's. */
+  | { type: 'goto'; text: string }
   | { type: 'openText'; entry: number; pointer?: string }
   | { type: 'selected'; entry: number };
 

@@ -3,11 +3,12 @@
 
 import * as vscode from 'vscode';
 import { PROJECT_FILE } from '../engine/project.js';
+import { PLACE_HINT, parsePlace } from '../engine/places.js';
 import { chooseTokenizer } from './tokenizerPicker.js';
 import { ShardDiagnostics } from './diagnostics.js';
 import { RECORD_TEXT_SCHEME, recordTexts } from './openText.js';
 import { PANEL_VIEW_ID, PanelViewProvider } from './panelView.js';
-import { RECORD_VIEW_TYPE, RecordEditorProvider } from './recordEditor.js';
+import { RECORD_VIEW_TYPE, RecordEditorProvider, noSuchPlace } from './recordEditor.js';
 import { SECTION } from './settings.js';
 import type { ShardDocument } from './shardDocument.js';
 
@@ -63,13 +64,14 @@ export function activate(context: vscode.ExtensionContext): void {
       const a = editors.active;
       if (!a) return void vscode.window.showInformationMessage('Shardwise: open a shard in the record view first.');
       const text = await vscode.window.showInputBox({
-        title: 'Go to record or line',
-        prompt: 'A record number (0-based), "line N" (1-based) or "row N"',
-        validateInput: (v) => (parseGoTo(v) ? null : 'Type a number, "line N" or "row N"'),
+        title: 'Go to Record, Line or Row',
+        prompt: 'A record number (12 or #12), "line 40" or "row 7" — all count from 1, as the record view shows them',
+        validateInput: (v) => (parsePlace(v) ? null : PLACE_HINT),
       });
-      const g = text ? parseGoTo(text) : null;
+      const g = text ? parsePlace(text) : null;
       if (!g) return;
-      const entry = g.kind === 'line' ? a.document.entryOfLine(g.value) : a.document.entryOfRecord(g.value);
+      const entry = a.document.entryOfPlace(g);
+      if (entry < 0 || entry >= (a.document.info?.entries ?? 0)) return void vscode.window.showWarningMessage(`Shardwise: ${noSuchPlace(a.document, g.kind, g.value)}`);
       a.panel.reveal(a.panel.viewColumn, false);
       a.select(entry);
     }),
@@ -110,14 +112,6 @@ function configTarget(): vscode.ConfigurationTarget {
   return vscode.workspace.workspaceFolders?.length ? vscode.ConfigurationTarget.Workspace : vscode.ConfigurationTarget.Global;
 }
 
-export function parseGoTo(text: string): { kind: 'record' | 'line'; value: number } | null {
-  const t = text.trim().toLowerCase();
-  let m = /^(?:line\s*|l)(\d+)$/.exec(t);
-  if (m) return Number(m[1]) >= 1 ? { kind: 'line', value: Number(m[1]) } : null;
-  m = /^(?:row\s*|record\s*|#)?(\d+)$/.exec(t);
-  if (m) return { kind: 'record', value: Number(m[1]) };
-  return null;
-}
 
 export function deactivate(): void {}
 

@@ -1,5 +1,6 @@
 // The read-only custom editor: one webview per open shard, paging records from the shard's worker.
 
+import { PLACE_HINT, formatPlace, parsePlace, type PlaceKind } from '../engine/places.js';
 import * as vscode from 'vscode';
 import { readRecord } from '../engine/layouts/index.js';
 import type { ColumnInfo } from '../engine/sources/source.js';
@@ -162,11 +163,15 @@ export class RecordEditorProvider implements vscode.CustomReadonlyEditorProvider
             post({ type: 'detail', detail: await this.detail(document, msg.entry, msg.reveal) });
             break;
           case 'goto': {
-            const entry =
-              msg.kind === 'line' ? document.entryOfLine(msg.value) : msg.kind === 'record' ? document.entryOfRecord(msg.value) : msg.value;
+            const target = parsePlace(String(msg.text ?? ''));
+            if (!target) {
+              post({ type: 'gotoInvalid', message: PLACE_HINT });
+              break;
+            }
+            const entry = document.entryOfPlace(target);
             const total = document.info?.entries ?? 0;
             if (entry < 0 || entry >= total) {
-              post({ type: 'error', message: `There is no ${msg.kind} ${msg.value} in this shard (it has ${total.toLocaleString()} entries${document.info?.complete ? '' : ' indexed so far'}).` });
+              post({ type: 'gotoInvalid', message: noSuchPlace(document, target.kind, target.value) });
             } else post({ type: 'select', entry });
             break;
           }
@@ -213,8 +218,8 @@ export class RecordEditorProvider implements vscode.CustomReadonlyEditorProvider
     const [e] = await document.session!.read(entry, entry + 1);
     if (!e) throw new Error(`entry ${entry} is not in this shard`);
     const findings = (document.byEntry.get(entry) ?? []).map((f) => document.viewOf(f));
-    // Same form as RowView.place: the line number alone, or `row N`.
-    const place = e.line !== null ? String(e.line) : `row ${e.record ?? e.entry}`;
+    // Same form as RowView.place (one formatter: engine/places.ts).
+    const place = formatPlace({ line: e.line, entry: e.entry, record: e.record });
     const detail: DetailView = {
       entry,
       record: e.record,
@@ -275,4 +280,12 @@ function safe<T>(f: () => T): T | null {
   } catch {
     return null;
   }
+}
+
+/** Why a typed place is not in the shard, in its own words: "There is no record 90 (the shard has 80 records)". */
+export function noSuchPlace(document: { info?: { entries: number; complete: boolean } | null; tally: { records: number } }, kind: PlaceKind, value: number): string {
+  const so = document.info?.complete ? '' : ' so far';
+  if (kind === 'record') return `There is no record ${value} (the shard has ${document.tally.records.toLocaleString('en-US')} records${so}).`;
+  const n = document.info?.entries ?? 0;
+  return `There is no ${kind} ${value} (the shard has ${n.toLocaleString('en-US')} ${kind}s${so}).`;
 }

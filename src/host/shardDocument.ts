@@ -14,12 +14,11 @@ import { analyzeFile, defaultWorkerCount } from '../node/pool.js';
 import { SourceSession } from '../node/session.js';
 import type { FindingView, ShardSummary } from '../protocol.js';
 import { settingsFor, type HostSettings } from './settings.js';
+import { formatPlace, targetIndex, type PlaceTarget } from '../engine/places.js';
 
+/** A finding's place as every presenter shows it (one formatter: engine/places.ts). */
 export function placeOf(f: { line: number | null; column: number | null; record: number | null; entry: number | null }): string {
-  if (f.line !== null) return f.column !== null ? `${f.line}:${f.column}` : `${f.line}`;
-  if (f.record !== null) return `row ${f.record}`;
-  if (f.entry !== null) return `row ${f.entry}`;
-  return 'file';
+  return formatPlace(f);
 }
 
 export class ShardDocument implements vscode.CustomDocument {
@@ -217,6 +216,14 @@ export class ShardDocument implements vscode.CustomDocument {
   entryOfRecord(record: number): number {
     const e = record < this.recordEntry.length ? this.recordEntry[record] : -1;
     return e >= 0 ? e : record;
+  }
+
+  /** The entry a typed place names (palette and record view alike), or -1 when the shard has none. */
+  entryOfPlace(t: PlaceTarget): number {
+    const i = targetIndex(t);
+    if ('record' in i) return i.record < this.recordEntry.length && this.recordEntry[i.record] >= 0 ? this.recordEntry[i.record] : this.info?.complete ? -1 : i.record;
+    if ('entry' in i) return i.entry;
+    return this.entryOfLine(i.line);
   }
 
   /** Entry for a 1-based line (JSONL: one entry per line). */

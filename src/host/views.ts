@@ -1,5 +1,6 @@
 // Turns engine entries into what the webviews show: cut, stringified, never trusted.
 
+import { formatPlace } from '../engine/places.js';
 import type { Entry } from '../engine/sources/source.js';
 import type { Finding } from '../engine/findings.js';
 import { worstSeverity, type Severity } from '../engine/findings.js';
@@ -105,7 +106,7 @@ export function rowOf(e: Entry, columns: ColumnInfo[], findings: Finding[] | und
   return {
     entry: e.entry,
     record: e.record,
-    place: e.line !== null ? String(e.line) : `row ${e.record ?? e.entry}`,
+    place: formatPlace({ line: e.line, entry: e.entry, record: e.record }),
     line: e.line,
     tokens,
     severity,

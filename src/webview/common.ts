@@ -87,30 +87,6 @@ export function str(x: unknown): string {
   }
 }
 
-export type GotoTarget = { kind: 'record' | 'line' | 'entry'; value: number };
-
-/**
- * Reads the go-to box. What the user types is 1-based as the view shows it:
- * `12` → record #12, `line 40` / `L40` → line 40, `row 7` → row 7. Record and row are posted 0-based
- * (as Finding.record and Finding.entry count); lines stay 1-based (as Finding.line counts).
- */
-export function parseGoto(text: string): GotoTarget | null {
-  const t = text.trim().toLowerCase();
-  let m = /^#?\s*(\d{1,15})$/.exec(t);
-  if (m) return positive(m[1], 'record', 1);
-  m = /^(?:line|l|:)\s*(\d{1,15})$/.exec(t);
-  if (m) return positive(m[1], 'line', 0);
-  m = /^(?:row|r)\s*(\d{1,15})$/.exec(t);
-  if (m) return positive(m[1], 'entry', 1);
-  return null;
-}
-
-function positive(digits: string, kind: GotoTarget['kind'], minus: number): GotoTarget | null {
-  const n = Number(digits);
-  if (!Number.isSafeInteger(n) || n < 1) return null;
-  return { kind, value: n - minus };
-}
-
 /** Keeps a small most-recently-used cache (Map iteration order is insertion order). */
 export class Lru<K, V> {
   private readonly map = new Map<K, V>();

@@ -25,7 +25,6 @@ import {
   iconButton,
   isSeverity,
   Lru,
-  parseGoto,
   severityIcon,
   str,
 } from './common.js';
@@ -583,17 +582,12 @@ gotoInput.addEventListener('keydown', (ev) => {
   }
   if (ev.key !== 'Enter') return;
   ev.preventDefault();
-  const target = parseGoto(gotoInput.value);
-  if (!target) {
-    gotoInput.classList.add('sw-invalid');
-    gotoInput.setAttribute('aria-invalid', 'true');
-    gotoHint.textContent = 'Type a record number (12), a line (line 40, L40) or a row (row 7).';
-    return;
-  }
+  // The host parses the place, with the same parser as the palette's Go to (engine/places.ts).
   gotoInput.classList.remove('sw-invalid');
   gotoInput.removeAttribute('aria-invalid');
   gotoHint.textContent = '';
-  vscode.postMessage({ type: 'goto', kind: target.kind, value: target.value });
+  const text = gotoInput.value.trim();
+  if (text) vscode.postMessage({ type: 'goto', text });
 });
 gotoInput.addEventListener('input', () => {
   gotoInput.classList.remove('sw-invalid');
@@ -937,7 +931,7 @@ function renderRendered(seqs: RenderedView[]): HTMLElement {
     sec.append(head);
     if (typeof s.error === 'string') {
       const err = h('div', 'sw-note sw-rendered-error');
-      err.append(icon('error'), h('span', '', `The chat template raised an error: ${s.error}`));
+      err.append(icon('error'), h('span', '', `The chat template could not render this sequence: ${s.error}`));
       sec.append(err);
     } else {
       const pre = h('pre', 'sw-rendered-text');
@@ -1187,6 +1181,11 @@ function onMessage(m: HostToRecordView): void {
       requestPages(visible);
       break;
     }
+    case 'gotoInvalid':
+      gotoInput.classList.add('sw-invalid');
+      gotoInput.setAttribute('aria-invalid', 'true');
+      gotoHint.textContent = str(m.message);
+      break;
     case 'error':
       banner.replaceChildren(icon('error'), h('span', 'sw-banner-text', str(m.message)));
       banner.hidden = false;

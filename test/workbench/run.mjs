@@ -87,6 +87,7 @@ function readRecordView(frame) {
       loading: r.classList.contains('sw-row-loading'),
       selected: r.classList.contains('sw-selected'),
       place: r.querySelector('[data-col="place"]')?.textContent ?? '',
+      record: r.querySelector('[data-col="record"]')?.textContent ?? '',
       tokens: r.querySelector('[data-col="tokens"]')?.textContent ?? '',
       fields: Object.fromEntries([...r.querySelectorAll('[data-col="field"]')].map((c) => [c.dataset.field, c.textContent])),
       raw: r.querySelector('[data-col="raw"]')?.textContent ?? null,
@@ -362,6 +363,66 @@ async function main() {
     // JSON Lines: every blank line and every line JSON.parse rejects is at least one finding.
     assert(shown >= Math.min(f.invalid + f.blank, max), `Problems shows ${shown}, fewer than the ${f.invalid} invalid and ${f.blank} blank lines`);
   });
+
+  // One place model (engine/places.ts): what a person types names what the view shows, 1-based.
+  const selectedRow = (frame, want, what) =>
+    waitFor(what, async () => {
+      const v = await readRecordView(frame);
+      const sel = v.rows.find((r) => r.selected && !r.loading);
+      return sel && want(sel) ? sel : null;
+    }, 20000);
+
+  await step(`typing 12 in the record view's box selects the record shown as #12 in ${chat}`, async () => {
+    await wb.openFromExplorer(chat);
+    const frame = await wb.recordView(chat);
+    await frame.locator('.sw-goto-input').fill('12');
+    await frame.locator('.sw-goto-input').press('Enter');
+    const sel = await selectedRow(frame, (r) => r.record.trim() === '12', 'the row of record #12 to be selected');
+    // RFC 8259 / JSON Lines as the oracle: the 12th line that JSON.parse accepts is record #12.
+    let seen = 0;
+    const line = facts.get(chat).lines.findIndex((l) => {
+      try {
+        JSON.parse(l.replace(/^\uFEFF/, ''));
+        return ++seen === 12;
+      } catch {
+        return false;
+      }
+    }) + 1;
+    assert(sel.place.trim() === String(line), `record #12 is shown on line ${sel.place}, expected line ${line}`);
+  });
+
+  await step(`typing 12 in the palette's Go to selects the record shown as #12 in ${chat}`, async () => {
+    const frame = await wb.recordView(chat);
+    await frame.locator('.sw-goto-input').fill('1');
+    await frame.locator('.sw-goto-input').press('Enter');
+    await selectedRow(frame, (r) => r.record.trim() === '1', 'record #1 to be selected first');
+    await wb.runCommand('Shardwise: Go to Record, Line or Row…');
+    const input = wb.page.locator('.quick-input-widget input.input');
+    await input.waitFor({ timeout: 10000 });
+    await input.fill('12');
+    await input.press('Enter');
+    await selectedRow(frame, (r) => r.record.trim() === '12', 'the palette to select record #12');
+  });
+
+  const rowShard = shards.find((s) => s.endsWith('.parquet')) ?? shards.find((s) => s.endsWith('.arrow'));
+  if (rowShard) {
+    await step(`"row 7" in the box and in the palette selects the row shown as row 7 in ${rowShard}`, async () => {
+      await wb.openFromExplorer(rowShard);
+      const frame = await wb.recordView(rowShard, 60000);
+      await frame.locator('.sw-goto-input').fill('row 7');
+      await frame.locator('.sw-goto-input').press('Enter');
+      await selectedRow(frame, (r) => r.place.trim() === 'row 7' && r.record.trim() === '7', 'the row shown as row 7 to be selected');
+      await frame.locator('.sw-goto-input').fill('row 1');
+      await frame.locator('.sw-goto-input').press('Enter');
+      await selectedRow(frame, (r) => r.place.trim() === 'row 1', 'row 1 to be selected');
+      await wb.runCommand('Shardwise: Go to Record, Line or Row…');
+      const input = wb.page.locator('.quick-input-widget input.input');
+      await input.waitFor({ timeout: 10000 });
+      await input.fill('row 7');
+      await input.press('Enter');
+      await selectedRow(frame, (r) => r.place.trim() === 'row 7', 'the palette to select row 7');
+    });
+  }
 
   await step(`token counts of ${textShard} rows match the ${defaultEncoding} reference`, async () => {
     assert(textShard, 'no JSONL demo shard keeps its text in a "text" field');

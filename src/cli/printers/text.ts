@@ -2,11 +2,12 @@
 // it a link) or `path row N` for columnar rows, then one summary table over every file.
 
 import { tokenizerLabel } from '../../engine/tokens/tokenizer.js';
+import { formatPlace } from '../../engine/places.js';
 import type { FileReport, Printer, ReportFinding } from '../report.js';
 
 export function findingPlace(path: string, f: ReportFinding): string {
-  if (f.line !== null) return `${path}:${f.line}:${f.column ?? 1}`;
-  if (f.row !== undefined) return `${path} row ${f.row}`;
+  if (f.line !== null) return `${path}:${formatPlace({ line: f.line, column: f.column ?? 1, entry: null })}`;
+  if (f.row !== undefined) return `${path} ${formatPlace({ line: null, entry: f.row - 1 })}`;
   return path;
 }
 

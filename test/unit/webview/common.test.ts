@@ -1,24 +1,6 @@
-// Pure helpers of the webviews: the go-to parser and the page cache.
+// Pure helpers of the webviews: the page cache and the content security policy.
 import { describe, expect, it, test } from 'vitest';
-import { Lru, parseGoto } from '../../../src/webview/common.js';
-
-describe('parseGoto', () => {
-  test('reads records, lines and rows as the view numbers them (1-based), posting record and row 0-based', () => {
-    expect(parseGoto('12')).toEqual({ kind: 'record', value: 11 });
-    expect(parseGoto(' #12 ')).toEqual({ kind: 'record', value: 11 });
-    expect(parseGoto('line 40')).toEqual({ kind: 'line', value: 40 });
-    expect(parseGoto('L40')).toEqual({ kind: 'line', value: 40 });
-    expect(parseGoto('l 40')).toEqual({ kind: 'line', value: 40 });
-    expect(parseGoto('row 7')).toEqual({ kind: 'entry', value: 6 });
-    expect(parseGoto('ROW7')).toEqual({ kind: 'entry', value: 6 });
-  });
-
-  test('refuses what is not a place', () => {
-    for (const bad of ['', 'abc', '0', 'line 0', 'row -1', '1.5', '12 13', 'line', '9'.repeat(20)]) {
-      expect(parseGoto(bad), bad).toBeNull();
-    }
-  });
-});
+import { Lru } from '../../../src/webview/common.js';
 
 describe('Lru', () => {
   test('drops the least recently used entry past its capacity', () => {
