@@ -1,14 +1,13 @@
 // Rules the columnar and JSON-array sources raise while reading, and one way to build their findings.
 
 import type { Family, Finding, RuleInfo, Severity } from '../findings.js';
+import { JSONL_RULES } from './jsonlRules.js';
 
 export const COLUMNAR_RULES: RuleInfo[] = [
   { id: 'read-footer-invalid', family: 'read', severity: 'error', summary: 'The file has no valid footer or header, so its layout cannot be known.' },
   { id: 'read-truncated', family: 'read', severity: 'error', summary: 'A message, page or record batch is cut short.' },
-  { id: 'read-corrupt', family: 'read', severity: 'error', summary: 'Bytes that do not decode: a corrupt page, batch or value.' },
   { id: 'read-unsupported', family: 'read', severity: 'error', summary: 'A type, codec, encryption or version the reader cannot read.' },
   { id: 'read-stream-unterminated', family: 'read', severity: 'warning', summary: 'The stream ends between messages without its end-of-stream marker (a writer may still be running).' },
-  { id: 'number-unsafe', family: 'json', severity: 'warning', summary: 'An integer beyond ±(2^53−1): most JSON readers lose its exact value.' },
 ];
 
 /** Rules only the JSON-array source raises. */
@@ -17,7 +16,8 @@ export const JSON_ARRAY_RULES: RuleInfo[] = [
   { id: 'array-element-syntax', family: 'json', severity: 'error', summary: 'An element of the array is not valid JSON (RFC 8259).' },
 ];
 
-const ALL = new Map([...COLUMNAR_RULES, ...JSON_ARRAY_RULES].map((r) => [r.id, r]));
+// read-corrupt and number-unsafe are declared once, with the JSON Lines rules, and raised by every reader.
+const ALL = new Map([...JSONL_RULES, ...COLUMNAR_RULES, ...JSON_ARRAY_RULES].map((r) => [r.id, r]));
 
 export interface FindingPlace {
   record?: number | null;
