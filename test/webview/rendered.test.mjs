@@ -33,7 +33,7 @@ describe('record view: rendered sequences', () => {
       assert.deepEqual(await view.page.$$eval('.sw-rendered-text .sw-trained', (m) => m.map((x) => x.textContent)), [answer]);
       const heads = await view.page.$$eval('.sw-rendered-head', (hs) => hs.map((x) => x.textContent));
       assert.match(heads[0], /messages40 rendered25 content · \+15 template12 trained/);
-      assert.match(await view.page.textContent('.sw-rendered-error'), /raised an error/);
+      assert.match(await view.page.textContent('.sw-rendered-error'), /could not render this sequence/);
       assert.equal(await view.page.evaluate(() => window.__pwned), undefined);
       assert.equal(await view.page.$$eval('img, svg, script:not([nonce])', (x) => x.length), 0);
       assert.deepEqual(await view.cspViolations(), []);

@@ -23,7 +23,7 @@ export const TOKENS_RULES: RuleInfo[] = [
     id: 'tokens-special-text',
     family: 'tokens',
     severity: 'warning',
-    summary: "Text spells a special token of the encoding (counted as ordinary text), or an added token of the model (read as that control token).",
+    summary: "Text spells a special token of the encoding (counted as ordinary text), or a control token of the model (read as that token).",
   },
   {
     id: 'tokens-no-text',
@@ -35,7 +35,7 @@ export const TOKENS_RULES: RuleInfo[] = [
     id: 'tokens-template-error',
     family: 'tokens',
     severity: 'error',
-    summary: "The model's chat template raises an error on the record's conversation; the trainer could not render it.",
+    summary: "The model's chat template raises an error on the record's conversation, or cannot render a value it holds (a null or a list where the template wants text).",
   },
   {
     id: 'tokens-rendered-over-context',
@@ -206,7 +206,7 @@ function specialTextIssue(unit: TextPiece, tokenizer: Tokenizer): RecordIssue | 
     return {
       rule: 'tokens-special-text',
       message:
-        `Text spells the added token${hits.length > 1 ? 's' : ''} ${names} of ${tokenizer.label} (${hits.length === 1 ? 'once' : `${hits.length} times`}); ` +
+        `Text spells the control token${hits.length > 1 ? 's' : ''} ${names} of ${tokenizer.label} (${hits.length === 1 ? 'once' : `${hits.length} times`}); ` +
         "the model's tokenizer reads a control token there, not the text.",
       pointer: unit.pointer,
     };
@@ -277,7 +277,7 @@ export const tokensCheck: Check = {
         if (s.error !== null) {
           out.issues.push({
             rule: 'tokens-template-error',
-            message: `The chat template (${template!.spec.origin}) raised an error on this conversation${which}: ${s.error}. Its tokens are counted by content alone.`,
+            message: `The chat template (${template!.spec.origin}) could not render this conversation${which}: ${s.error}. Its tokens are counted by content alone.`,
             pointer: where,
           });
         } else if (s.trainable === 0) {

@@ -129,8 +129,15 @@ export async function loadModelTokenizer(path: string): Promise<ModelTokenizer> 
   }
   const template = await chatTemplateOf(folder, config);
   const added = (Array.isArray(json.added_tokens) ? json.added_tokens : []) as AddedToken[];
+  // Control tokens are the added tokens marked special; the others (Gemma's runs of newlines or
+  // spaces, say) are vocabulary, split out of the text all the same.
   const specialTokens: Record<string, number> = {};
-  for (const t of added) if (typeof t?.content === 'string' && typeof t.id === 'number') specialTokens[t.content] = t.id;
+  const addedSpellings: string[] = [];
+  for (const t of added) {
+    if (typeof t?.content !== 'string' || typeof t.id !== 'number') continue;
+    addedSpellings.push(t.content);
+    if (t.special) specialTokens[t.content] = t.id;
+  }
   Object.freeze(specialTokens);
 
   const ids = (text: string) => hf.encode(text, { add_special_tokens: false }).ids;
@@ -141,7 +148,7 @@ export async function loadModelTokenizer(path: string): Promise<ModelTokenizer> 
   // Metaspace/Prepend step treats the text's first piece differently from the others.
   const shape = JSON.stringify([json.normalizer ?? null, json.pre_tokenizer ?? null]);
   const splitExact = added.every((t) => !t.lstrip && !t.rstrip && !t.single_word) && !/"(Metaspace|Prepend)"/.test(shape);
-  const findAdded = spellingFinder(Object.keys(specialTokens));
+  const findAdded = spellingFinder(addedSpellings);
   const countRendered = (text: string): number => {
     if (!splitExact) return countPlain(text);
     let n = 0;

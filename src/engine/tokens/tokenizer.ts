@@ -19,7 +19,7 @@ export interface Tokenizer {
   countRendered(text: string): number;
   /** Ids of a rendered sequence, as `countRendered` counts them. */
   encodeRendered(text: string): number[];
-  /** Special-token spellings and their ids. */
+  /** Spellings of the control tokens (a model's added tokens marked special) and their ids. */
   readonly specialTokens: Readonly<Record<string, number>>;
   /**
    * How `count` reads a special token's spelling inside content: as ordinary text (the built-in

@@ -7,6 +7,9 @@ import { join } from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { loadTokenizer, resolveTokenizerValue, TokenizerError, type Tokenizer } from '../../../../src/engine/tokens/index.js';
 import { loadModelTokenizer } from '../../../../src/engine/tokens/model.js';
+import { withDefaults } from '../../../../src/engine/config.js';
+import type { RecordResult } from '../../../../src/engine/checks/check.js';
+import { tokensCheck } from '../../../../src/engine/checks/tokens.js';
 import { escapeText, prng, randomText, SPACE_LIKE } from './corpus.js';
 import { FAMILIES, modelFolder, referenceTokenizer, type ReferenceTokenizer } from './models.js';
 
@@ -69,6 +72,30 @@ describe.each(FAMILIES)('%s tokenizer.json against the reference Rust implementa
     expect(ours.countRendered(text)).toBe(want.length);
     expect(ours.count(text)).toBe(want.length);
   });
+});
+
+describe('special-token spellings in the text of a model\'s records', () => {
+  it('are findings for control tokens only, not for added vocabulary such as runs of newlines', async () => {
+    // Which added tokens are control tokens is what each tokenizer.json marks `special` (Gemma 3's
+    // file also adds runs of newlines and spaces as ordinary vocabulary).
+    for (const [family, control, vocabulary] of [
+      ['qwen3', '<|im_end|>', '<think>'],
+      ['gemma3', '<start_of_turn>', '\n\n\n'],
+    ] as const) {
+      const config = withDefaults({ tokenizer: modelFolder(family) });
+      await tokensCheck.prepare!(config);
+      const run = (text: string) => {
+        const out: RecordResult = { issues: [] };
+        tokensCheck.checkRecord({ record: 0, value: { text } }, config, out);
+        return out.issues.filter((i) => i.rule === 'tokens-special-text');
+      };
+      const hit = run(`Reply, then write ${control} twice: ${control}`);
+      expect(hit.map((i) => i.pointer), family).toEqual(['/text']);
+      expect(hit[0]!.message).toContain(`"${control}"`);
+      expect(hit[0]!.message).toContain('2 times');
+      expect(run(`Plain ${vocabulary} text`), family).toEqual([]);
+    }
+  }, 60_000);
 });
 
 describe('a model folder that is missing or malformed', () => {
