@@ -196,6 +196,8 @@ export type HostToRecordView =
   /** Token counts or findings changed: re-request the rows on screen without blanking them. */
   | { type: 'refresh' }
   | { type: 'error'; message: string }
+  /** A one-line note above the table (Restricted Mode holding settings back), with an action the host runs. */
+  | { type: 'notice'; message: string; action?: { label: string; id: 'manageTrust' } }
   /** The typed place is not one, or not in the shard: shown beside the box. */
   | { type: 'gotoInvalid'; message: string };
 
@@ -205,6 +207,8 @@ export type RecordViewToHost =
   | { type: 'requestDetail'; entry: number; reveal?: string }
   /** A place as the person typed it (`12`, `line 40`, `row 7`): the host parses it, as it does the palette's. */
   | { type: 'goto'; text: string }
+  /** The notice's action was clicked. */
+  | { type: 'noticeAction'; id: 'manageTrust' }
   | { type: 'openText'; entry: number; pointer?: string }
   | { type: 'selected'; entry: number };
 

@@ -62,7 +62,8 @@ export const OPTIONS: readonly OptionDef[] = [
   { flag: '--roles', value: 'LIST', help: 'allowed chat roles, comma-separated (default system,user,assistant,tool)', setting: 'chat.roles', verbs: [...CHECKING], convert: listOf },
   { flag: '--allow-repeated-roles', help: 'do not report the same role twice in a row', setting: 'chat.allowRepeatedRoles', verbs: [...CHECKING], convert: () => true },
   { flag: '--require-conversation', value: 'auto|always|never', help: "report records without a conversation (default auto: when the shard's first records are chats)", setting: 'chat.requireConversation', verbs: [...CHECKING] },
-  { flag: '--max-line-bytes', value: 'N', help: 'lines longer than this are findings and are not parsed (default 67108864)', setting: 'lines.maxBytes', verbs: [...CHECKING, ...RECORDS] },
+  { flag: '--max-line-mib', value: 'N', help: 'lines longer than N MiB are findings and are not parsed (default 64)', setting: 'lines.maxMiB', verbs: [...CHECKING, ...RECORDS] },
+  { flag: '--max-line-bytes', value: 'N', help: 'the same limit to the byte (default 67108864)', setting: 'lines.maxBytes', verbs: [...CHECKING, ...RECORDS], convert: (v) => exactBytes(v) },
   { flag: '--rule', value: 'ID=LEVEL', repeat: true, help: `set a rule's severity: ${RULE_LEVELS.join(', ')} (repeatable; \`shardwise rules\` lists the ids)`, setting: 'rules', verbs: [...CHECKING], convert: addRule },
   { flag: '--fail-on', value: FAIL_LEVELS.join('|'), help: 'exit 1 when a finding at or above this severity is found (default error)', setting: 'check.failOn', verbs: ['check'] },
   { flag: '--max-findings', value: 'N', help: 'list at most N findings per file; all are still counted (default 10000)', setting: 'check.maxFindings', verbs: ['check'] },
@@ -78,6 +79,12 @@ export const OPTIONS: readonly OptionDef[] = [
   { flag: '--from', value: 'N', help: 'first record of the slice (1 = the first record)', verbs: ['slice'] },
   { flag: '--to', value: 'N', help: 'last record of the slice (inclusive; default the last record)', verbs: ['slice'] },
 ];
+
+function exactBytes(v: string): number {
+  const n = Number(v);
+  if (!Number.isSafeInteger(n) || n < 16 || n > 2 ** 31 - 1) throw new UsageError(`--max-line-bytes takes a whole number from 16 to ${2 ** 31 - 1}, not "${v}"`);
+  return n;
+}
 
 function addField(prev: unknown, key: 'turns' | 'role' | 'content', v: string): unknown {
   const f = { ...((prev as Record<string, string[]>) ?? {}) };

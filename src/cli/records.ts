@@ -43,7 +43,9 @@ export async function printRecords(parsed: Parsed, out: NodeJS.WritableStream): 
   if (extra.length) throw new UsageError(`${parsed.verb} reads one file, not ${parsed.positional.length}`);
   let source;
   try {
-    source = createSource(path, { maxLineBytes: (parsed.settings['lines.maxBytes'] as number | undefined) ?? 64 * 1024 * 1024 });
+    const mib = parsed.settings['lines.maxMiB'] as number | undefined;
+    const exact = parsed.settings['lines.maxBytes'] as number | undefined;
+    source = createSource(path, { maxLineBytes: exact ?? (mib !== undefined ? mib * 1024 * 1024 : 64 * 1024 * 1024) });
   } catch (e) {
     throw new InputProblem((e as Error).message);
   }

@@ -11,6 +11,8 @@ import { RULE_LEVELS, type RuleLevel } from './policy.js';
 
 export const PROJECT_FILE = 'shardwise.json';
 
+const MIB = 1024 * 1024;
+
 export type SettingType = 'integer' | 'boolean' | 'enum' | 'string' | 'strings' | 'map' | 'fields';
 
 export interface SettingSpec {
@@ -40,7 +42,7 @@ export const SETTINGS: readonly SettingSpec[] = [
   { key: 'chat.allowRepeatedRoles', type: 'boolean', summary: 'allow the same role twice in a row' },
   { key: 'chat.requireConversation', type: 'enum', values: () => ['auto', 'always', 'never'], summary: 'whether a record without a conversation is reported' },
   { key: 'schemas', type: 'map', summary: 'file glob → JSON Schema file every record must match' },
-  { key: 'lines.maxBytes', type: 'integer', min: 1024, max: 2 ** 31 - 1, summary: 'longer lines are findings and are not parsed' },
+  { key: 'lines.maxMiB', type: 'integer', min: 1, max: 2047, summary: 'lines longer than this many MiB are findings and are not parsed' },
   { key: 'rules', type: 'map', values: () => RULE_LEVELS, summary: 'rule id → error, warning, info or off' },
   { key: 'check.failOn', type: 'enum', values: () => FAIL_LEVELS, summary: 'the severity that fails a CI run (error, warning or never)' },
   { key: 'check.maxFindings', type: 'integer', min: 1, max: 100_000_000, summary: 'most findings listed per file (all are counted)' },
@@ -256,6 +258,8 @@ export function overlayValues(config: CheckConfig, v: SettingValues): CheckConfi
   if (v['tokens.tokenizer'] !== undefined) config.tokenizer = v['tokens.tokenizer'] as string;
   if (v['tokens.contextLength'] !== undefined) config.contextLength = v['tokens.contextLength'] as number;
   if (v['text.fields'] !== undefined) config.textFields = [...(v['text.fields'] as string[])];
+  if (v['lines.maxMiB'] !== undefined) config.maxLineBytes = (v['lines.maxMiB'] as number) * MIB;
+  // The command line's exact byte limit (--max-line-bytes), for tests and special cases.
   if (v['lines.maxBytes'] !== undefined) config.maxLineBytes = v['lines.maxBytes'] as number;
   if (v['layout.default'] !== undefined) config.layout = { ...config.layout, id: v['layout.default'] as string };
   if (v['layout.fields'] !== undefined) config.layout = { ...config.layout, fields: { ...(v['layout.fields'] as LayoutFields) } };

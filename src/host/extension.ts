@@ -4,6 +4,7 @@
 import * as vscode from 'vscode';
 import { PROJECT_FILE } from '../engine/project.js';
 import { PLACE_HINT, parsePlace } from '../engine/places.js';
+import { tokenizerLabel, tokenizerOf } from '../engine/tokens/tokenizer.js';
 import { chooseTokenizer } from './tokenizerPicker.js';
 import { ShardDiagnostics } from './diagnostics.js';
 import { RECORD_TEXT_SCHEME, recordTexts } from './openText.js';
@@ -20,12 +21,11 @@ export function activate(context: vscode.ExtensionContext): void {
 
   context.subscriptions.push(
     vscode.window.registerCustomEditorProvider(RECORD_VIEW_TYPE, editors, {
-      webviewOptions: { retainContextWhenHidden: true },
+      // No retained context: a hidden record view is rebuilt from its saved state and the host's pages.
       supportsMultipleEditorsPerDocument: false,
     }),
     // JSON array files (.json) open in the same view when the user picks it ("Open With…").
     vscode.window.registerCustomEditorProvider(`${RECORD_VIEW_TYPE}.json`, editors, {
-      webviewOptions: { retainContextWhenHidden: true },
       supportsMultipleEditorsPerDocument: false,
     }),
     vscode.window.registerWebviewViewProvider(PANEL_VIEW_ID, panel, { webviewOptions: { retainContextWhenHidden: true } }),
@@ -33,9 +33,38 @@ export function activate(context: vscode.ExtensionContext): void {
     diagnostics,
   );
 
+  // While any shard is being checked, Stop shows (a context key for the menus' when clauses).
+  let checking = false;
+  const updateChecking = () => {
+    const now = [...docs].some((d) => d.phase === 'analysing');
+    if (now !== checking) {
+      checking = now;
+      void vscode.commands.executeCommand('setContext', 'shardwise.checking', now);
+    }
+  };
+  // A status-bar item while a record view is active: its tokenizer and context length; a click opens the picker.
+  const status = vscode.window.createStatusBarItem('shardwise.tokenizer', vscode.StatusBarAlignment.Right, 100);
+  status.name = 'Shardwise tokenizer';
+  status.command = 'shardwise.chooseEncoding';
+  const updateStatus = () => {
+    const d = activeDoc();
+    if (!d?.settings) return void status.hide();
+    const c = d.settings.config;
+    status.text = `$(symbol-numeric) ${tokenizerLabel(tokenizerOf(c))} · ${c.contextLength.toLocaleString()}`;
+    status.tooltip = `Tokens of ${d.fileName} are counted with ${tokenizerOf(c)}; records over ${c.contextLength.toLocaleString()} tokens are reported. Click to choose the tokenizer.`;
+    status.show();
+  };
+  context.subscriptions.push(status, editors.onDidChangeActive(updateStatus));
+
   editors.onDidChangeDocument((doc) => {
+    updateChecking();
+    if (doc === activeDoc()) updateStatus();
     if (!docs.has(doc)) {
       docs.add(doc);
+      doc.onDidChange(() => {
+        updateChecking();
+        if (doc === activeDoc()) updateStatus();
+      });
       doc.onDidDispose(() => {
         docs.delete(doc);
         diagnostics.clear(doc);
@@ -75,23 +104,36 @@ export function activate(context: vscode.ExtensionContext): void {
       a.panel.reveal(a.panel.viewColumn, false);
       a.select(entry);
     }),
-    vscode.commands.registerCommand('shardwise.chooseEncoding', () => chooseTokenizer(SECTION, configTarget())),
+    vscode.commands.registerCommand('shardwise.chooseEncoding', () => chooseTokenizer(SECTION, settingTarget('tokens.tokenizer', activeDoc()?.uri))),
     vscode.commands.registerCommand('shardwise.setContextLength', async () => {
-      const current = vscode.workspace.getConfiguration(SECTION).get<number>('tokens.contextLength', 8192);
+      const current = vscode.workspace.getConfiguration(SECTION, activeDoc()?.uri).get<number>('tokens.contextLength', 8192);
       const v = await vscode.window.showInputBox({
         title: 'Context length in tokens',
         value: String(current),
-        validateInput: (s) => (/^[1-9][0-9]*$/.test(s.trim()) ? null : 'A whole number of tokens'),
+        validateInput: (s) => (/^[1-9][0-9]{0,8}$/.test(s.trim()) && Number(s.trim()) <= 100_000_000 ? null : 'A whole number of tokens from 1 to 100,000,000'),
       });
       if (!v) return;
-      await vscode.workspace.getConfiguration(SECTION).update('tokens.contextLength', Number(v.trim()), configTarget());
+      const uri = activeDoc()?.uri;
+      await vscode.workspace.getConfiguration(SECTION, uri).update('tokens.contextLength', Number(v.trim()), settingTarget('tokens.contextLength', uri));
     }),
     vscode.commands.registerCommand('shardwise.checkAgain', () => {
       const d = activeDoc();
       if (d) void d.analyze();
     }),
-    vscode.commands.registerCommand('shardwise.cancel', () => activeDoc()?.cancel()),
+    vscode.commands.registerCommand('shardwise.cancel', () => {
+      const d = activeDoc();
+      if (d) d.cancel();
+      else for (const x of docs) if (x.phase === 'analysing') x.cancel();
+    }),
+    vscode.commands.registerCommand('shardwise.reopenAsText', async (uri?: vscode.Uri) => {
+      const target = uri instanceof vscode.Uri ? uri : activeDoc()?.uri;
+      if (target) await vscode.commands.executeCommand('vscode.openWith', target, 'default');
+    }),
     vscode.commands.registerCommand('shardwise.showReport', () => vscode.commands.executeCommand(`${PANEL_VIEW_ID}.focus`)),
+    // Trust granted: the settings held back apply now.
+    vscode.workspace.onDidGrantWorkspaceTrust(() => {
+      for (const d of docs) void d.analyze();
+    }),
     vscode.workspace.onDidChangeConfiguration((e) => {
       if (!e.affectsConfiguration(SECTION)) return;
       for (const d of docs) if (e.affectsConfiguration(SECTION, d.uri)) void d.analyze();
@@ -108,8 +150,15 @@ export function activate(context: vscode.ExtensionContext): void {
   );
 }
 
-function configTarget(): vscode.ConfigurationTarget {
-  return vscode.workspace.workspaceFolders?.length ? vscode.ConfigurationTarget.Workspace : vscode.ConfigurationTarget.Global;
+/**
+ * Where a command writes a setting: where it is already set (folder, then workspace), else the
+ * user's settings — never a new .vscode/settings.json in a data repository unasked.
+ */
+export function settingTarget(key: string, resource?: vscode.Uri): vscode.ConfigurationTarget {
+  const i = vscode.workspace.getConfiguration(SECTION, resource).inspect(key);
+  if (i?.workspaceFolderValue !== undefined) return vscode.ConfigurationTarget.WorkspaceFolder;
+  if (i?.workspaceValue !== undefined) return vscode.ConfigurationTarget.Workspace;
+  return vscode.ConfigurationTarget.Global;
 }
 
 

@@ -35,6 +35,9 @@ export async function findProjectFile(uri: vscode.Uri): Promise<ProjectFile | nu
   return null;
 }
 
+/** Project-file settings that are not applied in Restricted Mode. */
+export const HELD_UNTIL_TRUSTED = ['schemas', 'tokens.tokenizer', 'lines.maxMiB'];
+
 /** Lays the project file's settings over the VS Code settings of one shard. */
 export async function applyProjectFile(out: HostSettings, uri: vscode.Uri): Promise<void> {
   let project: ProjectFile | null;
@@ -46,6 +49,13 @@ export async function applyProjectFile(out: HostSettings, uri: vscode.Uri): Prom
   }
   if (!project) return;
   out.projectFile = project.path;
+  // Restricted Mode: what points at files or shapes resource use waits for trust (the manifest's
+  // restrictedConfigurations hold the same settings back from the workspace's settings.json).
+  const held = vscode.workspace.isTrusted ? [] : HELD_UNTIL_TRUSTED.filter((k) => project!.values[k] !== undefined);
+  if (held.length) {
+    project = { ...project, values: Object.fromEntries(Object.entries(project.values).filter(([k]) => !held.includes(k))) };
+    out.trustNote = `This folder is not trusted: ${held.join(', ')} from ${project.path} wait until it is.`;
+  }
   overlayValues(out.config, project.values);
   const tokenizer = project.values['tokens.tokenizer'];
   if (typeof tokenizer === 'string') {

@@ -101,6 +101,7 @@ export class RecordEditorProvider implements vscode.CustomReadonlyEditorProvider
       });
       lastLayout = '';
       sendLayout();
+      if (document.settings?.trustNote) post({ type: 'notice', message: document.settings.trustNote, action: { label: 'Manage Workspace Trust', id: 'manageTrust' } });
       // A file that opens broken (no footer, cut short) says so at the top, not only in the panel.
       const broken = now.findings.filter((f) => f.severity === 'error');
       if (broken.length) {
@@ -182,6 +183,9 @@ export class RecordEditorProvider implements vscode.CustomReadonlyEditorProvider
             break;
           }
           case 'selected':
+            break;
+          case 'noticeAction':
+            if (msg.id === 'manageTrust') await vscode.commands.executeCommand('workbench.trust.manage');
             break;
         }
       } catch (err) {

@@ -10,6 +10,17 @@ import type { LayoutConfig, LayoutFields } from '../engine/layouts/layout.js';
 
 export const SECTION = 'shardwise';
 
+const MIB = 1024 * 1024;
+
+/** The settings the manifest declares as restricted configurations (read from user settings only until trust). */
+const RESTRICTED = ['schemas', 'tokens.tokenizer', 'tokens.tokenizerByGlob', 'workers', 'lines.maxMiB', 'textEditor.maxMiB', 'virtualFiles.maxMiB'];
+
+/** A number setting kept inside the bounds the manifest declares (a hand-edited settings.json can hold anything). */
+export function clamp(v: unknown, min: number, max: number, fallback: number): number {
+  const n = typeof v === 'number' && Number.isFinite(v) ? Math.round(v) : fallback;
+  return Math.min(max, Math.max(min, n));
+}
+
 export interface HostSettings {
   config: CheckConfig;
   /** A clear message when the mapped schema could not be loaded. */
@@ -19,6 +30,8 @@ export interface HostSettings {
   /** The project file (shardwise.json) whose settings apply, and a clear message when it is broken. */
   projectFile?: string;
   projectProblem?: string;
+  /** In Restricted Mode: which workspace settings wait for trust, in one line. */
+  trustNote?: string;
   maxProblems: number;
   workers: number;
   /** Files larger than this open in a read-only line document instead of the text editor. */
@@ -32,9 +45,9 @@ export async function settingsFor(uri: vscode.Uri): Promise<HostSettings> {
   const encoding = s.get<string>('tokens.encoding', 'cl100k_base');
   const config = withDefaults({
     encoding: (ENCODINGS as readonly string[]).includes(encoding) ? (encoding as EncodingName) : 'cl100k_base',
-    contextLength: Math.max(1, s.get<number>('tokens.contextLength', 8192)),
+    contextLength: clamp(s.get<number>('tokens.contextLength', 8192), 1, 100_000_000, 8192),
     textFields: s.get<string[]>('text.fields', withDefaults().textFields),
-    maxLineBytes: Math.max(1024, s.get<number>('lines.maxBytes', 64 * 1024 * 1024)),
+    maxLineBytes: clamp(s.get<number>('lines.maxMiB', 64), 1, 2047, 64) * MIB,
   });
   config.layout = layoutFor(s, uri);
   config.chat.roles = s.get<string[]>('chat.roles', config.chat.roles);
@@ -43,10 +56,10 @@ export async function settingsFor(uri: vscode.Uri): Promise<HostSettings> {
   config.chat.requireConversation = req === 'always' ? true : req === 'never' ? false : 'auto';
   const out: HostSettings = {
     config,
-    maxProblems: Math.max(1, s.get<number>('problems.max', 1000)),
-    workers: Math.max(0, s.get<number>('workers', 0)),
-    textEditorMaxBytes: s.get<number>('textEditor.maxBytes', 50 * 1024 * 1024),
-    virtualFileMaxBytes: s.get<number>('virtualFiles.maxBytes', 512 * 1024 * 1024),
+    maxProblems: clamp(s.get<number>('problems.max', 1000), 1, 100_000, 1000),
+    workers: clamp(s.get<number>('workers', 0), 0, 64, 0),
+    textEditorMaxBytes: clamp(s.get<number>('textEditor.maxMiB', 50), 1, 4096, 50) * MIB,
+    virtualFileMaxBytes: clamp(s.get<number>('virtualFiles.maxMiB', 512), 1, 65536, 512) * MIB,
   };
   const schemas = s.get<Record<string, string>>('schemas', {});
   const folder = vscode.workspace.getWorkspaceFolder(uri);
@@ -66,6 +79,13 @@ export async function settingsFor(uri: vscode.Uri): Promise<HostSettings> {
       out.schemaProblem = `The JSON Schema mapped to ${base} by "shardwise.schemas" (${schemaPath}) could not be loaded: ${(err as Error).message}`;
     }
     break;
+  }
+  if (!vscode.workspace.isTrusted) {
+    const held = RESTRICTED.filter((k) => {
+      const i = s.inspect(k);
+      return i?.workspaceValue !== undefined || i?.workspaceFolderValue !== undefined;
+    });
+    if (held.length) out.trustNote = `This folder is not trusted: its ${held.map((k) => `shardwise.${k}`).join(', ')} wait until it is; user settings apply meanwhile.`;
   }
   await applyProjectFile(out, uri);
   return out;

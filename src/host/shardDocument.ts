@@ -86,7 +86,7 @@ export class ShardDocument implements vscode.CustomDocument {
       throw new Error(
         `${this.fileName} is ${(stat.size / 2 ** 20).toFixed(0)} MiB on a remote or virtual file system; ` +
           `Shardwise reads such files only up to ${(this.settings.virtualFileMaxBytes / 2 ** 20).toFixed(0)} MiB ` +
-          `(setting shardwise.virtualFiles.maxBytes). Open it from a local folder or a remote window instead.`,
+          `(setting shardwise.virtualFiles.maxMiB). Open it from a local folder or a remote window instead.`,
       );
     }
     this.tempDir = await mkdtemp(join(tmpdir(), 'shardwise-copy-'));
@@ -114,7 +114,8 @@ export class ShardDocument implements vscode.CustomDocument {
     const workers = this.settings.workers || defaultWorkerCount();
     try {
       await vscode.window.withProgress(
-        { location: vscode.ProgressLocation.Notification, title: `Shardwise: checking ${this.fileName}`, cancellable: true },
+        // The window's progress location (status bar), not a notification on every open; Stop is in the view's title bar.
+        { location: vscode.ProgressLocation.Window, title: `Checking ${this.fileName}`, cancellable: true },
         async (report, token) => {
           token.onCancellationRequested(() => {
             ac.abort();

@@ -159,7 +159,12 @@ detailEl.hidden = true;
 splitter.hidden = true;
 
 main.append(tableEl, splitter, detailEl);
-root.append(header, banner, toolbar, main);
+// A one-line note from the host (Restricted Mode holding settings back), with its action.
+const notice = h('div', 'sw-note sw-notice');
+notice.setAttribute('role', 'status');
+notice.hidden = true;
+
+root.append(header, banner, notice, toolbar, main);
 
 // ---- header ----
 function renderHeader(): void {
@@ -1179,6 +1184,18 @@ function onMessage(m: HostToRecordView): void {
       const visible: number[] = [];
       for (let p = first; p <= last; p++) visible.push(p);
       requestPages(visible);
+      break;
+    }
+    case 'notice': {
+      notice.replaceChildren(icon('shield'), h('span', 'sw-notice-text', str(m.message)));
+      if (m.action && m.action.id === 'manageTrust') {
+        const id = m.action.id;
+        const link = h('button', 'sw-link', str(m.action.label));
+        link.type = 'button';
+        link.addEventListener('click', () => vscode.postMessage({ type: 'noticeAction', id }));
+        notice.append(link);
+      }
+      notice.hidden = false;
       break;
     }
     case 'gotoInvalid':

@@ -12,7 +12,11 @@ import { Workbench, countOf, launchBrowser, waitFor } from './workbench.mjs';
 
 const outDir = join(root, 'test-output', 'workbench');
 const demoDir = join(root, 'demo-data');
-const manifest = JSON.parse(readFileSync(join(root, 'package.json'), 'utf8'));
+// The manifest as the workbench shows it: %key% strings resolved through package.nls.json.
+const nls = JSON.parse(readFileSync(join(root, 'package.nls.json'), 'utf8'));
+const manifest = JSON.parse(readFileSync(join(root, 'package.json'), 'utf8'), (_k, v) =>
+  typeof v === 'string' && /^%[^%]+%$/.test(v) && nls[v.slice(1, -1)] !== undefined ? nls[v.slice(1, -1)] : v,
+);
 
 const results = [];
 const cleanups = [];

@@ -79,7 +79,7 @@ describe('the JSON document', () => {
     expect(f.format).toBe('jsonl');
     // Three lines hold a value; the blank and the broken one are not records.
     expect(f.records).toBe(3);
-    expect(Object.keys(f.tokens).sort()).toEqual(['contextLength', 'encoding', 'max', 'overContext', 'p50', 'p90', 'p99', 'prompt', 'response', 'total']);
+    expect(Object.keys(f.tokens).sort()).toEqual(['contextLength', 'encoding', 'max', 'overContext', 'p50', 'p90', 'p99', 'prompt', 'response', 'tokenizer', 'total']);
     for (const x of f.findings) {
       expect(Object.keys(x).sort()).toEqual(['column', 'family', 'line', 'message', 'pointer', 'record', 'recordKey', 'rule', 'severity']);
       expect(['read', 'json', 'encoding', 'chat', 'schema', 'tokens']).toContain(x.family);
