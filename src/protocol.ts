@@ -26,6 +26,8 @@ export interface ShardSummary {
   /** The layout that reads the shard's records, and the share of records it read; null before any record. */
   layout: { id: string; share: number } | null;
   findingsBySeverity: Record<Severity, number>;
+  /** Every finding counted by rule (the list itself may be capped). */
+  findingsByRule?: Record<string, number>;
   /** 'indexing' → 'analysing' → 'done' (or 'failed' / 'cancelled'). */
   phase: 'indexing' | 'analysing' | 'done' | 'failed' | 'cancelled';
   /** 0..1 */

@@ -1,8 +1,11 @@
-// Findings of text shards in the Problems panel, at line:column, capped with one summary entry.
+// Findings in the Problems panel: those of text shards at line:column, those of Parquet and Arrow
+// rows (and of the file as a whole) at the file's start with the row named; capped with one
+// summary entry. They stay while the file is open in any editor.
 
 import * as vscode from 'vscode';
 import type { Finding, Severity } from '../engine/findings.js';
 import type { ShardDocument } from './shardDocument.js';
+import { formatPlace } from '../engine/places.js';
 
 const SEVERITY: Record<Severity, vscode.DiagnosticSeverity> = {
   error: vscode.DiagnosticSeverity.Error,
@@ -26,18 +29,12 @@ export class ShardDiagnostics {
   }
 
   private write(doc: ShardDocument, max: number): void {
-    // Only text shards have lines the Problems panel can point at.
-    if (doc.info && doc.info.format !== 'jsonl' && doc.info.format !== 'json-array') {
-      this.collection.delete(doc.uri);
-      return;
-    }
     const all = doc.tally.sortedFindings();
-    const located = all.filter((f) => f.line !== null);
-    if (located.length === 0 && all.length === 0) {
+    if (all.length === 0) {
       this.collection.delete(doc.uri);
       return;
     }
-    const shown = located.slice(0, max).map((f) => toDiagnostic(f));
+    const shown = all.slice(0, max).map((f) => toDiagnostic(f));
     const hidden = doc.tally.totalFindings - shown.length;
     if (hidden > 0) {
       const d = new vscode.Diagnostic(
@@ -59,16 +56,29 @@ export class ShardDiagnostics {
     this.collection.delete(doc.uri);
   }
 
+  /** The document goes (its record view closed) but its findings stay in Problems. */
+  detach(doc: ShardDocument): void {
+    const t = this.timers.get(doc);
+    if (t) clearTimeout(t);
+    this.timers.delete(doc);
+  }
+
   dispose(): void {
     for (const t of this.timers.values()) clearTimeout(t);
     this.collection.dispose();
   }
 }
 
+export function diagnosticMessage(f: Finding): string {
+  const at = f.pointer ? ` (at ${f.pointer})` : '';
+  // A row has no line the panel can point at: the message names it (one formatter: engine/places.ts).
+  return f.line === null ? `${formatPlace(f)}: ${f.message}${at}` : `${f.message}${at}`;
+}
+
 function toDiagnostic(f: Finding): vscode.Diagnostic {
   const line = Math.max(0, (f.line ?? 1) - 1);
   const col = Math.max(0, (f.column ?? 1) - 1);
-  const d = new vscode.Diagnostic(new vscode.Range(line, col, line, col + 1), f.message, SEVERITY[f.severity]);
+  const d = new vscode.Diagnostic(new vscode.Range(line, col, line, f.line === null ? col : col + 1), diagnosticMessage(f), SEVERITY[f.severity]);
   d.source = 'shardwise';
   d.code = f.rule;
   return d;

@@ -67,7 +67,9 @@ export function activate(context: vscode.ExtensionContext): void {
       });
       doc.onDidDispose(() => {
         docs.delete(doc);
-        diagnostics.clear(doc);
+        // Findings stay while the file is open in a text editor; they go when that closes too.
+        if (!vscode.workspace.textDocuments.some((t) => t.uri.toString() === doc.uri.toString())) diagnostics.clear(doc);
+        else diagnostics.detach(doc);
       });
     }
     if (doc.settings) diagnostics.update(doc, doc.settings.maxProblems);
@@ -130,6 +132,9 @@ export function activate(context: vscode.ExtensionContext): void {
       if (target) await vscode.commands.executeCommand('vscode.openWith', target, 'default');
     }),
     vscode.commands.registerCommand('shardwise.showReport', () => vscode.commands.executeCommand(`${PANEL_VIEW_ID}.focus`)),
+    vscode.workspace.onDidCloseTextDocument((t) => {
+      if (![...docs].some((d) => d.uri.toString() === t.uri.toString())) diagnostics.collection.delete(t.uri);
+    }),
     // Trust granted: the settings held back apply now.
     vscode.workspace.onDidGrantWorkspaceTrust(() => {
       for (const d of docs) void d.analyze();

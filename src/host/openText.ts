@@ -44,7 +44,8 @@ export async function openAtFinding(doc: ShardDocument, entry: number, finding?:
   if (doc.uri.scheme === 'file') size = (await stat(doc.uri.fsPath).catch(() => ({ size: Infinity }))).size;
   if (line !== null && isPlainText(doc.fileName) && size <= doc.settings.textEditorMaxBytes) {
     const pos = new vscode.Position(line - 1, column - 1);
-    return vscode.window.showTextDocument(doc.uri, { selection: new vscode.Range(pos, pos), preview: true });
+    // Beside the record view, never instead of it (a preview tab would replace the record view's own preview tab).
+    return vscode.window.showTextDocument(doc.uri, { selection: new vscode.Range(pos, pos), preview: true, viewColumn: vscode.ViewColumn.Beside });
   }
 
   // Large, compressed or columnar: a read-only document with just this record.
@@ -69,5 +70,5 @@ export async function openAtFinding(doc: ShardDocument, entry: number, finding?:
   });
   recordTexts.put(uri, text);
   const td = await vscode.workspace.openTextDocument(uri);
-  return vscode.window.showTextDocument(td, { selection: new vscode.Range(cursor, cursor), preview: true });
+  return vscode.window.showTextDocument(td, { selection: new vscode.Range(cursor, cursor), preview: true, viewColumn: vscode.ViewColumn.Beside });
 }

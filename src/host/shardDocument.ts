@@ -246,6 +246,7 @@ export class ShardDocument implements vscode.CustomDocument {
       tokenizerLabel: tokenizerLabel(tokenizerOf(this.settings.config)),
       layout: this.tally.layout(),
       findingsBySeverity: { ...this.tally.bySeverity },
+      findingsByRule: Object.fromEntries(this.tally.byRule),
       phase: this.phase,
       progress: this.progress,
       error: this.error,

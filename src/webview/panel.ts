@@ -14,7 +14,13 @@ const SEVERITY_LABEL: Record<Severity, string> = { error: 'Errors', warning: 'Wa
 interface PanelState {
   hidden: Severity[];
   text: string;
+  /** Rule groups the person opened or closed (others follow the default: open unless large). */
+  toggled?: Record<string, boolean>;
 }
+
+/** A rule group with more findings than this starts closed: its count says enough until opened. */
+const OPEN_UP_TO = 20;
+const SEVERITY_RANK: Record<Severity, number> = { error: 0, warning: 1, info: 2 };
 
 const vscode = connect<PanelToHost>();
 const saved = (vscode.getState() ?? {}) as Partial<PanelState>;
@@ -24,6 +30,7 @@ let summary: ShardSummary | null = null;
 let findings: FindingView[] = [];
 let totalFindings = 0;
 let renderLimit = RENDER_BATCH;
+const toggled = new Map<string, boolean>(Object.entries(saved.toggled ?? {}).filter(([, v]) => typeof v === 'boolean'));
 
 const root = document.getElementById('sw-root') ?? document.body.appendChild(h('div', 'sw-root'));
 root.classList.add('sw-panel');
@@ -75,7 +82,7 @@ content.hidden = true;
 emptyEl.hidden = true;
 
 function saveState(): void {
-  vscode.setState({ hidden: [...hidden], text: filterText } satisfies PanelState);
+  vscode.setState({ hidden: [...hidden], text: filterText, toggled: Object.fromEntries(toggled) } satisfies PanelState);
 }
 
 textInput.addEventListener('input', () => {
@@ -194,7 +201,7 @@ function renderSummary(s: ShardSummary): void {
 // ---- findings ----
 function matches(f: FindingView, needle: string): boolean {
   if (!needle) return true;
-  return `${str(f.rule)}\n${str(f.message)}\n${str(f.place)}`.toLowerCase().includes(needle);
+  return `${str(f.rule)}\n${str(f.message)}\n${str(f.place)}\n${str(f.pointer ?? '')}`.toLowerCase().includes(needle);
 }
 
 function renderFindings(): void {
@@ -213,7 +220,36 @@ function renderFindings(): void {
 
   listEl.replaceChildren();
   const frag = document.createDocumentFragment();
-  for (const f of shown.slice(0, renderLimit)) frag.append(findingItem(f));
+  // Grouped by rule, most severe first, then the largest; each group collapsible with its count.
+  const groups = new Map<string, FindingView[]>();
+  for (const f of shown) {
+    const g = groups.get(str(f.rule));
+    if (g) g.push(f);
+    else groups.set(str(f.rule), [f]);
+  }
+  const worst = (g: FindingView[]) => Math.min(...g.map((f) => SEVERITY_RANK[isSeverity(f.severity) ? f.severity : 'info']));
+  const byRule = (summary?.findingsByRule ?? {}) as Record<string, number>;
+  const ordered = [...groups.entries()].sort((a, b) => worst(a[1]) - worst(b[1]) || (byRule[b[0]] ?? b[1].length) - (byRule[a[0]] ?? a[1].length) || (a[0] < b[0] ? -1 : 1));
+  let budget = renderLimit;
+  let first = true;
+  for (const [rule, list] of ordered) {
+    const total = Math.max(list.length, Number(byRule[rule]) || 0);
+    const open = toggled.get(rule) ?? list.length <= OPEN_UP_TO;
+    frag.append(groupHead(rule, list, total, open));
+    if (!open) continue;
+    const body = h('div', 'sw-group-body');
+    body.setAttribute('role', 'group');
+    body.setAttribute('aria-label', rule);
+    for (const f of list.slice(0, Math.max(0, budget))) {
+      const item = findingItem(f);
+      // A roving tab index: one stop for the whole list, arrows move within it.
+      item.tabIndex = first ? 0 : -1;
+      first = false;
+      body.append(item);
+    }
+    budget -= list.length;
+    frag.append(body);
+  }
   listEl.append(frag);
   if (!shown.length) {
     const none = h('div', 'sw-muted sw-no-findings');
@@ -222,7 +258,7 @@ function renderFindings(): void {
     else none.append(h('span', '', 'No findings yet.'));
     listEl.append(none);
   }
-  moreButton.hidden = shown.length <= renderLimit;
+  moreButton.hidden = budget >= 0;
   moreButton.textContent = `Show ${formatCount(Math.min(RENDER_BATCH, shown.length - renderLimit))} more`;
 
   const notes: string[] = [];
@@ -234,10 +270,47 @@ function renderFindings(): void {
   if (focusedId) (listEl.querySelector(`.sw-finding[data-id="${Number(focusedId)}"]`) as HTMLElement | null)?.focus();
 }
 
+/** Moves the list's one tab stop to `el` and focuses it. */
+function moveFocus(el: HTMLElement): void {
+  for (const x of listEl.querySelectorAll<HTMLElement>('[tabindex="0"]')) x.tabIndex = -1;
+  el.tabIndex = 0;
+  el.focus();
+}
+
+function groupHead(rule: string, list: FindingView[], total: number, open: boolean): HTMLElement {
+  const sev: Severity = list.reduce<Severity>((w, f) => (isSeverity(f.severity) && SEVERITY_RANK[f.severity] < SEVERITY_RANK[w] ? f.severity : w), 'info');
+  const head = h('button', 'sw-group-head');
+  head.type = 'button';
+  head.tabIndex = -1;
+  head.dataset.rule = rule;
+  head.setAttribute('aria-expanded', String(open));
+  head.append(icon(open ? 'chevron-down' : 'chevron-right', 'sw-group-chevron'), severityIcon(sev), h('span', 'sw-rule', rule), h('span', 'sw-group-count', formatCount(total)));
+  head.title = `${formatCount(total)} ${total === 1 ? 'finding' : 'findings'} of ${rule}${list.length < total ? ` (${formatCount(list.length)} listed)` : ''}`;
+  const toggle = () => {
+    toggled.set(rule, !open);
+    saveState();
+    renderFindings();
+    (listEl.querySelector(`.sw-group-head[data-rule="${CSS.escape(rule)}"]`) as HTMLElement | null)?.focus();
+  };
+  head.addEventListener('click', toggle);
+  head.addEventListener('keydown', (ev) => {
+    if (ev.key === 'ArrowRight' && !open) toggle();
+    else if (ev.key === 'ArrowLeft' && open) toggle();
+    else if (ev.key === 'ArrowDown' || ev.key === 'ArrowUp') {
+      ev.preventDefault();
+      const all = [...listEl.querySelectorAll<HTMLElement>('.sw-finding, .sw-group-head')];
+      const i = all.indexOf(head);
+      const sib = all[ev.key === 'ArrowDown' ? i + 1 : i - 1];
+      if (sib) moveFocus(sib);
+    }
+  });
+  return head;
+}
+
 function findingItem(f: FindingView): HTMLElement {
   const sev: Severity = isSeverity(f.severity) ? f.severity : 'info';
   const item = h('div', 'sw-finding');
-  item.tabIndex = 0;
+  item.tabIndex = -1;
   item.setAttribute('role', 'option');
   item.dataset.id = String(f.id);
   item.dataset.severity = sev;
@@ -246,7 +319,10 @@ function findingItem(f: FindingView): HTMLElement {
   const text = h('div', 'sw-finding-text');
   const top = h('div', 'sw-finding-top');
   top.append(h('span', 'sw-rule', str(f.rule)), h('span', 'sw-place', str(f.place)));
-  text.append(top, h('div', 'sw-message', str(f.message)));
+  const message = h('div', 'sw-message', str(f.message));
+  // The field path, as the CLI prints it ("at /messages/3/content").
+  if (f.pointer) message.append(h('span', 'sw-pointer', ` at ${str(f.pointer)}`));
+  text.append(top, message);
   const open = iconButton('go-to-file', 'Open at line', 'sw-open-text');
   open.addEventListener('click', (ev) => {
     ev.stopPropagation();
@@ -261,8 +337,10 @@ function findingItem(f: FindingView): HTMLElement {
       vscode.postMessage({ type: 'reveal', id: f.id });
     } else if (ev.key === 'ArrowDown' || ev.key === 'ArrowUp') {
       ev.preventDefault();
-      const sib = ev.key === 'ArrowDown' ? item.nextElementSibling : item.previousElementSibling;
-      if (sib instanceof HTMLElement && sib.classList.contains('sw-finding')) sib.focus();
+      const all = [...listEl.querySelectorAll<HTMLElement>('.sw-finding, .sw-group-head')];
+      const i = all.indexOf(item);
+      const sib = all[ev.key === 'ArrowDown' ? i + 1 : i - 1];
+      if (sib) moveFocus(sib);
     }
   });
   return item;
@@ -283,7 +361,7 @@ function onMessage(m: HostToPanel): void {
     if (summary && summary.path !== m.summary.path && filterText) {
       filterText = '';
       textInput.value = '';
-      vscode.setState({ hidden: [...hidden], text: filterText } satisfies PanelState);
+      saveState();
     }
     summary = m.summary;
     findings = Array.isArray(m.findings) ? m.findings.filter((f) => f && typeof f === 'object') : [];

@@ -42,7 +42,7 @@ describe('side panel', () => {
         assert.match(await view.page.textContent('[data-stat="layout"]'), /99\.8% of records/);
         assert.equal(await view.page.textContent('[data-stat="overContext"]'), 'Over 8,192 tokens: 3 records');
         assert.equal(await view.page.textContent('.sw-encoding'), 'cl100k_base');
-        assert.deepEqual(await ids(view.page), [1, 2, 3, 4]);
+        assert.deepEqual(await ids(view.page), [1, 2, 4, 3]);
         assert.equal(await view.page.isHidden('.sw-capped'), true);
         await screenshot(view.page, `panel-${theme}`);
         assert.deepEqual(view.errors, []);
@@ -76,10 +76,19 @@ describe('side panel', () => {
 
       mark = view.posted.length;
       await view.page.focus('.sw-finding[data-id="1"]');
-      await view.page.keyboard.press('ArrowDown');
-      await view.page.keyboard.press('ArrowDown');
+      // The list is one tab stop (a roving tab index); arrows walk findings and their rule headings.
+      assert.equal(await view.page.$$eval('.sw-findings [tabindex="0"]', (x) => x.length), 1);
+      await view.page.keyboard.press('ArrowDown'); // the heading of chat-role-repeated
+      await view.page.keyboard.press('ArrowDown'); // its finding, id 2
+      assert.deepEqual(await view.page.$$eval('.sw-findings [tabindex="0"]', (x) => x.map((e) => e.dataset.id)), ['2']);
       await view.page.keyboard.press('Enter');
-      assert.deepEqual(await view.waitForPost((m) => m.type !== 'ready', { from: mark }), { type: 'reveal', id: 3 });
+      assert.deepEqual(await view.waitForPost((m) => m.type !== 'ready', { from: mark }), { type: 'reveal', id: 2 });
+      // A heading closes with ArrowLeft and its findings leave the list; ArrowRight opens it again.
+      await view.page.focus('.sw-group-head[data-rule="line-blank"]');
+      await view.page.keyboard.press('ArrowLeft');
+      assert.deepEqual(await ids(view.page), [1, 2, 3]);
+      await view.page.keyboard.press('ArrowRight');
+      assert.deepEqual(await ids(view.page), [1, 2, 4, 3]);
 
       mark = view.posted.length;
       await view.page.hover('.sw-finding[data-id="4"]');
@@ -115,7 +124,7 @@ describe('side panel', () => {
       const other = panelState();
       await view.send({ ...other, summary: { ...other.summary, path: '/data/other.jsonl', fileName: 'other.jsonl' } });
       assert.equal(await view.page.inputValue('.sw-filter-text'), '');
-      assert.deepEqual(await ids(view.page), [1, 2, 3, 4]);
+      assert.deepEqual(await ids(view.page), [1, 2, 4, 3]);
     } finally {
       await view.close();
     }
@@ -127,8 +136,14 @@ describe('side panel', () => {
       const findings = [];
       for (let i = 0; i < 1200; i++) findings.push(finding(i + 1, i % 2 ? 'warning' : 'error', 'chat-role', `Unknown role on turn ${i}`, i));
       const s = panelState();
-      await view.send({ ...s, findings, totalFindings: 48_213 });
+      await view.send({ ...s, findings, totalFindings: 48_213, summary: { ...s.summary, findingsByRule: { 'chat-role': 48_213 } } });
       assert.match(await view.page.textContent('.sw-capped'), /Showing 1,200 of 48,213 findings/);
+      // A large rule group starts closed, with its whole count; opening it lists its findings.
+      assert.deepEqual(await ids(view.page), []);
+      assert.equal(await view.page.textContent('.sw-group-head[data-rule="chat-role"] .sw-group-count'), '48,213');
+      assert.equal(await view.page.getAttribute('.sw-group-head[data-rule="chat-role"]', 'aria-expanded'), 'false');
+      await view.page.click('.sw-group-head[data-rule="chat-role"]');
+      assert.equal(await view.page.getAttribute('.sw-group-head[data-rule="chat-role"]', 'aria-expanded'), 'true');
       const shown = (await ids(view.page)).length;
       assert.ok(shown > 0 && shown <= 1200);
       if (shown < 1200) {
@@ -155,7 +170,9 @@ describe('side panel', () => {
       assert.equal(await view.page.$$eval('img, svg, script:not([nonce])', (x) => x.length), 0);
       assert.equal(await view.page.textContent('.sw-summary .sw-file-name'), HOSTILE_TEXT);
       const messages = await view.page.$$eval('.sw-findings .sw-message', (ms) => ms.map((m) => m.textContent));
-      assert.deepEqual(messages, HOSTILE);
+      // Grouped by rule (here each hostile text is its own rule): every one shown, literally.
+      assert.deepEqual([...messages].sort(), [...HOSTILE].sort());
+      assert.deepEqual((await view.page.$$eval('.sw-group-head .sw-rule', (ms) => ms.map((m) => m.textContent))).sort(), [...HOSTILE].sort());
       assert.equal(await view.page.textContent('.sw-summary .sw-banner-text'), HOSTILE[2]);
       await view.send({ type: 'empty', message: HOSTILE_TEXT });
       assert.equal(await view.page.textContent('.sw-empty-text'), HOSTILE_TEXT);

@@ -347,6 +347,8 @@ async function main() {
     // RFC 8259 §2–§7: a value or member name starts with one of these characters.
     const ch = facts.get(chat).lines[at.line - 1][at.column - 1];
     assert(ch !== undefined && /["{[\-0-9tfn]/.test(ch), `the cursor is not at the start of a JSON value or name (found ${JSON.stringify(ch)})`);
+    // The record view is still open beside the text (its tab is not replaced), and its findings still count.
+    await wb.recordView(chat, 10000);
     // Leave the panel unfiltered for the next shards' screenshots.
     await frame.locator('.sw-filter-text').fill('');
   });
