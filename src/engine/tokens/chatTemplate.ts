@@ -47,14 +47,31 @@ export interface RenderedConversation {
   spans: TrainedSpan[];
 }
 
+/** Marks written where a template's `{% generation %}` and `{% endgeneration %}` tags stand (private-use characters). */
+const GEN_OPEN = '\uE000\uE001';
+const GEN_CLOSE = '\uE001\uE000';
+const GENERATION_TAG = /\{%(-?)\s*(end)?generation\s*(-?)%\}/g;
+
 export class ChatTemplate {
   private readonly template: Template;
+  /** The template with its generation tags writing marks instead, when it has such tags. */
+  private readonly marked: Template | null = null;
 
   constructor(readonly spec: ChatTemplateSpec) {
     try {
       this.template = new Template(spec.source);
     } catch (err) {
       throw new TokenizerError(`The chat template (${spec.origin}) does not parse: ${(err as Error).message}`);
+    }
+    if (/\{%-?\s*generation\s*-?%\}/.test(spec.source)) {
+      // Each tag becomes a block that writes a mark, keeping the tag's white-space control (and,
+      // being block tags too, trim_blocks and lstrip_blocks treat them as they treat the tag).
+      const source = spec.source.replace(GENERATION_TAG, (_, l: string, end: string | undefined, r: string) => `{%${l} if true %}{{ "${end ? GEN_CLOSE : GEN_OPEN}" }}{% endif ${r}%}`);
+      try {
+        this.marked = new Template(source);
+      } catch {
+        this.marked = null;
+      }
     }
   }
 
@@ -71,9 +88,12 @@ export class ChatTemplate {
    * it ends (less what the template writes after any conversation, such as a header for the next
    * answer). Templates that render an earlier turn differently once later turns follow (reasoning
    * dropped from past turns) are aligned by the longest tail of the prefix found in the text.
+   * A template with generation tags marks the spans itself.
    */
   renderWithSpans(conv: Conversation): RenderedConversation {
     const text = this.render(conv.messages, conv.tools);
+    const marked = this.markedSpans(conv, text);
+    if (marked) return { text, spans: marked };
     const spans: TrainedSpan[] = [];
     let floor = 0;
     conv.messages.forEach((_, i) => {
@@ -99,6 +119,46 @@ export class ChatTemplate {
       floor = end;
     });
     return { text, spans };
+  }
+
+  /**
+   * The spans a template's generation tags mark, one per assistant message in order; null when
+   * the template has none, or when the marks do not line up with the assistant messages (then
+   * the prefixes decide).
+   */
+  private markedSpans(conv: Conversation, text: string): TrainedSpan[] | null {
+    if (!this.marked) return null;
+    let out: string;
+    try {
+      out = this.marked.render({ ...this.spec.specials, messages: conv.messages, add_generation_prompt: false, ...(conv.tools?.length ? { tools: conv.tools } : {}) });
+    } catch {
+      return null;
+    }
+    const found: { start: number; end: number }[] = [];
+    let plain = '';
+    let open = -1;
+    let at = 0;
+    for (;;) {
+      const o = out.indexOf(GEN_OPEN, at);
+      const c = out.indexOf(GEN_CLOSE, at);
+      const next = o < 0 ? c : c < 0 ? o : Math.min(o, c);
+      if (next < 0) break;
+      plain += out.slice(at, next);
+      if (next === o) {
+        if (open >= 0) return null;
+        open = plain.length;
+      } else {
+        if (open < 0) return null;
+        found.push({ start: open, end: plain.length });
+        open = -1;
+      }
+      at = next + GEN_OPEN.length;
+    }
+    plain += out.slice(at);
+    // The marks must not have changed the text, and must stand around the assistant turns.
+    const assistants = conv.messages.map((m, i) => (m.role === 'assistant' ? i : -1)).filter((i) => i >= 0);
+    if (open >= 0 || plain !== text || found.length !== assistants.length) return null;
+    return found.map((f, k) => ({ ...f, message: assistants[k]! })).filter((f) => conv.trained[f.message] && f.end > f.start);
   }
 
   private trailerText: string | null = null;

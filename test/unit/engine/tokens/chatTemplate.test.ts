@@ -1,10 +1,14 @@
 // Chat templates of three model families rendered by us (@huggingface/jinja) against Python's
 // jinja2 (the engine the templates are written for) set up as the model-hub library sets it up
-// (from memory: a sandboxed environment with trim_blocks and lstrip_blocks, loop controls, a
-// `tojson` that keeps non-ASCII and key order, `raise_exception` and `strftime_now`); rendered token
+// (from memory: a sandboxed environment with trim_blocks and lstrip_blocks, loop controls, the
+// `generation` block, a `tojson` that keeps non-ASCII and key order, `raise_exception` and
+// `strftime_now`); rendered token
 // totals against the reference Rust tokenizer (npm `tokenizers`); trained spans worked by hand.
 import { spawnSync } from 'node:child_process';
-import { beforeAll, describe, expect, it } from 'vitest';
+import { copyFileSync, mkdtempSync, rmSync, writeFileSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import { join } from 'node:path';
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { withDefaults, type CheckConfig } from '../../../../src/engine/config.js';
 import type { RecordResult } from '../../../../src/engine/checks/check.js';
 import { chatTemplateOf, renderedRecord, tokensCheck } from '../../../../src/engine/checks/tokens.js';
@@ -20,7 +24,18 @@ import json, sys
 from datetime import datetime
 import jinja2
 from jinja2.sandbox import ImmutableSandboxedEnvironment
-from jinja2.ext import loopcontrols
+from jinja2.ext import Extension, loopcontrols
+from jinja2 import nodes
+
+class Generation(Extension):
+    # The {% generation %} block of assistant turns: renders its body unchanged.
+    tags = {"generation"}
+    def parse(self, parser):
+        lineno = next(parser.stream).lineno
+        body = parser.parse_statements(["name:endgeneration"], drop_needle=True)
+        return nodes.CallBlock(self.call_method("_body"), [], [], body).set_lineno(lineno)
+    def _body(self, caller):
+        return caller()
 
 def raise_exception(message):
     raise jinja2.exceptions.TemplateError(message)
@@ -28,7 +43,7 @@ def raise_exception(message):
 def tojson(x, ensure_ascii=False, indent=None, separators=None, sort_keys=False):
     return json.dumps(x, ensure_ascii=ensure_ascii, indent=indent, separators=separators, sort_keys=sort_keys)
 
-env = ImmutableSandboxedEnvironment(trim_blocks=True, lstrip_blocks=True, extensions=[loopcontrols])
+env = ImmutableSandboxedEnvironment(trim_blocks=True, lstrip_blocks=True, extensions=[loopcontrols, Generation])
 env.filters["tojson"] = tojson
 env.globals["raise_exception"] = raise_exception
 env.globals["strftime_now"] = lambda fmt: datetime.now().strftime(fmt)
@@ -233,6 +248,52 @@ describe('trained tokens on hand-worked conversations', () => {
     tokensCheck.checkRecord({ record: 0, value: { messages: [{ role: 'user', content: 'Hello?' }, { role: 'assistant', content: 'Hi.', train: false }] } }, config, out);
     expect(out.trainable).toBe(0);
     expect(out.issues.map((i) => i.rule)).toEqual(['tokens-no-trainable']);
+  }, 60_000);
+});
+
+describe("a template's generation tags", () => {
+  // A ChatML-style template of our own whose generation block covers the answer and its end marker
+  // but not the newline after it (the prefixes would take that newline too): the spans show which
+  // way they were found.
+  const TEMPLATE = [
+    '{% for m in messages %}',
+    "{{ '<|im_start|>' + m.role + '\\n' }}",
+    "{%- if m.role == 'assistant' %}",
+    "  {% generation %}{{ m.content + '<|im_end|>' }}{% endgeneration %}",
+    "{{ '\\n' }}",
+    '{% else %}',
+    "{{ m.content + '<|im_end|>\\n' }}",
+    '{% endif %}',
+    '{% endfor %}',
+  ].join('\n');
+  let dir: string;
+  beforeAll(() => {
+    dir = mkdtempSync(join(tmpdir(), 'shardwise-generation-'));
+    copyFileSync(join(modelFolder('qwen3'), 'tokenizer.json'), join(dir, 'tokenizer.json'));
+    copyFileSync(join(modelFolder('qwen3'), 'tokenizer_config.json'), join(dir, 'tokenizer_config.json'));
+    writeFileSync(join(dir, 'chat_template.jinja'), TEMPLATE);
+  });
+  afterAll(() => rmSync(dir, { recursive: true, force: true }));
+
+  it('mark the trained spans, the rendering equal to jinja2 with its generation block', async () => {
+    const config = withDefaults({ tokenizer: dir });
+    await tokensCheck.prepare!(config);
+    const messages = [
+      { role: 'user', content: 'Brake squeal?' },
+      { role: 'assistant', content: 'Clean the rotor.' },
+      { role: 'user', content: 'Still squeals.' },
+      { role: 'assistant', content: 'Replace the pads.', train: false },
+      { role: 'user', content: 'And now?' },
+      { role: 'assistant', content: 'Bed them in.' },
+    ];
+    const r = renderedRecord({ messages }, config)!;
+    const seq = r.sequences[0]!;
+    const want = pythonRender(TEMPLATE, [{ messages: messages.map(({ role, content }) => ({ role, content })), add_generation_prompt: false }])[0]!;
+    expect({ text: seq.text }).toEqual(want);
+    // By hand: each answer with its end marker, the flagged one left out.
+    expect(seq.spans.map((s) => seq.text.slice(s.start, s.end))).toEqual(['Clean the rotor.<|im_end|>', 'Bed them in.<|im_end|>']);
+    const reference = referenceTokenizer('qwen3');
+    expect(seq.trainable).toBe((await refCount(reference, 'Clean the rotor.<|im_end|>')) + (await refCount(reference, 'Bed them in.<|im_end|>')));
   }, 60_000);
 });
 
