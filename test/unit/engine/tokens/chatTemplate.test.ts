@@ -241,6 +241,27 @@ describe('trained tokens on hand-worked conversations', () => {
     expect(p.rendered).toBe(p.sequences[0]!.rendered + p.sequences[1]!.rendered);
   }, 60_000);
 
+  it("aligns a turn the template renders differently once later turns follow (Qwen 3 drops a past turn's reasoning)", async () => {
+    const config = withDefaults({ tokenizer: modelFolder('qwen3') });
+    await tokensCheck.prepare!(config);
+    const reference = referenceTokenizer('qwen3');
+    const value = {
+      messages: [
+        { role: 'user', content: 'Chain wear?' },
+        { role: 'assistant', reasoning_content: 'Measure with a checker.', content: 'Replace it past 0.5 %.' },
+        { role: 'user', content: 'And the cassette?' },
+        { role: 'assistant', content: 'Check it with a new chain.' },
+      ],
+    };
+    const seq = renderedRecord(value, config)!.sequences[0]!;
+    // By hand from the template: the first answer is rendered without its reasoning (it comes
+    // before the last user turn); the last one gets the empty thinking block.
+    const hand = ['Replace it past 0.5 %.<|im_end|>\n', '<think>\n\n</think>\n\nCheck it with a new chain.<|im_end|>\n'];
+    expect(seq.text).not.toContain('Measure with a checker.');
+    expect(seq.spans.map((s) => seq.text.slice(s.start, s.end))).toEqual(hand);
+    expect(seq.trainable).toBe((await refCount(reference, hand[0]!)) + (await refCount(reference, hand[1]!)));
+  }, 60_000);
+
   it('finds a conversation with no trained token', async () => {
     const config = withDefaults({ tokenizer: modelFolder('llama3') });
     await tokensCheck.prepare!(config);
