@@ -124,6 +124,8 @@ export interface RenderedSequence {
   content: number;
   /** The template's error, when it raised one (then `text` is empty and the counts are the content's). */
   error: string | null;
+  /** Where the error most likely comes from, when a turn can be named. */
+  errorPointer?: string;
   text: string;
   spans: TrainedSpan[];
   /** Tokens of the rendered text (special-token spellings as control tokens). */
@@ -169,7 +171,12 @@ export function renderReading(reading: Reading, record: unknown, tokenizer: Toke
       for (const sp of r.spans) trainable += tokenizer.countRendered(r.text.slice(sp.start, sp.end));
       sequences.push({ name: seq.name, content, error: null, text: r.text, spans: r.spans, rendered: tokenizer.countRendered(r.text), trainable });
     } catch (err) {
-      sequences.push({ name: seq.name, content, error: (err as Error)?.message ?? String(err), text: '', spans: [], rendered: content, trainable: 0 });
+      let error = (err as Error)?.message ?? String(err);
+      // A template that reads a turn's text fails on a turn without any (content null beside tool
+      // calls, or absent): name that turn, the likeliest cause.
+      const bare = /null|undefined|none/i.test(error) ? seq.turns?.find((t) => t.isObject && (t.rawContent === null || !t.contentPresent)) : undefined;
+      if (bare) error += ` (turn ${bare.index + 1} has ${bare.rawContent === null ? 'null content' : 'no content'}; this template expects text there)`;
+      sequences.push({ name: seq.name, content, error, errorPointer: bare ? (bare.rawContent === null ? bare.contentPointer : bare.pointer) : undefined, text: '', spans: [], rendered: content, trainable: 0 });
     }
   }
   if (sequences.length === 0) return null;
@@ -278,7 +285,7 @@ export const tokensCheck: Check = {
           out.issues.push({
             rule: 'tokens-template-error',
             message: `The chat template (${template!.spec.origin}) could not render this conversation${which}: ${s.error}. Its tokens are counted by content alone.`,
-            pointer: where,
+            pointer: s.errorPointer ?? where,
           });
         } else if (s.trainable === 0) {
           out.issues.push({

@@ -333,6 +333,29 @@ describe('template findings at their record', () => {
     expect(o.rendered).toBe(o.tokens);
   }, 60_000);
 
+  it("names the turn whose null content a template cannot read (Qwen 3's, as jinja2 also refuses)", async () => {
+    const config = withDefaults({ tokenizer: modelFolder('qwen3') });
+    await tokensCheck.prepare!(config);
+    const value = {
+      messages: [
+        { role: 'user', content: 'Do you stock 28 mm tubes?' },
+        { role: 'assistant', content: null, tool_calls: [{ id: 'c1', type: 'function', function: { name: 'lookup_part', arguments: '{"name": "tube 28"}' } }] },
+        { role: 'tool', tool_call_id: 'c1', content: '12 in stock' },
+        { role: 'assistant', content: 'Yes, twelve.' },
+      ],
+    };
+    const reading = readRecord(value, config)!;
+    const conv = conversationOf(reading, reading.sequences[0]!, value)!;
+    const spec = (await loadTokenizer(modelFolder('qwen3'))).chatTemplate!;
+    const [py] = pythonRender(spec.source, [{ ...spec.specials, messages: conv.messages, add_generation_prompt: false }]);
+    expect(py).toHaveProperty('error');
+    const out: RecordResult = { issues: [] };
+    tokensCheck.checkRecord({ record: 0, value }, config, out);
+    const f = out.issues.find((i) => i.rule === 'tokens-template-error')!;
+    expect(f.pointer).toBe('/messages/1/content');
+    expect(f.message).toMatch(/turn 2 has null content/);
+  }, 60_000);
+
   it('is tokens-rendered-over-context when the rendered form is over the context length, though the content is not', async () => {
     const folder = modelFolder('qwen3');
     const base = withDefaults({ tokenizer: folder });
