@@ -2,7 +2,8 @@
 // the text between added tokens) against the reference Rust implementation (npm `tokenizers`) and
 // against the same JavaScript library without our cache, on generated chat records of the repair
 // co-op (a shared system prompt, repeated phrases, CJK, emoji, code), measured in the same run.
-// Also: rendering each record with the model's chat template, then counting it. Prints ratios.
+// Also: rendering each record with the model's chat template, then counting it; and two very long
+// words, which the library's own merge routine takes seconds over. Prints ratios.
 // Usage: node scripts/bench-model-tokens.mjs [records=4000] [family=qwen3]   (family: qwen3, llama3, gemma3)
 import { build } from 'esbuild';
 import { mkdtempSync, readFileSync, rmSync } from 'node:fs';
@@ -79,10 +80,21 @@ try {
       `count rendered, reference (Rust, batch)            ${refRendered.ms.toFixed(0).padStart(7)} ms   1.00×\n` +
       `count rendered, ours (cache between added tokens)  ${oursRendered.ms.toFixed(0).padStart(7)} ms   ${(oursRendered.ms / refRendered.ms).toFixed(2)}×  (${oursRendered.r} tokens)`;
   }
+  // One very long word (a run of spaces, as padding in scraped text holds): the library's own merge
+  // routine against ours for such words (longWords.ts) and the reference.
+  const word = ' '.repeat(200_000) + 'x'.repeat(200_000);
+  const refWord = await time(async () => (await rust.encode(word, null, { addSpecialTokens: false })).getIds().length);
+  const plainWord = await time(() => lib.encode(word, { add_special_tokens: false }).ids.length);
+  const oursWord = await time(() => ours.count(word));
+  if (plainWord.r !== refWord.r || oursWord.r !== refWord.r) throw new Error(`long-word counts differ: reference ${refWord.r}, library ${plainWord.r}, ours ${oursWord.r}`);
+  const wordRows =
+    `\ntwo 200,000-character words, reference (Rust)       ${refWord.ms.toFixed(0).padStart(7)} ms   1.00×\n` +
+    `two 200,000-character words, library alone          ${plainWord.ms.toFixed(0).padStart(7)} ms   ${(plainWord.ms / refWord.ms).toFixed(2)}×\n` +
+    `two 200,000-character words, ours                   ${oursWord.ms.toFixed(0).padStart(7)} ms   ${(oursWord.ms / refWord.ms).toFixed(2)}×`;
   console.log(`${family}: ${records} records, ${pieces.length} pieces, ${(chars / 1e6).toFixed(1)} M characters, ${ref.r} tokens (equal in all three)`);
   console.log(`reference (Rust tokenizers, batch)           ${ref.ms.toFixed(0).padStart(7)} ms   1.00×`);
   console.log(`@huggingface/tokenizers without our cache    ${plain.ms.toFixed(0).padStart(7)} ms   ${(plain.ms / ref.ms).toFixed(2)}×`);
-  console.log(`ours (exact count cache)                     ${cached.ms.toFixed(0).padStart(7)} ms   ${(cached.ms / ref.ms).toFixed(2)}×${renderedRows}`);
+  console.log(`ours (exact count cache)                     ${cached.ms.toFixed(0).padStart(7)} ms   ${(cached.ms / ref.ms).toFixed(2)}×${renderedRows}${wordRows}`);
 } finally {
   rmSync(out, { recursive: true, force: true });
 }

@@ -9,6 +9,7 @@ import { join } from 'node:path';
 import { Tokenizer as HfTokenizer } from '@huggingface/tokenizers';
 import type { ChatTemplateSpec } from './chatTemplate.js';
 import { spellingFinder } from './counter.js';
+import { speedUpLongWords } from './longWords.js';
 import { modelFolderProblem } from './resolve.js';
 import { TokenizerError, tokenizerLabel, type Tokenizer } from './tokenizer.js';
 
@@ -127,6 +128,7 @@ export async function loadModelTokenizer(path: string): Promise<ModelTokenizer> 
   } catch (err) {
     throw new TokenizerError(`${tokenizerPath} could not be read as a tokenizer: ${(err as Error).message}`);
   }
+  speedUpLongWords(hf.model);
   const template = await chatTemplateOf(folder, config);
   const added = (Array.isArray(json.added_tokens) ? json.added_tokens : []) as AddedToken[];
   // Control tokens are the added tokens marked special; the others (Gemma's runs of newlines or

@@ -7,6 +7,7 @@ import { join } from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { loadTokenizer, resolveTokenizerValue, TokenizerError, type Tokenizer } from '../../../../src/engine/tokens/index.js';
 import { loadModelTokenizer } from '../../../../src/engine/tokens/model.js';
+import { LONG_WORD } from '../../../../src/engine/tokens/longWords.js';
 import { withDefaults } from '../../../../src/engine/config.js';
 import type { RecordResult } from '../../../../src/engine/checks/check.js';
 import { tokensCheck } from '../../../../src/engine/checks/tokens.js';
@@ -62,6 +63,25 @@ describe.each(FAMILIES)('%s tokenizer.json against the reference Rust implementa
       }
     });
     expect(first).toBeNull();
+  }, 120_000);
+
+  it('gives the reference\'s ids on words too long for the library\'s own merge routine (runs of every white-space-like character, repeated punctuation, CJK)', async () => {
+    // Oracle: tokenizers (Rust). Each text holds one word of LONG_WORD characters or more.
+    const rand = prng(0x10c9 + family.length);
+    const texts: string[] = [];
+    for (const ch of [...SPACE_LIKE.filter((c) => !/[\uD800-\uDFFF]/.test(c)), 'x', '-', '=', '自', '🚲', 'é']) {
+      texts.push(ch.repeat(LONG_WORD + Math.floor(rand() * 4000)));
+    }
+    for (let i = 0; i < 20; i++) {
+      const unit = ['ab', 'Qu', '--=', ' \t', 'ñ', '12'][i % 6]!;
+      texts.push(`start ${unit.repeat(Math.ceil((LONG_WORD + rand() * 6000) / unit.length))} end`);
+    }
+    const expected = await reference.encodeBatch(texts, { addSpecialTokens: false });
+    texts.forEach((text, i) => {
+      const want = expected[i]!.getIds();
+      expect(differs(ours.encode(text), want), `text #${i}: ${escapeText(text.slice(0, 12))}… (${text.length} characters)`).toBe(false);
+      expect(ours.count(text)).toBe(want.length);
+    });
   }, 120_000);
 
   it('reads its own special-token spellings as control tokens, as the reference does', async () => {
