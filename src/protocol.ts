@@ -8,6 +8,8 @@ export type { TokenSummary } from './engine/stats/tally.js';
 // The engine's types the webviews need, re-exported: the webviews import only from this file.
 export type { Severity } from './engine/findings.js';
 export type { ColumnInfo, FormatName, GroupInfo } from './engine/sources/source.js';
+export type { FilterSpec, SearchSpec, SortSpec, ViewQuery } from './engine/query.js';
+import type { ViewQuery } from './engine/query.js';
 import type { TokenSummary } from './engine/stats/tally.js';
 
 export interface ShardSummary {
@@ -200,6 +202,12 @@ export type HostToRecordView =
   | { type: 'error'; message: string }
   /** A one-line note above the table (Restricted Mode holding settings back), with an action the host runs. */
   | { type: 'notice'; message: string; action?: { label: string; id: 'manageTrust' } }
+  /**
+   * The view's search, sort or filter: `active` false shows the whole shard in file order. While
+   * the worker searches, `searching` is its share done (0..1); `error` says why a query cannot run.
+   * With a view on, every position the view and the host exchange is a position in the view.
+   */
+  | { type: 'view'; active: boolean; count: number; total: number; label: string; query: ViewQuery | null; searching?: number; error?: string }
   /** The typed place is not one, or not in the shard: shown beside the box. */
   | { type: 'gotoInvalid'; message: string };
 
@@ -209,6 +217,12 @@ export type RecordViewToHost =
   | { type: 'requestDetail'; entry: number; reveal?: string }
   /** A place as the person typed it (`12`, `line 40`, `row 7`): the host parses it, as it does the palette's. */
   | { type: 'goto'; text: string }
+  /** Search, sort or filter the whole shard (null: back to the file's order). */
+  | { type: 'query'; query: ViewQuery | null }
+  /** F8 / Shift+F8: the next or previous record with a finding after position `from`. */
+  | { type: 'step'; direction: 1 | -1; from: number }
+  /** Filter by a rule picked from the shard's rules (the host shows the pick). */
+  | { type: 'pickRule' }
   /** The notice's action was clicked. */
   | { type: 'noticeAction'; id: 'manageTrust' }
   | { type: 'openText'; entry: number; pointer?: string }
@@ -229,7 +243,9 @@ export type HostToPanel =
 export type PanelToHost =
   | { type: 'ready' }
   | { type: 'reveal'; id: number }
-  | { type: 'openText'; id: number };
+  | { type: 'openText'; id: number }
+  /** A figure clicked: show those records in the record view (sorted or filtered there). */
+  | { type: 'showRecords'; what: 'max' | 'p99' | 'overContext' };
 
 export function isMessage(x: unknown): x is { type: string } {
   return typeof x === 'object' && x !== null && typeof (x as { type?: unknown }).type === 'string';

@@ -127,6 +127,14 @@ export function activate(context: vscode.ExtensionContext): void {
       if (d) d.cancel();
       else for (const x of docs) if (x.phase === 'analysing') x.cancel();
     }),
+    // The record view's row context menu: the context carries the view position (and a cell's column).
+    ...(['copyRecord', 'copyPlace', 'openAtLine', 'showInPanel', 'filterLikeThis'] as const).map((action) =>
+      vscode.commands.registerCommand(`shardwise.row.${action}`, (ctx?: { position?: unknown; column?: unknown }) => {
+        const a = editors.active;
+        const pos = typeof ctx?.position === 'number' ? ctx.position : -1;
+        if (a && pos >= 0) return a.rowAction(action, pos, typeof ctx?.column === 'string' ? ctx.column : undefined);
+      }),
+    ),
     vscode.commands.registerCommand('shardwise.reopenAsText', async (uri?: vscode.Uri) => {
       const target = uri instanceof vscode.Uri ? uri : activeDoc()?.uri;
       if (target) await vscode.commands.executeCommand('vscode.openWith', target, 'default');

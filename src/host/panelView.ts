@@ -67,6 +67,17 @@ export class PanelViewProvider implements vscode.WebviewViewProvider {
         this.editors.revealInActive(this.doc, f.entry, f.pointer ?? undefined);
         return;
       }
+      case 'showRecords': {
+        if (!this.doc) return;
+        const t = this.doc.tally.tokenStats(this.doc.settings.config.contextLength);
+        const longest = { key: 'tokens' as const, descending: true };
+        const q =
+          msg.what === 'max' ? { sort: longest }
+          : msg.what === 'p99' ? { filter: { kind: 'tokensAtLeast' as const, tokens: t.p99 }, sort: longest }
+          : { filter: { kind: 'overContext' as const }, sort: longest };
+        this.editors.queryInActive(this.doc, q, msg.what === 'max');
+        return;
+      }
       case 'openText': {
         const f = this.doc?.findingById(msg.id);
         if (!f || !this.doc || f.entry === null) return;

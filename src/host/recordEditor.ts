@@ -1,5 +1,8 @@
 // The read-only custom editor: one webview per open shard, paging records from the shard's worker.
 
+import { ViewOrder } from './viewOrder.js';
+import { scalarAt, type ViewQuery } from '../engine/query.js';
+import type { Entry } from '../engine/sources/source.js';
 import { PLACE_HINT, formatPlace, parsePlace, type PlaceKind } from '../engine/places.js';
 import * as vscode from 'vscode';
 import { readRecord } from '../engine/layouts/index.js';
@@ -15,10 +18,17 @@ import { webviewHtml } from './webviewAssets.js';
 
 export const RECORD_VIEW_TYPE = 'shardwise.recordView';
 
+export type RowAction = 'copyRecord' | 'copyPlace' | 'openAtLine' | 'showInPanel' | 'filterLikeThis';
+
 export interface ActiveShard {
   document: ShardDocument;
   panel: vscode.WebviewPanel;
+  /** Selects a file entry (leaving the view's filter when it hides the entry). */
   select(entry: number, pointer?: string): void;
+  /** Searches, sorts or filters the record view (null: the whole shard in file order). */
+  query(q: ViewQuery | null, selectFirst?: boolean): void;
+  /** A row's context-menu action, at a position of the view (and a column, for a cell). */
+  rowAction(action: RowAction, position: number, column?: string): Promise<void>;
 }
 
 export class RecordEditorProvider implements vscode.CustomReadonlyEditorProvider<ShardDocument> {
@@ -55,10 +65,84 @@ export class RecordEditorProvider implements vscode.CustomReadonlyEditorProvider
     let loaded = false;
     let loadError: string | null = null;
 
+    // ---- the view's order (search, sort, filter): positions ↔ entries ----
+    let view: ViewOrder | null = null;
+    let viewGen = 0;
+    const toEntry = (pos: number) => (view ? view.entryAt(pos) : pos);
+    const toPos = (entry: number) => (view ? view.positionOf(entry) : entry);
+    const postView = (extra: { searching?: number; error?: string } = {}) => {
+      const total = document.info?.entries ?? 0;
+      post({ type: 'view', active: view !== null, count: view ? view.count : total, total, label: view?.label ?? '', query: view?.query ?? null, ...extra });
+    };
+    const runQuery = async (q: ViewQuery | null) => {
+      const gen = ++viewGen;
+      const empty = !q || (!q.filter && !q.sort && !(q.search && q.search.text !== ''));
+      if (empty) {
+        view = null;
+        postView();
+        return;
+      }
+      try {
+        const built = await ViewOrder.build(document, q!, (share) => {
+          if (gen === viewGen) postView({ searching: share });
+        });
+        if (gen !== viewGen) return;
+        view = built;
+        postView();
+      } catch (err) {
+        if (gen !== viewGen || (err as Error).name === 'AbortError') return;
+        postView({ error: (err as Error).message });
+      }
+    };
+    /** Selects an entry, leaving the view first when it does not show it. */
+    const selectEntry = (entry: number, pointer?: string) => {
+      if (view && view.positionOf(entry) < 0) {
+        view = null;
+        viewGen++;
+        postView();
+      }
+      post({ type: 'select', entry: toPos(entry), pointer });
+    };
     const editor: ActiveShard = {
       document,
       panel,
-      select: (entry, pointer) => post({ type: 'select', entry, pointer }),
+      select: (entry, pointer) => selectEntry(entry, pointer),
+      rowAction: async (action, position, column) => {
+        const entry = toEntry(position);
+        if (entry < 0) return;
+        const [e] = await document.session!.read(entry, entry + 1);
+        if (!e) return;
+        switch (action) {
+          case 'copyRecord':
+            await vscode.env.clipboard.writeText(e.value !== undefined ? JSON.stringify(e.value) : (e.text ?? ''));
+            return;
+          case 'copyPlace': {
+            const rel = vscode.workspace.asRelativePath(document.uri, false);
+            await vscode.env.clipboard.writeText(e.line !== null ? `${rel}:${e.line}` : `${rel}#${formatPlace({ line: null, entry: e.entry }).replace(' ', '')}`);
+            return;
+          }
+          case 'openAtLine':
+            await openAtFinding(document, entry, undefined);
+            return;
+          case 'showInPanel':
+            await vscode.commands.executeCommand('shardwise.showReport');
+            post({ type: 'select', entry: position });
+            return;
+          case 'filterLikeThis': {
+            const value = column !== undefined ? scalarAt(e.value, column) : undefined;
+            if (column === undefined || value === undefined) {
+              void vscode.window.showInformationMessage(`Shardwise: "${column ?? ''}" of this record is not a single value to filter by.`);
+              return;
+            }
+            await runQuery({ ...(view?.query ?? {}), filter: { kind: 'column', column, value } });
+            return;
+          }
+        }
+      },
+      query: (q, selectFirst) =>
+        void runQuery(q).then(() => {
+          if (selectFirst && view && view.count > 0) post({ type: 'select', entry: 0 });
+        }),
     };
     this.editors.add(editor);
     const setActive = () => {
@@ -132,7 +216,8 @@ export class RecordEditorProvider implements vscode.CustomReadonlyEditorProvider
         post({ type: 'refresh' });
       }
       const { entries, complete } = document.info;
-      if (entries !== lastEntries || complete !== lastComplete) {
+      // With a view on, the count is the view's: the whole shard's growth does not change it.
+      if (!view && (entries !== lastEntries || complete !== lastComplete)) {
         lastEntries = entries;
         lastComplete = complete;
         post({ type: 'entries', entries, complete, progress: document.progress });
@@ -150,19 +235,48 @@ export class RecordEditorProvider implements vscode.CustomReadonlyEditorProvider
             else await sendInit();
             break;
           case 'requestRows': {
-            const total = document.info?.entries ?? 0;
+            const total = view ? view.count : document.info?.entries ?? 0;
             const start = Math.max(0, Math.min(msg.start, total));
             const end = Math.min(total, start + Math.max(0, Math.min(msg.count, 1000)));
-            const entries = end > start ? await document.session!.read(start, end) : [];
+            const entries = end > start ? (view ? await readPositions(document, view, start, end) : await document.session!.read(start, end)) : [];
             const rows = entries.map((e) =>
               rowOf(e, columns, document.byEntry.get(e.entry), e.record !== null ? document.tally.tokensOf(e.record) : null),
             );
             post({ type: 'rows', requestId: msg.requestId, start, rows });
             break;
           }
-          case 'requestDetail':
-            post({ type: 'detail', detail: await this.detail(document, msg.entry, msg.reveal) });
+          case 'requestDetail': {
+            const d = await this.detail(document, toEntry(msg.entry), msg.reveal);
+            // The view speaks in positions.
+            post({ type: 'detail', detail: { ...d, entry: msg.entry } });
             break;
+          }
+          case 'query':
+            await runQuery(msg.query);
+            break;
+          case 'step': {
+            const count = view ? view.count : document.info?.entries ?? 0;
+            for (let p = msg.from + msg.direction; p >= 0 && p < count; p += msg.direction) {
+              if ((document.byEntry.get(toEntry(p))?.length ?? 0) > 0) {
+                post({ type: 'select', entry: p });
+                break;
+              }
+            }
+            break;
+          }
+          case 'pickRule': {
+            const rules = [...document.tally.byRule.entries()].sort((a, b) => b[1] - a[1]);
+            if (!rules.length) {
+              void vscode.window.showInformationMessage(`Shardwise: ${document.fileName} has no findings${document.phase === 'done' ? '' : ' so far'}.`);
+              break;
+            }
+            const pick = await vscode.window.showQuickPick(
+              rules.map(([rule, n]) => ({ label: rule, description: `${n.toLocaleString()} ${n === 1 ? 'finding' : 'findings'}` })),
+              { title: 'Show the records with findings of a rule', placeHolder: 'A rule of this shard' },
+            );
+            if (pick) await runQuery({ ...(view?.query ?? {}), filter: { kind: 'rule', rule: pick.label } });
+            break;
+          }
           case 'goto': {
             const target = parsePlace(String(msg.text ?? ''));
             if (!target) {
@@ -173,13 +287,14 @@ export class RecordEditorProvider implements vscode.CustomReadonlyEditorProvider
             const total = document.info?.entries ?? 0;
             if (entry < 0 || entry >= total) {
               post({ type: 'gotoInvalid', message: noSuchPlace(document, target.kind, target.value) });
-            } else post({ type: 'select', entry });
+            } else selectEntry(entry);
             break;
           }
           case 'openText': {
-            const list = document.byEntry.get(msg.entry) ?? [];
+            const entry = toEntry(msg.entry);
+            const list = document.byEntry.get(entry) ?? [];
             const f = list.find((x) => msg.pointer !== undefined && x.pointer === msg.pointer) ?? null;
-            await openAtFinding(document, msg.entry, f ?? undefined, msg.pointer);
+            await openAtFinding(document, entry, f ?? undefined, msg.pointer);
             break;
           }
           case 'selected':
@@ -266,6 +381,18 @@ export class RecordEditorProvider implements vscode.CustomReadonlyEditorProvider
     return detail;
   }
 
+  /** Runs a query in the document's record view (and selects its first record when asked). */
+  queryInActive(document: ShardDocument, q: ViewQuery, selectFirst: boolean): boolean {
+    for (const ed of this.editors) {
+      if (ed.document === document) {
+        ed.panel.reveal(ed.panel.viewColumn, false);
+        ed.query(q, selectFirst);
+        return true;
+      }
+    }
+    return false;
+  }
+
   revealInActive(document: ShardDocument, entry: number, pointer?: string): boolean {
     for (const ed of this.editors) {
       if (ed.document === document) {
@@ -292,4 +419,19 @@ export function noSuchPlace(document: { info?: { entries: number; complete: bool
   if (kind === 'record') return `There is no record ${value} (the shard has ${document.tally.records.toLocaleString('en-US')} records${so}).`;
   const n = document.info?.entries ?? 0;
   return `There is no ${kind} ${value} (the shard has ${n.toLocaleString('en-US')} ${kind}s${so}).`;
+}
+
+/** The entries at view positions [start, end), read in runs of consecutive entries. */
+async function readPositions(document: ShardDocument, view: ViewOrder, start: number, end: number): Promise<Entry[]> {
+  const want: number[] = [];
+  for (let p = start; p < end; p++) want.push(view.entryAt(p));
+  const sorted = [...new Set(want)].sort((a, b) => a - b);
+  const got = new Map<number, Entry>();
+  for (let i = 0; i < sorted.length; ) {
+    let j = i;
+    while (j + 1 < sorted.length && sorted[j + 1] === sorted[j] + 1 && j - i < 255) j++;
+    for (const e of await document.session!.read(sorted[i], sorted[j] + 1)) got.set(e.entry, e);
+    i = j + 1;
+  }
+  return want.map((e) => got.get(e)).filter((e): e is Entry => e !== undefined);
 }

@@ -219,6 +219,16 @@ export class ShardDocument implements vscode.CustomDocument {
     return e >= 0 ? e : record;
   }
 
+  /** Entry → record index (-1 where the entry holds none), as far as the analysis has come. */
+  entryRecords(entries: number): Int32Array {
+    const out = new Int32Array(entries).fill(-1);
+    for (let r = 0; r < this.recordEntry.length; r++) {
+      const e = this.recordEntry[r];
+      if (e >= 0 && e < entries) out[e] = r;
+    }
+    return out;
+  }
+
   /** The entry a typed place names (palette and record view alike), or -1 when the shard has none. */
   entryOfPlace(t: PlaceTarget): number {
     const i = targetIndex(t);

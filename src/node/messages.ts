@@ -4,6 +4,7 @@ import type { EntryOutcome, Share } from '../engine/analyze.js';
 import type { RenderedRecord } from '../engine/checks/tokens.js';
 import type { CheckConfig } from '../engine/config.js';
 import type { OpenOptions } from '../engine/sources/index.js';
+import type { ScanFacts, ScanNeeds } from '../engine/query.js';
 import type { Entry, Progress, SourceInfo } from '../engine/sources/source.js';
 
 export type WorkerRequest =
@@ -12,6 +13,7 @@ export type WorkerRequest =
   | { id: number; op: 'read'; start: number; end: number; columns?: string[] }
   | { id: number; op: 'turnTokens'; value: unknown; config: CheckConfig }
   | { id: number; op: 'rendered'; value: unknown; config: CheckConfig }
+  | { id: number; op: 'query'; needs: ScanNeeds; config: CheckConfig; entries: number }
   | { id: number; op: 'cancel'; target: number }
   | { id: number; op: 'memory' };
 
@@ -23,5 +25,6 @@ export type WorkerEvent =
   | { id: number; kind: 'turnTokens'; turns: { pointer: string; role: string | null; tokens: number }[] }
   | { id: number; kind: 'rendered'; rendered: RenderedRecord | null }
   | { id: number; kind: 'memory'; rss: number; wasm: number; faults: number }
+  | { id: number; kind: 'facts'; facts: ScanFacts }
   | { id: number; kind: 'done' }
   | { id: number; kind: 'error'; message: string; name: string };

@@ -4,6 +4,7 @@
 
 import { Worker } from 'node:worker_threads';
 import type { CheckConfig } from '../engine/config.js';
+import type { ScanFacts, ScanNeeds } from '../engine/query.js';
 import type { OpenOptions } from '../engine/sources/index.js';
 import type { Entry, Progress, SourceInfo } from '../engine/sources/source.js';
 import type { WorkerEvent, WorkerRequest } from './messages.js';
@@ -104,6 +105,34 @@ export class SourceSession {
     const ev = await this.request({ id: this.nextId++, op: 'rendered', value, config });
     if (ev.kind !== 'rendered') throw new Error('unexpected answer from the shard worker');
     return ev.rendered;
+  }
+
+  private queryId = 0;
+
+  /**
+   * Gathers a query's facts over the whole shard in the worker (a pass of its own), streaming
+   * progress; a new query cancels the one before.
+   */
+  query(needs: ScanNeeds, config: CheckConfig, entries: number, onProgress: (p: Progress) => void): Promise<ScanFacts> {
+    if (this.queryId) this.post({ id: this.nextId++, op: 'cancel', target: this.queryId });
+    const id = this.nextId++;
+    this.queryId = id;
+    return new Promise<ScanFacts>((resolve, reject) => {
+      this.pending.set(id, { resolve: () => undefined, reject });
+      this.route.set(id, (ev) => {
+        if (ev.kind === 'progress') return onProgress(ev.progress);
+        this.pending.delete(id);
+        this.route.delete(id);
+        if (this.queryId === id) this.queryId = 0;
+        if (ev.kind === 'facts') resolve(ev.facts);
+        else if (ev.kind === 'error') {
+          const e = new Error(ev.message);
+          e.name = ev.name;
+          reject(e);
+        } else reject(new Error('unexpected answer from the shard worker'));
+      });
+      this.post({ id, op: 'query', needs, config, entries });
+    });
   }
 
   dispose(): void {

@@ -2,11 +2,12 @@
 // so the extension host's main thread never parses, indexes or tokenizes.
 
 import { parentPort } from 'node:worker_threads';
-import { analyzeSource, type EntryOutcome } from '../engine/analyze.js';
+import { abortError, analyzeSource, type EntryOutcome } from '../engine/analyze.js';
+import { FactGatherer } from '../engine/query.js';
 import { ALL_CHECKS } from '../engine/checks/index.js';
 import { renderedRecord, turnTokenCounts } from '../engine/checks/tokens.js';
 import { loadTokenizer, tokenizerOf } from '../engine/tokens/index.js';
-import { createSource } from '../engine/sources/index.js';
+import { createSource, type OpenOptions } from '../engine/sources/index.js';
 import type { RecordSource } from '../engine/sources/source.js';
 import type { WorkerEvent, WorkerRequest } from './messages.js';
 import { wasmFaults, wasmMemoryBytes } from '../engine/sources/parquet.js';
@@ -16,6 +17,8 @@ if (!port) throw new Error('worker.ts must run in a worker thread');
 
 const running = new Map<number, AbortController>();
 let session: RecordSource | null = null;
+/** What the open session reads, so a query can read the same file with a second reader. */
+let sessionPath: { path: string; open: OpenOptions } | null = null;
 
 function post(ev: WorkerEvent): void {
   port!.postMessage(ev);
@@ -71,9 +74,42 @@ async function handle(req: WorkerRequest): Promise<void> {
       }
       return;
     }
+    case 'query': {
+      // A whole-shard pass of its own (a second reader of the same file, so pages keep coming),
+      // gathering only the facts the query needs.
+      if (!sessionPath) throw new Error('no shard is open in this worker');
+      const ac = new AbortController();
+      running.set(req.id, ac);
+      const source = createSource(sessionPath.path, sessionPath.open);
+      try {
+        await source.open(ac.signal);
+        const gather = new FactGatherer(req.needs, req.config, req.entries);
+        let lastPost = 0;
+        for await (const e of source.scan({
+          signal: ac.signal,
+          onProgress: (progress) => {
+            const now = Date.now();
+            if (now - lastPost > 150) {
+              lastPost = now;
+              post({ id: req.id, kind: 'progress', progress });
+            }
+          },
+        })) {
+          if (ac.signal.aborted) throw abortError();
+          if (e.entry >= req.entries) break;
+          gather.add(e.entry, e.value);
+        }
+        post({ id: req.id, kind: 'facts', facts: gather.facts });
+      } finally {
+        running.delete(req.id);
+        await source.close().catch(() => undefined);
+      }
+      return;
+    }
     case 'open': {
       const ac = new AbortController();
       running.set(req.id, ac);
+      sessionPath = { path: req.path, open: req.open };
       session = createSource(req.path, req.open);
       const info = await session.open(ac.signal);
       post({ id: req.id, kind: 'info', info });

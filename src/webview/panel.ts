@@ -106,6 +106,17 @@ const PHASE_TEXT: Record<ShardSummary['phase'], string> = {
   cancelled: 'Cancelled',
 };
 
+/** Makes a figure a way in: clicking it shows those records in the record view. */
+function linkStat(el: HTMLElement, what: 'max' | 'p99', title: string): HTMLElement {
+  const v = el.querySelector('.sw-stat-value')!;
+  const b = h('button', 'sw-stat-value sw-stat-link', v.textContent ?? '');
+  b.type = 'button';
+  b.title = title;
+  b.addEventListener('click', () => vscode.postMessage({ type: 'showRecords', what }));
+  v.replaceWith(b);
+  return el;
+}
+
 function stat(label: string, value: string, key: string, cls = ''): HTMLElement {
   const s = h('div', `sw-stat${cls ? ` ${cls}` : ''}`);
   s.dataset.stat = key;
@@ -175,24 +186,31 @@ function renderSummary(s: ShardSummary): void {
       stat('Response', formatCount(Number(t.response) || 0), 'response'),
       stat('p50', formatCount(t.p50), 'p50'),
       stat('p90', formatCount(t.p90), 'p90'),
-      stat('p99', formatCount(t.p99), 'p99'),
-      stat('Max', formatCount(t.max), 'max'),
+      linkStat(stat('p99', formatCount(t.p99), 'p99'), 'p99', `Show the records of ${formatCount(t.p99)} tokens or more, longest first`),
+      linkStat(stat('Max', formatCount(t.max), 'max'), 'max', 'Show the records sorted by tokens, the longest first'),
     );
     // With a chat template: what the model sees, and what the loss covers (the per-record figures above are then rendered lengths).
     if (typeof t.rendered === 'number') {
       tg.append(stat('Rendered', formatCount(t.rendered), 'rendered'), stat('Trained', formatCount(Number(t.trainable) || 0), 'trainable'));
     }
     tok.append(tg);
-    const over = h('div', `sw-over${t.overContext > 0 ? ' sw-over-some' : ''}`);
+    // No verdict before the check is complete: "so far" until then, never a green 0.
+    const done = s.phase === 'done';
+    const over = h(t.overContext > 0 ? 'button' : 'div', `sw-over${t.overContext > 0 ? ' sw-over-some sw-stat-link' : ''}`);
     over.dataset.stat = 'overContext';
     over.append(
-      icon(t.overContext > 0 ? 'warning' : 'pass'),
+      icon(t.overContext > 0 ? 'warning' : done ? 'pass' : 'loading', !done && t.overContext === 0 ? 'codicon-modifier-spin' : ''),
       h(
         'span',
         '',
-        `Over ${formatCount(t.contextLength)} tokens: ${formatCount(t.overContext)} ${t.overContext === 1 ? 'record' : 'records'}`,
+        `Over ${formatCount(t.contextLength)} tokens${done ? '' : ' so far'}: ${formatCount(t.overContext)} ${t.overContext === 1 ? 'record' : 'records'}`,
       ),
     );
+    if (t.overContext > 0) {
+      (over as HTMLButtonElement).type = 'button';
+      over.title = 'Show the records over the context length in the record view';
+      over.addEventListener('click', () => vscode.postMessage({ type: 'showRecords', what: 'overContext' }));
+    }
     tok.append(over);
     summaryEl.append(tok);
   }

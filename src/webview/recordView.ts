@@ -2,7 +2,7 @@
 // host, and a detail pane (conversation, preference pair, JSON tree, findings) for the selected entry.
 // Browser code: DOM only. All host text is untrusted and reaches the DOM as text.
 
-import type { ColumnInfo, FormatName, GroupInfo, Severity } from '../protocol.js';
+import type { ColumnInfo, FilterSpec, FormatName, GroupInfo, Severity, SortSpec, ViewQuery } from '../protocol.js';
 import {
   isMessage,
   type DetailView,
@@ -117,7 +117,29 @@ gotoInput.setAttribute('aria-label', 'Go to record, line or row');
 gotoLabel.append(icon('arrow-right'), gotoInput);
 const gotoHint = h('span', 'sw-goto-hint');
 const detailToggle = iconButton('split-horizontal', 'Show or hide the detail pane', 'sw-detail-toggle');
-toolbar.append(gotoLabel, gotoHint, h('span', 'sw-spacer-flex'), detailToggle);
+
+// ---- search, sort, filter (the host runs them over the whole shard, in its worker) ----
+const searchWrap = h('div', 'sw-search');
+searchWrap.setAttribute('role', 'search');
+const searchInput = h('input', 'sw-search-input');
+searchInput.type = 'search';
+searchInput.spellcheck = false;
+searchInput.placeholder = 'Search records (Ctrl+F)';
+searchInput.setAttribute('aria-label', 'Search the text of every record');
+const caseToggle = iconButton('case-sensitive', 'Match case', 'sw-search-case');
+const regexToggle = iconButton('regex', 'Use a regular expression', 'sw-search-regex');
+for (const b of [caseToggle, regexToggle]) b.setAttribute('aria-pressed', 'false');
+const prevMatch = iconButton('arrow-up', 'Previous matching record (Shift+Enter)', 'sw-search-prev');
+const nextMatch = iconButton('arrow-down', 'Next matching record (Enter)', 'sw-search-next');
+searchWrap.append(icon('search'), searchInput, caseToggle, regexToggle, prevMatch, nextMatch);
+const sortSelect = h('select', 'sw-sort');
+sortSelect.setAttribute('aria-label', 'Sort records');
+const filterSelect = h('select', 'sw-filter');
+filterSelect.setAttribute('aria-label', 'Show only some records');
+const viewChip = h('span', 'sw-view-chip');
+viewChip.setAttribute('role', 'status');
+viewChip.hidden = true;
+toolbar.append(gotoLabel, gotoHint, searchWrap, sortSelect, filterSelect, viewChip, h('span', 'sw-spacer-flex'), detailToggle);
 
 const main = h('div', 'sw-main');
 const tableEl = h('section', 'sw-table');
@@ -202,8 +224,8 @@ function renderLayout(m: { id: string | null; share: number; chosen: boolean }):
 }
 
 function renderEntriesCount(): void {
-  const unit = info && COLUMNAR.has(info.format) ? 'rows' : 'entries';
-  entriesEl.textContent = `${formatCount(entries)} ${unit}`;
+  const unit = info && COLUMNAR.has(info.format) ? 'rows' : 'lines';
+  entriesEl.textContent = viewOn ? `${formatCount(entries)} of ${formatCount(viewTotal)} ${unit}` : `${formatCount(entries)} ${unit}`;
   indexingEl.hidden = complete;
   const pct = Math.round(Math.max(0, Math.min(1, progress)) * 100);
   indexingEl.querySelector('.sw-indexing-text')!.textContent = `indexing ${pct}%`;
@@ -280,7 +302,29 @@ function renderHeadRow(): void {
     const c = h('div', `sw-cell sw-col-${col}`, label);
     c.dataset.col = col;
     c.title = title;
+    c.setAttribute('role', 'columnheader');
     if (col === 'marker') c.append(icon('issues'));
+    if (col === 'tokens') {
+      // Click (or Enter) sorts by tokens: most first, then fewest first, then file order.
+      c.classList.add('sw-sortable');
+      c.tabIndex = 0;
+      const s = query?.sort;
+      const sorted = s?.key === 'tokens' ? (s.descending ? 'descending' : 'ascending') : 'none';
+      c.setAttribute('aria-sort', sorted);
+      if (sorted !== 'none') c.append(icon(sorted === 'descending' ? 'arrow-down' : 'arrow-up', 'sw-sort-mark'));
+      c.title = 'Sort by tokens';
+      const cycle = () => {
+        sortSelect.value = sorted === 'none' ? 'tokens:desc' : sorted === 'descending' ? 'tokens:asc' : '';
+        sendQuery();
+      };
+      c.addEventListener('click', cycle);
+      c.addEventListener('keydown', (ev) => {
+        if (ev.key === 'Enter' || ev.key === ' ') {
+          ev.preventDefault();
+          cycle();
+        }
+      });
+    }
     headRow.append(c);
   }
   for (const f of fieldColumns()) {
@@ -362,6 +406,29 @@ function renderRows(): void {
   scheduleRequests(start, end);
 }
 
+/** Text with the search's matches marked (as text nodes and <mark> elements: nothing is parsed). */
+function marked(text: string): Node[] {
+  const s = query?.search;
+  if (!s || !s.text || !text) return [document.createTextNode(text)];
+  let re: RegExp;
+  try {
+    re = s.regex ? new RegExp(s.text, s.caseSensitive ? 'gu' : 'giu') : new RegExp(s.text.replace(/[.*+?^${}()|[\]\\]/g, '\\$&'), s.caseSensitive ? 'g' : 'gi');
+  } catch {
+    return [document.createTextNode(text)];
+  }
+  const out: Node[] = [];
+  let at = 0;
+  for (const m of text.matchAll(re)) {
+    if (m[0] === '') break;
+    if (m.index! > at) out.push(document.createTextNode(text.slice(at, m.index)));
+    out.push(h('mark', 'sw-match', m[0]));
+    at = m.index! + m[0].length;
+    if (out.length > 200) break;
+  }
+  if (at < text.length) out.push(document.createTextNode(text.slice(at)));
+  return out;
+}
+
 function buildRow(entry: number): HTMLElement {
   const r = rowAt(entry);
   const row = h('div', 'sw-row');
@@ -385,11 +452,14 @@ function buildRow(entry: number): HTMLElement {
     row.append(filler);
     return row;
   }
-  row.append(
-    cell('record', r.record === null || r.record === undefined ? '–' : formatCount(r.record + 1)),
-    cell('place', str(r.place)),
-    cell('tokens', r.tokens === null || r.tokens === undefined ? '' : formatCount(r.tokens)),
-  );
+  // The row's context menu (VS Code's webview/context menu): copy, open at line, filter like this.
+  row.dataset.vscodeContext = JSON.stringify({ webviewSection: 'row', position: entry, preventDefaultContextMenuItems: true });
+  const tokens = cell('tokens', r.tokens === null || r.tokens === undefined ? (r.record === null || r.record === undefined ? '' : '…') : formatCount(r.tokens));
+  if ((r.tokens === null || r.tokens === undefined) && r.record !== null && r.record !== undefined) {
+    tokens.classList.add('sw-cell-pending');
+    tokens.title = 'Not counted yet';
+  }
+  row.append(cell('record', r.record === null || r.record === undefined ? '–' : formatCount(r.record + 1)), cell('place', str(r.place)), tokens);
   const marker = cell('marker', '');
   if (isSeverity(r.severity)) {
     row.dataset.severity = r.severity;
@@ -412,10 +482,14 @@ function buildRow(entry: number): HTMLElement {
     const name = str(f.name);
     const has = Object.prototype.hasOwnProperty.call(cells, name);
     const text = has ? str(cells[name]) : '';
-    const c = cell('field', text);
+    const c = cell('field', '');
+    c.append(...marked(text));
     c.dataset.field = name;
     if (!has) c.classList.add('sw-cell-absent');
-    else c.title = text.slice(0, 2000);
+    else {
+      c.title = text.slice(0, 2000);
+      c.dataset.vscodeContext = JSON.stringify({ webviewSection: 'cell', position: entry, column: name, preventDefaultContextMenuItems: true });
+    }
     row.append(c);
   }
   return row;
@@ -597,6 +671,190 @@ gotoInput.addEventListener('keydown', (ev) => {
 gotoInput.addEventListener('input', () => {
   gotoInput.classList.remove('sw-invalid');
   gotoInput.removeAttribute('aria-invalid');
+});
+
+// ---- search, sort, filter ----
+let viewOn = false;
+let viewTotal = 0;
+let query: ViewQuery | null = null;
+let searchTimer: ReturnType<typeof setTimeout> | undefined;
+
+function fillSortOptions(): void {
+  const keep = sortSelect.value;
+  sortSelect.replaceChildren();
+  const add = (value: string, label: string) => {
+    const o = h('option', '', label);
+    o.value = value;
+    sortSelect.append(o);
+  };
+  add('', 'File order');
+  add('tokens:desc', 'Tokens, most first');
+  add('tokens:asc', 'Tokens, fewest first');
+  add('turns:desc', 'Turns, most first');
+  add('findings:desc', 'Findings, most first');
+  for (const c of columns) {
+    if (!/^(string|int|uint|float|double|bool|number|boolean|large_string|utf8|date|timestamp)/i.test(str(c.type)) && str(c.type) !== '') continue;
+    add(`column:asc:${str(c.name)}`, `${str(c.name)}, ascending`);
+    add(`column:desc:${str(c.name)}`, `${str(c.name)}, descending`);
+  }
+  sortSelect.value = [...sortSelect.options].some((o) => o.value === keep) ? keep : '';
+}
+
+function fillFilterOptions(): void {
+  if (filterSelect.options.length) return;
+  for (const [value, label] of [
+    ['', 'All records'],
+    ['findings', 'With findings'],
+    ['severity:error', 'With errors'],
+    ['severity:warning', 'With warnings'],
+    ['severity:info', 'With notes'],
+    ['overContext', 'Over the context length'],
+    ['rule', 'With findings of a rule…'],
+  ]) {
+    const o = h('option', '', label);
+    o.value = value;
+    filterSelect.append(o);
+  }
+}
+
+function currentQuery(): ViewQuery | null {
+  const q: ViewQuery = {};
+  const text = searchInput.value;
+  if (text !== '') q.search = { text, regex: regexToggle.getAttribute('aria-pressed') === 'true', caseSensitive: caseToggle.getAttribute('aria-pressed') === 'true' };
+  const s = sortSelect.value;
+  if (s) {
+    const [key, dir, ...rest] = s.split(':');
+    q.sort = { key: key as SortSpec['key'], descending: dir === 'desc', ...(key === 'column' ? { column: rest.join(':') } : {}) };
+  }
+  const f = filterSelect.value;
+  if (f === 'findings' || f === 'overContext') q.filter = { kind: f };
+  else if (f.startsWith('severity:')) q.filter = { kind: 'severity', severity: f.slice(9) as Severity };
+  else if (f === 'kept' && query?.filter) q.filter = query.filter;
+  return q.search || q.sort || q.filter ? q : null;
+}
+
+function sendQuery(): void {
+  clearTimeout(searchTimer);
+  vscode.postMessage({ type: 'query', query: currentQuery() });
+}
+
+searchInput.addEventListener('input', () => {
+  clearTimeout(searchTimer);
+  searchTimer = setTimeout(sendQuery, 300);
+});
+searchInput.addEventListener('keydown', (ev) => {
+  if (ev.key === 'Enter') {
+    ev.preventDefault();
+    clearTimeout(searchTimer);
+    if (JSON.stringify(currentQuery()) !== JSON.stringify(query)) return sendQuery();
+    stepSelection(ev.shiftKey ? -1 : 1);
+  } else if (ev.key === 'Escape') {
+    searchInput.value = '';
+    sendQuery();
+    viewport.focus();
+  }
+});
+for (const b of [caseToggle, regexToggle]) {
+  b.addEventListener('click', () => {
+    b.setAttribute('aria-pressed', String(b.getAttribute('aria-pressed') !== 'true'));
+    b.classList.toggle('sw-on', b.getAttribute('aria-pressed') === 'true');
+    if (searchInput.value) sendQuery();
+  });
+}
+prevMatch.addEventListener('click', () => stepSelection(-1));
+nextMatch.addEventListener('click', () => stepSelection(1));
+sortSelect.addEventListener('change', sendQuery);
+filterSelect.addEventListener('change', () => {
+  if (filterSelect.value === 'rule') {
+    filterSelect.value = query?.filter ? 'kept' : '';
+    vscode.postMessage({ type: 'pickRule' });
+    return;
+  }
+  sendQuery();
+});
+
+/** Moves the selection to the next or previous record of the view (the view holds only matches). */
+function stepSelection(direction: 1 | -1): void {
+  if (entries <= 0) return;
+  const from = selected < 0 ? (direction > 0 ? -1 : entries) : selected;
+  const to = Math.max(0, Math.min(entries - 1, from + direction));
+  select(to, { align: 'center' });
+}
+
+function onView(m: Extract<HostToRecordView, { type: 'view' }>): void {
+  if (m.error) {
+    viewChip.replaceChildren(icon('warning'), h('span', '', str(m.error)));
+    viewChip.classList.add('sw-view-error');
+    viewChip.hidden = false;
+    return;
+  }
+  viewChip.classList.remove('sw-view-error');
+  if (m.searching !== undefined) {
+    viewChip.replaceChildren(icon('loading', 'codicon-modifier-spin'), h('span', '', `searching ${Math.round(Math.max(0, Math.min(1, Number(m.searching) || 0)) * 100)}%`));
+    viewChip.hidden = false;
+    return;
+  }
+  viewOn = !!m.active;
+  viewTotal = Math.max(0, Number(m.total) || 0);
+  query = m.active && m.query && typeof m.query === 'object' ? m.query : null;
+  // The controls follow the host's view (a panel link, a rule picked in the host, a cleared view).
+  if (!query) {
+    sortSelect.value = '';
+    filterSelect.value = '';
+  } else {
+    const f = query.filter;
+    const fv = !f ? '' : f.kind === 'severity' ? `severity:${f.severity}` : f.kind === 'findings' || f.kind === 'overContext' ? f.kind : 'kept';
+    if (fv === 'kept' && ![...filterSelect.options].some((o) => o.value === 'kept')) {
+      const o = h('option', '', '');
+      o.value = 'kept';
+      filterSelect.append(o);
+    }
+    const kept = [...filterSelect.options].find((o) => o.value === 'kept');
+    if (kept) kept.textContent = f && fv === 'kept' ? describeFilter(f) : '';
+    filterSelect.value = fv;
+    const s = query.sort;
+    sortSelect.value = s ? `${s.key}:${s.descending ? 'desc' : 'asc'}${s.key === 'column' ? `:${str(s.column)}` : ''}` : '';
+  }
+  const count = Math.max(0, Number(m.count) || 0);
+  viewChip.replaceChildren();
+  if (viewOn) {
+    const clear = iconButton('close', 'Show every record in file order', 'sw-view-clear');
+    clear.addEventListener('click', () => {
+      searchInput.value = '';
+      sortSelect.value = '';
+      filterSelect.value = '';
+      sendQuery();
+    });
+    const unit = count === 1 ? 'record' : 'records';
+    viewChip.append(icon('filter'), h('span', 'sw-view-count', `${formatCount(count)} ${unit}`), h('span', 'sw-view-label', str(m.label)), clear);
+    viewChip.title = `${formatCount(count)} of ${formatCount(viewTotal)} lines or rows: ${str(m.label)}`;
+  }
+  viewChip.hidden = !viewOn;
+  entries = count;
+  renderHeadRow();
+  selected = -1;
+  detailFor = -1;
+  detailEl.hidden = true;
+  splitter.hidden = true;
+  resetRows();
+  setContentPos(0);
+  renderEntriesCount();
+  renderRows();
+}
+
+function describeFilter(f: FilterSpec): string {
+  return f.kind === 'rule' ? `Rule ${str(f.rule)}` : f.kind === 'column' ? `${str(f.column)} = ${JSON.stringify(f.value)}` : f.kind === 'tokensAtLeast' ? `${formatCount(f.tokens)} tokens or more` : 'Filtered';
+}
+
+window.addEventListener('keydown', (ev) => {
+  if ((ev.ctrlKey || ev.metaKey) && !ev.altKey && ev.key.toLowerCase() === 'f') {
+    ev.preventDefault();
+    searchInput.focus();
+    searchInput.select();
+  } else if (ev.key === 'F8') {
+    ev.preventDefault();
+    vscode.postMessage({ type: 'step', direction: ev.shiftKey ? -1 : 1, from: selected });
+  }
 });
 
 // ---- detail ----
@@ -1120,6 +1378,10 @@ function onInit(m: InitMessage): void {
   columns = Array.isArray(m.columns) ? m.columns.filter((c) => c && typeof c === 'object') : [];
   resetRows();
   banner.hidden = true;
+  viewOn = false;
+  viewChip.hidden = true;
+  fillSortOptions();
+  fillFilterOptions();
   renderHeader();
   renderHeadRow();
   if (!sameFile) {
@@ -1167,6 +1429,7 @@ function onMessage(m: HostToRecordView): void {
     case 'columns':
       columns = Array.isArray(m.columns) ? m.columns.filter((c) => c && typeof c === 'object') : [];
       resetRows(); // cached rows lack cells for new columns
+      fillSortOptions();
       renderHeadRow();
       renderStructure();
       renderRows();
@@ -1186,6 +1449,9 @@ function onMessage(m: HostToRecordView): void {
       requestPages(visible);
       break;
     }
+    case 'view':
+      onView(m);
+      break;
     case 'notice': {
       notice.replaceChildren(icon('shield'), h('span', 'sw-notice-text', str(m.message)));
       if (m.action && m.action.id === 'manageTrust') {

@@ -580,6 +580,99 @@ describe('record view', () => {
     }
   });
 
+  test('search, sort and filter: the box, the Tokens header and the menus post queries; the host’s view shows as N of M', async () => {
+    const view = await openView(env.browser, env.server, { kind: 'recordView', onMessage: scriptedHost() });
+    try {
+      await view.send(initMessage(5000));
+      await waitLoaded(view.page);
+      // Ctrl+F opens search in the view.
+      await view.page.click('.sw-viewport');
+      await view.page.keyboard.press('Control+f');
+      assert.equal(await view.page.evaluate(() => document.activeElement?.className), 'sw-search-input');
+      let mark = view.posted.length;
+      await view.page.keyboard.type('gear 7');
+      await view.page.keyboard.press('Enter');
+      assert.deepEqual(await view.waitForPost((m) => m.type === 'query', { from: mark }), { type: 'query', query: { search: { text: 'gear 7', regex: false, caseSensitive: false } } });
+      // The case and regular-expression toggles are pressed buttons and re-run the search.
+      mark = view.posted.length;
+      await view.page.click('.sw-search-regex');
+      assert.equal(await view.page.getAttribute('.sw-search-regex', 'aria-pressed'), 'true');
+      assert.deepEqual((await view.waitForPost((m) => m.type === 'query', { from: mark })).query.search, { text: 'gear 7', regex: true, caseSensitive: false });
+      // The host answers with its view: progress first, then the matching records.
+      await view.send({ type: 'view', active: false, count: 5000, total: 5000, label: '', query: null, searching: 0.4 });
+      assert.match(await view.page.textContent('.sw-view-chip'), /searching 40%/);
+      // (The scripted host's rows all hold "my chain skips": the view the host sends searches for "chain".)
+      const q = { search: { text: 'cha.n', regex: true, caseSensitive: false } };
+      await view.send({ type: 'view', active: true, count: 3, total: 5000, label: 'pattern “cha.n”', query: q });
+      assert.match(await view.page.textContent('.sw-view-chip'), /^3 recordspattern “cha.n”/);
+      assert.equal(await view.page.textContent('.sw-entries'), '3 of 5,000 lines');
+      await waitLoaded(view.page);
+      assert.equal((await renderedRows(view.page)).length, 3);
+      // Matches are marked in the cells, as text.
+      assert.deepEqual([...new Set(await view.page.$$eval('mark.sw-match', (ms) => ms.map((m) => m.textContent)))], ['chain']);
+      // Enter on the search the view shows steps through its matching records.
+      await view.page.fill('.sw-search-input', 'cha.n');
+      await view.page.focus('.sw-search-input');
+      const selectedIs = (n) => view.page.waitForFunction((k) => document.querySelector('.sw-rows .sw-row.sw-selected')?.dataset.entry === String(k), n);
+      await view.page.keyboard.press('Enter');
+      await selectedIs(0);
+      await view.page.keyboard.press('Enter');
+      await selectedIs(1);
+      // The Tokens header sorts: most first, then fewest first, then file order.
+      mark = view.posted.length;
+      await view.page.click('.sw-row-head [data-col="tokens"]');
+      assert.deepEqual((await view.waitForPost((m) => m.type === 'query', { from: mark })).query.sort, { key: 'tokens', descending: true });
+      await view.send({ type: 'view', active: true, count: 3, total: 5000, label: 'sorted', query: { ...q, sort: { key: 'tokens', descending: true } } });
+      assert.equal(await view.page.getAttribute('.sw-row-head [data-col="tokens"]', 'aria-sort'), 'descending');
+      assert.equal(await view.page.inputValue('.sw-sort'), 'tokens:desc');
+      // A quick filter from the menu; "a rule…" asks the host to pick one.
+      mark = view.posted.length;
+      await view.page.selectOption('.sw-filter', 'severity:error');
+      assert.deepEqual((await view.waitForPost((m) => m.type === 'query', { from: mark })).query.filter, { kind: 'severity', severity: 'error' });
+      mark = view.posted.length;
+      await view.page.selectOption('.sw-filter', 'rule');
+      await view.waitForPost((m) => m.type === 'pickRule', { from: mark });
+      // F8 asks for the next record with a finding.
+      mark = view.posted.length;
+      await view.page.click('.sw-viewport');
+      await view.page.keyboard.press('F8');
+      // (A new view clears the selection: the step starts before the first record.)
+      assert.deepEqual(await view.waitForPost((m) => m.type === 'step', { from: mark }), { type: 'step', direction: 1, from: -1 });
+      // A bad pattern is the host's clear message beside the controls; clearing returns to file order.
+      await view.send({ type: 'view', active: true, count: 3, total: 5000, label: '', query: q, error: 'not a regular expression: Unterminated group' });
+      await view.page.waitForFunction(() => /not a regular expression/.test(document.querySelector('.sw-view-chip')?.textContent ?? ''));
+      await view.send({ type: 'view', active: true, count: 3, total: 5000, label: 'pattern', query: q });
+      mark = view.posted.length;
+      await view.page.click('.sw-view-clear');
+      assert.deepEqual(await view.waitForPost((m) => m.type === 'query', { from: mark }), { type: 'query', query: null });
+      await view.send({ type: 'view', active: false, count: 5000, total: 5000, label: '', query: null });
+      assert.equal(await view.page.textContent('.sw-entries'), '5,000 lines');
+      assert.equal(await view.page.isHidden('.sw-view-chip'), true);
+      // Rows carry their context for the row menu: the view position, and the cell's column.
+      const ctx = await view.page.$eval('.sw-rows .sw-row[data-entry="0"] [data-field="source"]', (c) => JSON.parse(c.dataset.vscodeContext));
+      assert.deepEqual(ctx, { webviewSection: 'cell', position: 0, column: 'source', preventDefaultContextMenuItems: true });
+      await screenshot(view.page, 'record-view-search');
+    } finally {
+      await view.close();
+    }
+  });
+
+  test('a hostile search text is marked as text and runs nothing', async () => {
+    const view = await openView(env.browser, env.server, { kind: 'recordView', onMessage: scriptedHost() });
+    try {
+      await view.send(initMessage(50));
+      await waitLoaded(view.page);
+      const text = '<img src=x onerror=window.__pwned=1>';
+      await view.send({ type: 'view', active: true, count: 2, total: 50, label: `search “${text}”`, query: { search: { text, regex: false, caseSensitive: false } } });
+      await waitLoaded(view.page);
+      assert.equal(await view.page.evaluate(() => window.__pwned), undefined);
+      assert.equal(await view.page.$$eval('.sw-view-chip img', (x) => x.length), 0);
+      assert.match(await view.page.textContent('.sw-view-chip'), /<img src=x onerror/);
+    } finally {
+      await view.close();
+    }
+  });
+
   test('indexing progress shows while the entry count grows, and new rows become reachable', async () => {
     const view = await openView(env.browser, env.server, { kind: 'recordView', onMessage: scriptedHost() });
     try {

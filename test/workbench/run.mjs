@@ -430,6 +430,66 @@ async function main() {
     });
   }
 
+  // Search, sort and filter over the whole shard (in the reading worker), through the view's controls.
+  await step('search finds a string planted in three records, and the count says 3', async () => {
+    const planted = 'planted-search.jsonl';
+    const lines = [];
+    for (let i = 0; i < 60; i++) {
+      const hit = i === 4 || i === 31 || i === 58;
+      lines.push(JSON.stringify({ id: `ps-${i}`, messages: [{ role: 'user', content: hit ? `Is a bent hanger-XQ7 fixable? (${i})` : `How do I index gears? (${i})` }, { role: 'assistant', content: 'Yes, with an alignment gauge.' }] }));
+    }
+    writeFileSync(join(work, planted), lines.join('\n') + '\n');
+    await wb.openFromExplorer(planted);
+    const frame = await wb.recordView(planted, 60000);
+    await waitFor(`${planted} to be indexed`, async () => ((await readRecordView(frame)).complete ? true : null), 60000);
+    await frame.locator('.sw-search-input').fill('hanger-xq7');
+    await frame.locator('.sw-search-input').press('Enter');
+    const v = await waitFor('the view to show the matching records', async () => {
+      const r = await readRecordView(frame);
+      const chip = await frame.locator('.sw-view-chip').innerText().catch(() => '');
+      return /^3 records/.test(chip) && r.rows.filter((x) => !x.loading).length === 3 ? r : null;
+    }, 30000);
+    // Independent count: the lines of the file holding the text, case-insensitively.
+    const want = lines.map((l, i) => (l.toLowerCase().includes('hanger-xq7') ? String(i + 1) : null)).filter(Boolean);
+    assert(JSON.stringify(v.rows.map((r) => r.place.trim())) === JSON.stringify(want), `matching rows are on lines ${v.rows.map((r) => r.place).join(', ')}, expected ${want.join(', ')}`);
+    assert(/3 of 60 lines/.test(v.entriesText), `the header says "${v.entriesText}"`);
+  });
+
+  await step(`sort by tokens puts the longest record of ${chat} first, with the panel's maximum`, async () => {
+    await wb.openFromExplorer(chat);
+    const frame = await wb.recordView(chat);
+    const { frame: panelFrame } = await panelFor(chat);
+    const panelMax = countOf(await panelFrame.locator('[data-stat="max"] .sw-stat-value').innerText());
+    assert(panelMax > 0, 'the panel shows no maximum');
+    await frame.locator('.sw-row-head [data-col="tokens"]').click();
+    const first = await waitFor('the longest record on top', async () => {
+      const r = await readRecordView(frame);
+      const top = r.rows.find((x) => x.entry === 0 && !x.loading);
+      return top && countOf(top.tokens) === panelMax ? top : null;
+    }, 30000);
+    assert(countOf(first.tokens) === panelMax, `the first row has ${first.tokens} tokens, the panel's maximum is ${panelMax}`);
+    await frame.locator('.sw-view-clear').click();
+  });
+
+  await step(`a rule filter shows exactly the records of that rule in ${chat}`, async () => {
+    const frame = await wb.recordView(chat);
+    const { frame: panel } = await panelFor(chat);
+    const places = await panel.locator('.sw-finding[data-rule="schema-violation"] .sw-place').allInnerTexts();
+    assert(places.length > 0, 'the panel lists no schema-violation finding');
+    const want = [...new Set(places.map((x) => x.trim().split(':')[0]))].sort((a, b) => a - b);
+    await frame.locator('.sw-filter').selectOption('rule');
+    const item = wb.page.locator('.quick-input-widget .monaco-list-row').filter({ hasText: 'schema-violation' }).first();
+    await item.waitFor({ timeout: 15000 });
+    await item.click();
+    const got = await waitFor('the rule filter', async () => {
+      const r = await readRecordView(frame);
+      const rows = r.rows.filter((x) => !x.loading);
+      return rows.length === want.length ? rows.map((x) => x.place.trim()) : null;
+    }, 30000).catch(async () => (await readRecordView(frame)).rows.map((x) => x.place.trim()));
+    assert(JSON.stringify(got) === JSON.stringify(want), `the filter shows lines ${got.join(', ')}, the panel's schema-violation findings are on lines ${want.join(', ')}`);
+    await frame.locator('.sw-view-clear').click();
+  });
+
   await step(`token counts of ${textShard} rows match the ${defaultEncoding} reference`, async () => {
     assert(textShard, 'no JSONL demo shard keeps its text in a "text" field');
     await expectRowTokens(textShard, facts.get(textShard), defaultEncoding);
