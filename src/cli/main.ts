@@ -140,6 +140,14 @@ function workerCount(parsed: Parsed): number {
   return n;
 }
 
+function stallSecondsOf(parsed: Parsed): number | undefined {
+  const v = parsed.opts['stall-seconds'] as string | undefined;
+  if (v === undefined) return undefined;
+  const n = Number(v);
+  if (!Number.isFinite(n) || n < 0 || n > 86_400) throw new UsageError(`--stall-seconds takes a number of seconds from 0 to 86400, not "${v}"`);
+  return n;
+}
+
 /** Fails early, with a clear message, on a file that cannot be opened at all. */
 function checkReadable(path: string): { format: FormatName; size: number } {
   let st;
@@ -183,6 +191,7 @@ async function checkVerb(parsed: Parsed, out: NodeJS.WritableStream, err: NodeJS
   }
   if (parsed.positional.length === 0) throw new UsageError(`no file given (try: shardwise ${parsed.verb} PATH...)`);
   const workers = workerCount(parsed);
+  const stallSeconds = stallSecondsOf(parsed);
   const inputs = expandInputs(parsed.positional);
   const sized = inputs.map((f) => ({ ...f, ...checkReadable(f.path) }));
   const projects = new ProjectFiles(new Set(rules.map((r) => r.id)), (parsed.opts.config as string) ?? null, parsed.opts['no-config'] === true);
@@ -214,7 +223,7 @@ async function checkVerb(parsed: Parsed, out: NodeJS.WritableStream, err: NodeJS
           const i = next++;
           if (i >= plans.length) return;
           const { input, settings } = plans[i];
-          results[i] = await checkOne(input, sized[i].format, sized[i].size, settings, perFile, (b) => bar.update(i, b));
+          results[i] = await checkOne(input, sized[i].format, sized[i].size, settings, perFile, (b) => bar.update(i, b), stallSeconds);
           if (baseline) {
             const r = results[i];
             r.extras.baselined = baseline.mark(r.report);
@@ -281,6 +290,7 @@ async function checkOne(
   settings: ReturnType<typeof settleFileSettings>,
   workers: number,
   onBytes: (b: number) => void,
+  stallSeconds?: number,
 ): Promise<FileResult> {
   const { config } = settings;
   const maxFindings = settings.maxFindings ?? DEFAULT_MAX_FINDINGS;
@@ -293,7 +303,7 @@ async function checkOne(
     const analyze = workers === 0 ? analyzeInThread : analyzeFile;
     await analyze(input.path, {
       config,
-      open: { maxLineBytes: config.maxLineBytes },
+      open: { maxLineBytes: config.maxLineBytes, stallSeconds },
       workers: Math.max(1, workers),
       onInfo: (info) => {
         formatName = info.format;

@@ -69,6 +69,7 @@ export const OPTIONS: readonly OptionDef[] = [
   { flag: '--max-findings', value: 'N', help: 'list at most N findings per file; all are still counted (default 10000)', setting: 'check.maxFindings', verbs: ['check'] },
   { flag: '--baseline', value: 'FILE', help: 'fail only on findings that are not in this baseline (matched by rule, file and record identity)', verbs: ['check'] },
   { flag: '--write-baseline', value: 'FILE', help: 'write the findings of this run as a baseline file', verbs: ['check'] },
+  { flag: '--stall-seconds', value: 'N', help: 'stop reading a file that makes no progress (no record, no byte) for N seconds, with a read-stalled error (default 10; 0 never stops)', verbs: [...CHECKING] },
   { flag: '--workers', value: 'auto|N', help: 'worker threads (default auto: one per core, up to 4)', verbs: [...CHECKING] },
   { flag: '--in-thread', help: 'check in this thread, without worker threads (small files, debugging)', verbs: [...CHECKING] },
   { flag: '--format', value: 'FORMAT', help: 'output: text or json (check also sarif)', verbs: [...CHECKING, 'merge', 'rules'] },

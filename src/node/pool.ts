@@ -12,6 +12,25 @@ import type { Progress, SourceInfo } from '../engine/sources/source.js';
 import type { Finding } from '../engine/findings.js';
 import type { WorkerEvent, WorkerRequest } from './messages.js';
 import { applyPolicyAll } from '../engine/policy.js';
+import { DEFAULT_STALL_SECONDS } from '../engine/sources/index.js';
+import { jsonlRule } from '../engine/sources/jsonlRules.js';
+import { installTempCleanup } from '../engine/sources/tempFiles.js';
+
+/** The finding a stopped read leaves: the message names how long it waited and how far it got. */
+export function stalledFinding(seconds: number, entries: number): Finding {
+  const r = jsonlRule('read-stalled');
+  return {
+    rule: 'read-stalled',
+    family: r.family,
+    severity: r.severity,
+    message: `stopped: no progress for ${seconds} s after ${entries} entries (no record, no byte read); the reader was ended and what came before was checked`,
+    record: null,
+    line: null,
+    column: null,
+    pointer: null,
+    entry: null,
+  };
+}
 
 export interface AnalyzeFileOptions {
   config: CheckConfig;
@@ -58,7 +77,10 @@ export function withFileFindingsOnce(options: AnalyzeFileOptions): AnalyzeFileOp
 }
 
 export async function analyzeFile(path: string, options: AnalyzeFileOptions): Promise<void> {
+  installTempCleanup();
   const opts = withFileFindingsOnce(options);
+  const stallSeconds = opts.open?.stallSeconds ?? DEFAULT_STALL_SECONDS;
+  let stalled = false;
   const workers = Math.max(1, opts.workers ?? defaultWorkerCount());
   const block = opts.block ?? 256;
   const shares: Share[] = Array.from({ length: workers }, (_, i) => ({ index: i, count: workers, block }));
@@ -75,9 +97,40 @@ export async function analyzeFile(path: string, options: AnalyzeFileOptions): Pr
             if (opts.signal?.aborted) return reject(abortError());
             const w = new Worker(opts.workerScript ?? workerScriptPath());
             threads.push(w);
-            const onAbort = () => reject(abortError());
+            // The watchdog: a worker that reports no new record and no new byte for the set
+            // time is ended, and its share stops with a read-stalled finding instead of hanging.
+            let lastMove = Date.now();
+            let lastDone = -1;
+            let lastEntries = -1;
+            let seen = 0;
+            const timer =
+              stallSeconds > 0
+                ? setInterval(() => {
+                    if (Date.now() - lastMove < stallSeconds * 1000) return;
+                    clearInterval(timer);
+                    void w.terminate();
+                    if (!stalled) {
+                      stalled = true;
+                      opts.onFileFindings?.(applyPolicyAll([stalledFinding(stallSeconds, Math.max(seen, lastEntries))], opts.config.rules));
+                    }
+                    resolve();
+                  }, Math.min(1000, stallSeconds * 250))
+                : undefined;
+            const settle = () => clearInterval(timer);
+            const onAbort = () => {
+              settle();
+              reject(abortError());
+            };
             opts.signal?.addEventListener('abort', onAbort, { once: true });
             w.on('message', (ev: WorkerEvent) => {
+              if (ev.kind === 'progress') {
+                if (ev.progress.done !== lastDone || ev.progress.entries !== lastEntries) lastMove = Date.now();
+                lastDone = ev.progress.done;
+                lastEntries = ev.progress.entries;
+              } else if (ev.kind === 'outcomes') {
+                lastMove = Date.now();
+                seen += ev.outcomes.length;
+              } else lastMove = Date.now();
               switch (ev.kind) {
                 case 'info':
                   opts.onInfo?.(ev.info);
@@ -94,10 +147,12 @@ export async function analyzeFile(path: string, options: AnalyzeFileOptions): Pr
                   opts.onOutcomes(ev.outcomes);
                   break;
                 case 'done':
+                  settle();
                   opts.signal?.removeEventListener('abort', onAbort);
                   resolve();
                   break;
                 case 'error': {
+                  settle();
                   const e = new Error(ev.message);
                   e.name = ev.name;
                   reject(e);
@@ -105,8 +160,12 @@ export async function analyzeFile(path: string, options: AnalyzeFileOptions): Pr
                 }
               }
             });
-            w.on('error', reject);
+            w.on('error', (e) => {
+              settle();
+              reject(e);
+            });
             w.on('exit', (code) => {
+              settle();
               if (code !== 0) reject(new Error(`analysis worker stopped unexpectedly (exit code ${code})`));
             });
             const req: WorkerRequest = { id: 1, op: 'analyze', path, config: opts.config, share, open: opts.open ?? {} };

@@ -9,6 +9,8 @@ import type { OpenOptions } from '../engine/sources/index.js';
 import type { Entry, Progress, SourceInfo } from '../engine/sources/source.js';
 import type { WorkerEvent, WorkerRequest } from './messages.js';
 import { workerScriptPath } from './pool.js';
+import { DEFAULT_STALL_SECONDS } from '../engine/sources/index.js';
+import { installTempCleanup } from '../engine/sources/tempFiles.js';
 
 type Pending = { resolve: (ev: WorkerEvent) => void; reject: (e: Error) => void };
 
@@ -36,9 +38,24 @@ export class SourceSession {
     private readonly script = workerScriptPath(),
   ) {}
 
-  /** Opens the shard and starts indexing; resolves with the first description. */
-  start(): Promise<SourceInfo> {
-    this.spawn();
+  /** Why the worker was stopped by the watchdog, once it has been. */
+  private stopped: string | null = null;
+  private lastMove = Date.now();
+  private indexing = false;
+  private watchdog: ReturnType<typeof setInterval> | null = null;
+
+  /**
+   * The watchdog: while the worker owes an answer (indexing, a page, a token count) and sends
+   * nothing for the set time, it is ended, every pending request fails with a clear sentence and
+   * the view is told, instead of a frozen panel.
+   */
+  private watch(): void {
+    const seconds = this.open.stallSeconds ?? DEFAULT_STALL_SECONDS;
+    if (seconds <= 0 || this.watchdog) return;
+    this.watchdog = setInterval(() => {
+      const busy = this.indexing || [...this.pending.keys()].some((id) => id !== this.openId);
+      if (!busy) {
+        this.lastMove = Date.now();
     return new Promise<SourceInfo>((resolve, reject) => {
       let first = true;
       this.openId = this.nextId++;
@@ -64,10 +81,12 @@ export class SourceSession {
             this.events.onProgress(ev.progress);
             break;
           case 'done':
+            this.indexing = false;
             this.pending.delete(id);
             this.route.delete(id);
             break;
           case 'error':
+            this.indexing = false;
             this.pending.delete(id);
             this.route.delete(id);
             if (first) reject(new Error(ev.message));
@@ -137,6 +156,8 @@ export class SourceSession {
 
   dispose(): void {
     this.disposed = true;
+    if (this.watchdog) clearInterval(this.watchdog);
+    this.watchdog = null;
     for (const p of this.pending.values()) p.reject(new Error('the record view was closed'));
     this.pending.clear();
     void this.worker?.terminate();
@@ -151,6 +172,7 @@ export class SourceSession {
     const w = new Worker(this.script);
     this.worker = w;
     w.on('message', (ev: WorkerEvent) => {
+      if (this.worker === w) this.lastMove = Date.now();
       const r = this.route.get(ev.id);
       if (r) return r(ev);
       const p = this.pending.get(ev.id);
@@ -174,6 +196,8 @@ export class SourceSession {
 
   private request(req: WorkerRequest): Promise<WorkerEvent> {
     if (this.disposed) return Promise.reject(new Error('the record view was closed'));
+    if (this.stopped) return Promise.reject(new Error(this.stopped));
+    if (this.pending.size === 0 || [...this.pending.keys()].every((id) => id === this.openId)) this.lastMove = Date.now();
     return new Promise((resolve, reject) => {
       this.pending.set(req.id, { resolve, reject });
       this.post(req);

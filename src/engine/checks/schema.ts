@@ -9,10 +9,18 @@ import draft06Meta from 'ajv/dist/refs/json-schema-draft-06.json';
 import type { CheckConfig } from '../config.js';
 import { joinPointer, splitPointer, type RecordIssue, type RuleInfo } from '../findings.js';
 import type { Check, RecordResult, RecordUnderCheck } from './check.js';
+import { PatternBudgetError, compilePattern, withDeadline } from '../text/pattern.js';
 
 export const SCHEMA_RULES: RuleInfo[] = [
   { id: 'schema-violation', family: 'schema', severity: 'error', summary: 'The record does not match the configured JSON Schema.' },
+  { id: 'schema-timeout', family: 'schema', severity: 'error', summary: "Validating the record against the JSON Schema ran past its time budget (a pattern that backtracks); the record is not fully checked." },
 ];
+
+/** Time one record's validation may take; a schema's patterns check it before every match. */
+export const SCHEMA_TIME_BUDGET_MS = 1000;
+
+/** ajv's hook for pattern engines (`code.regExp`): linear-time where the pattern allows, interruptible elsewhere. */
+const patternEngine = Object.assign((pattern: string, u: string) => compilePattern(pattern, u), { code: 'shardwisePattern' });
 
 /** One record yields at most this many issues: a list of thousands of bad items must not flood the panel. */
 export const MAX_ISSUES_PER_RECORD = 100;
@@ -24,6 +32,8 @@ export interface CompileOptions {
   remotes?: ReadonlyMap<string, unknown>;
   /** The draft of a schema that names none in `$schema` (2020-12 unless given). */
   defaultDraft?: SchemaDraft;
+  /** Milliseconds one record's validation may take (default SCHEMA_TIME_BUDGET_MS). */
+  timeBudgetMs?: number;
 }
 
 export type RecordValidator = (value: unknown) => RecordIssue[];
@@ -58,7 +68,7 @@ export function schemaDraft(schema: unknown, source: string, defaultDraft: Schem
 function makeAjv(draft: SchemaDraft, validateSchema: boolean): Ajv {
   // Formats are annotations unless asked otherwise (JSON Schema 2020-12 §7.2.1), and no format plugin is installed.
   // ownProperties: a record's "toString" or "__proto__" key is its own, never one inherited from Object.prototype.
-  const options: Options = { allErrors: true, strict: false, validateFormats: false, logger: false, validateSchema, ownProperties: true };
+  const options: Options = { allErrors: true, strict: false, validateFormats: false, logger: false, validateSchema, ownProperties: true, code: { regExp: patternEngine } };
   switch (draft) {
     case '2020-12':
       return new Ajv2020(options);
@@ -99,11 +109,15 @@ export function compileSchema(schema: unknown, source: string, options: CompileO
     const why = err instanceof Error ? err.message : String(err);
     throw new Error(`JSON Schema from ${source} does not compile (${draft}): ${why}`);
   }
+  const budget = options.timeBudgetMs ?? SCHEMA_TIME_BUDGET_MS;
   return (value: unknown): RecordIssue[] => {
     try {
-      if (validate(value)) return [];
+      if (withDeadline(budget, () => validate(value))) return [];
       return issuesFromErrors(validate.errors ?? [], value);
     } catch (err) {
+      if (err instanceof PatternBudgetError) {
+        return [{ rule: 'schema-timeout', message: `validation stopped after its ${budget} ms budget: the ${err.message.replace(/ ran out of the time budget$/, '')} backtracks too long on this record; the record is not fully checked`, pointer: '' }];
+      }
       // A record nested deeper than the call stack, say: report it instead of ending the analysis.
       const why = err instanceof Error ? err.message : String(err);
       return [{ rule: 'schema-violation', message: `validation could not finish: ${why}`, pointer: '' }];

@@ -418,3 +418,32 @@ export function locatePointer(text: string, pointer: string): { column: number; 
   }
   return { column: i + 1, found: true };
 }
+
+/**
+ * The 0-based offset of the bracket that opens nesting level `max + 1`, or -1 when the text never
+ * nests that deep. Counts brackets outside strings only; cheap enough to run before a parser whose
+ * own recursion a hostile record could exhaust.
+ */
+export function depthBeyond(text: string, max = MAX_DEPTH): number {
+  if (text.length <= max) return -1;
+  let depth = 0;
+  const n = text.length;
+  for (let j = 0; j < n; j++) {
+    const t = text.charCodeAt(j);
+    if (t === 0x22) {
+      // Skip the string, honouring escapes; an unterminated one ends the text.
+      j++;
+      while (j < n) {
+        const s = text.charCodeAt(j);
+        if (s === 0x5c) j += 2;
+        else if (s === 0x22) break;
+        else j++;
+      }
+      continue;
+    }
+    if (t === 0x7b || t === 0x5b) {
+      if (++depth > max) return j;
+    } else if (t === 0x7d || t === 0x5d) depth--;
+  }
+  return -1;
+}

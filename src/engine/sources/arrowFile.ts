@@ -5,7 +5,8 @@ import { RecordBatchReader, Table, tableToIPC } from 'apache-arrow';
 import type { ByteReader } from './source.js';
 import { readFinding } from './columnarRules.js';
 import { ArrowSourceBase, headerBlock, ipcFinding, type ArrowSourceOptions, type Layout } from './columnar/arrowBase.js';
-import { FILE_MAGIC, MESSAGE_RECORD_BATCH, MESSAGE_SCHEMA, NEWEST_METADATA_VERSION, readFooter, readMessageAt, walkMessages, IpcFormatError } from './columnar/ipc.js';
+import { FILE_MAGIC, MESSAGE_RECORD_BATCH, MESSAGE_SCHEMA, NEWEST_METADATA_VERSION, readFooter, readMessageAt, walkMessages, IpcFormatError, validateSchemaTable } from './columnar/ipc.js';
+import { FbTable } from './columnar/flatbuf.js';
 
 /** The stream inside an Arrow file starts after the 6-byte magic and 2 bytes of padding. */
 const STREAM_START = 8;
@@ -16,6 +17,10 @@ async function schemaMessageFromFooter(reader: ByteReader): Promise<Uint8Array> 
   const tail = await reader.read(size - 10, 10);
   const footerLen = new DataView(tail.buffer, tail.byteOffset, 4).getInt32(0, true);
   const footer = await reader.read(size - 10 - footerLen, footerLen);
+  // The footer's schema is checked by hand before the library decodes it.
+  const schemaTable = FbTable.root(footer).table(1);
+  if (!schemaTable) throw new IpcFormatError('neither a schema message nor a schema in the footer', 'corrupt');
+  validateSchemaTable(schemaTable);
   const shell = new Uint8Array(8 + footerLen + 10);
   shell.set(FILE_MAGIC, 0);
   shell.set(footer, 8);

@@ -12,7 +12,15 @@ import { JsonArraySource } from './jsonArray.js';
 export interface OpenOptions {
   /** Lines longer than this are findings and are not parsed. */
   maxLineBytes?: number;
+  /**
+   * A read in a worker that makes no progress (no record, no byte) for this many seconds is
+   * stopped, with a `read-stalled` finding (default DEFAULT_STALL_SECONDS; 0 turns the watchdog off).
+   */
+  stallSeconds?: number;
 }
+
+/** How long a read may make no progress before its worker is stopped. */
+export const DEFAULT_STALL_SECONDS = 10;
 
 export interface FormatEntry {
   readonly format: FormatName;

@@ -3,14 +3,16 @@
 // then parsed alone (RFC 8259), so a broken element is one finding, not a lost file. A gzip or
 // zstd file is decompressed once, while indexing, into a temporary file that pages then read.
 
-import { mkdtemp, open, rm } from 'node:fs/promises';
-import { tmpdir } from 'node:os';
+import { open, rm } from 'node:fs/promises';
 import { join } from 'node:path';
 import type { Finding } from '../findings.js';
 import type { ByteReader, Entry, RecordSource, ScanOptions, SourceInfo } from './source.js';
 import { errorText, readFinding } from './columnarRules.js';
 import { openFileReader, type ReaderFactory } from './columnar/byteReader.js';
-import { compressionOf, decompressedChunks, type Compression } from './jsonl.js';
+import { EMPTY_FILE_MESSAGE, FileShrankError, compressionOf, decompressedChunks, type Compression } from './jsonl.js';
+import { DecompressError } from './decompress.js';
+import { DiskSpaceError, MIN_FREE_BYTES, freeBytes, makeTempDir } from './tempFiles.js';
+import { MAX_DEPTH, depthBeyond } from '../json/scan.js';
 
 export interface JsonArraySourceOptions {
   openReader?: ReaderFactory;
@@ -211,7 +213,7 @@ export class JsonArraySource implements RecordSource {
     } else if (state === 'open') {
       fileFindings.push(readFinding('array-structure', 'the file ends before the array is closed with "]"', { line, column }));
     } else if (state === 'before') {
-      fileFindings.push(readFinding('array-structure', size === 0 ? 'the file is empty: no JSON array' : 'the file holds only white space: no JSON array', { line, column }));
+      fileFindings.push(size === 0 ? readFinding('read-empty', EMPTY_FILE_MESSAGE) : readFinding('array-structure', 'the file holds only white space: no JSON array', { line, column }));
     }
     if (sawBom) fileFindings.push(readFinding('array-structure', 'the file starts with a byte order mark, which JSON text must not (RFC 8259 §8.1)', { line: 1, column: 1 }, 'warning'));
     const facts = { ...this.current.facts };
@@ -231,18 +233,33 @@ export class JsonArraySource implements RecordSource {
       const chunk = this.opts.chunkBytes ?? 1 << 20;
       for (let at = 0; at < total; at += chunk) {
         signal?.throwIfAborted();
-        yield { bytes: await reader.read(at, Math.min(chunk, total - at)), done: Math.min(total, at + chunk), total };
+        const want = Math.min(chunk, total - at);
+        const bytes = await reader.read(at, want);
+        if (bytes.length < want) {
+          findings.push(readFinding('read-corrupt', new FileShrankError(this.path, at + bytes.length, total).message));
+          if (bytes.length) yield { bytes, done: at + bytes.length, total };
+          return;
+        }
+        yield { bytes, done: Math.min(total, at + chunk), total };
       }
       return;
     }
-    this.tempDir ??= await mkdtemp(join(tmpdir(), 'shardwise-json-'));
+    this.tempDir ??= await makeTempDir('json');
     const copy = join(this.tempDir, 'decompressed.json');
     const out = await open(copy, 'w');
     let written = 0;
     let consumed = 0;
+    let nextDiskCheck = 0;
     try {
       for await (const bytes of decompressedChunks(this.path, this.compression, (n) => (consumed += n))) {
         signal?.throwIfAborted();
+        if (written >= nextDiskCheck) {
+          const free = await freeBytes(this.tempDir);
+          if (free - (64 << 20) < MIN_FREE_BYTES) {
+            throw new DiskSpaceError(`the decompressed copy stopped at ${written} bytes: the temporary folder's disk has ${free} bytes left and ${MIN_FREE_BYTES} must stay free`);
+          }
+          nextDiskCheck = written + (64 << 20);
+        }
         // Written before it is tokenized, so every span found is readable from the copy.
         let off = 0;
         while (off < bytes.length) off += (await out.write(bytes, off, bytes.length - off, written + off)).bytesWritten;
@@ -252,7 +269,12 @@ export class JsonArraySource implements RecordSource {
     } catch (e) {
       signal?.throwIfAborted();
       if ((e as Error)?.name === 'AbortError') throw e;
-      findings.push(readFinding('read-corrupt', `the ${this.compression} stream is corrupt or cut short after ${written} decompressed bytes (${errorText(e)}); elements up to there were read`));
+      if (e instanceof DecompressError || e instanceof DiskSpaceError) {
+        const limit = e instanceof DiskSpaceError || e.problem === 'limit';
+        findings.push(readFinding(limit ? 'read-limit' : 'read-corrupt', `${e.message.replace(/; (all|everything)[^;]*$/, '')}; elements up to there were read`));
+      } else {
+        findings.push(readFinding('read-corrupt', `the ${this.compression} stream stopped after ${written} decompressed bytes (${errorText(e)}); elements up to there were read`));
+      }
     } finally {
       await out.close();
       this.reader = await openFileReader(copy);
@@ -312,6 +334,13 @@ export class JsonArraySource implements RecordSource {
     }
     entry.text = text;
     if (findings.some((f) => f.rule === 'read-truncated')) {
+      entry.record = null;
+      return entry;
+    }
+    // Checked before parsing: the same cap as a JSON Lines line, and no parser recursion to exhaust.
+    const deep = depthBeyond(text, MAX_DEPTH);
+    if (deep >= 0) {
+      findings.push(readFinding('array-element-syntax', `the element nests deeper than ${MAX_DEPTH} levels (at character ${deep + 1} of the element); it is not read`, place));
       entry.record = null;
       return entry;
     }

@@ -1,34 +1,37 @@
 // JSONL shards (plain, gzip, zstd): a streaming line index for random access, and entries with the
 // source's own findings (syntax, blank lines, encoding, over-long lines) already located.
 
-import { createReadStream } from 'node:fs';
-import { mkdtemp, open, rm, stat, type FileHandle } from 'node:fs/promises';
-import { tmpdir } from 'node:os';
+import { open, rm, stat, type FileHandle } from 'node:fs/promises';
 import { join } from 'node:path';
-import { createGunzip } from 'node:zlib';
-import { Decompress } from 'fzstd';
 import type { Finding } from '../findings.js';
 import { MAX_DEPTH, parseLine, scanJson, type ScanNote } from '../json/scan.js';
 import { LineSplitter } from '../text/lines.js';
 import { decodeLine, hasBom } from '../text/utf8.js';
 import { jsonlRule, type JsonlRuleId } from './jsonlRules.js';
 import type { Entry, Progress, RecordSource, ScanOptions, SourceInfo } from './source.js';
+import { DecompressError, decompress } from './decompress.js';
+import { DiskSpaceError, MIN_FREE_BYTES, freeBytes, makeTempDir } from './tempFiles.js';
 
 export interface JsonlOptions {
   /** What the bytes are compressed with, when sniffed; else the name decides. */
   compression?: Compression;
   /** Lines longer than this many bytes are findings and are never turned into strings. */
   maxLineBytes?: number;
+  /** Decompressing stops past this many times the compressed size (default DEFAULT_MAX_INFLATE_RATIO). */
+  maxInflateRatio?: number;
+  /** Free bytes a temporary copy always leaves on its disk (default MIN_FREE_BYTES). */
+  minFreeBytes?: number;
 }
 
 export type Compression = 'none' | 'gzip' | 'zstd';
 
 export const DEFAULT_MAX_LINE_BYTES = 64 * 1024 * 1024;
+
+/** The one message for a 0-byte file of any format: an empty shard is an error (a failed write, most often), never a pass. */
+export const EMPTY_FILE_MESSAGE = 'the file is empty (0 bytes): it holds no records';
 const CHUNK_BYTES = 4 * 1024 * 1024;
-/** Small input pieces bound how much one push into the zstd decoder can expand to. */
-const ZSTD_INPUT_BYTES = 64 * 1024;
-/** At most 2 KiB of input per push: 512 RLE blocks, 64 MiB of output at the very worst. */
-const ZSTD_PUSH_BYTES = 2 * 1024;
+/** Free disk space is checked again after this many bytes of a temporary copy. */
+const DISK_CHECK_BYTES = 64 * 1024 * 1024;
 /** A read() groups neighbouring lines into one positional read up to this size. */
 const READ_SEGMENT_BYTES = 8 * 1024 * 1024;
 
@@ -172,99 +175,35 @@ export function buildEntry(entry: number, byteOffset: number, bytes: Uint8Array 
   return result;
 }
 
-/** Chunks of the decompressed stream; `onInput` reports compressed bytes consumed. */
-export async function* decompressedChunks(path: string, compression: Compression, onInput: (n: number) => void): AsyncGenerator<Uint8Array> {
-  if (compression === 'gzip') {
-    if ((await stat(path)).size === 0) return; // an empty file is an empty shard, as for zstd
-    // Small input pieces: on a bad second member header, only the last piece's output is lost.
-    const rs = createReadStream(path, { highWaterMark: 64 * 1024 });
-    const gz = createGunzip({ chunkSize: 1024 * 1024 });
-    // Own queue instead of for-await: output decoded before an error must still reach the caller.
-    const queue: Buffer[] = [];
-    let ended = false;
-    let failure: unknown = null;
-    let wake: (() => void) | null = null;
-    const notify = () => {
-      const w = wake;
-      wake = null;
-      w?.();
-    };
-    gz.on('data', (c: Buffer) => {
-      queue.push(c);
-      if (queue.length >= 4) gz.pause();
-      notify();
-    });
-    gz.on('end', () => {
-      ended = true;
-      notify();
-    });
-    gz.on('error', (e) => {
-      failure = e;
-      ended = true;
-      notify();
-    });
-    rs.on('data', (b) => onInput(b.length));
-    rs.on('error', (e) => gz.destroy(e));
-    rs.pipe(gz);
-    try {
-      for (;;) {
-        if (queue.length) {
-          const c = queue.shift()!;
-          if (queue.length < 4 && !ended) gz.resume();
-          yield c;
-          continue;
-        }
-        if (ended) {
-          if (failure) throw failure;
-          return;
-        }
-        await new Promise<void>((r) => (wake = r));
-      }
-    } finally {
-      rs.destroy();
-      gz.destroy();
-    }
-  }
-  const fh = await open(path, 'r');
-  try {
-    const size = (await fh.stat()).size;
-    let out: Uint8Array[] = [];
-    // fzstd reuses its window after the callback returns, so each block is copied.
-    const d = new Decompress((data) => {
-      if (data.length) out.push(data.slice());
-    });
-    let pos = 0;
-    if (size === 0) d.push(new Uint8Array(0), true);
-    while (pos < size) {
-      // A fresh buffer each time: the decoder keeps references to input it has not used yet.
-      const buf = new Uint8Array(ZSTD_INPUT_BYTES);
-      const { bytesRead } = await fh.read(buf, 0, buf.length, pos);
-      if (bytesRead === 0) break;
-      pos += bytesRead;
-      onInput(bytesRead);
-      // Small pushes, each drained before the next: a run of RLE blocks cannot pile up gigabytes.
-      for (let o = 0; o < bytesRead; o += ZSTD_PUSH_BYTES) {
-        const end = Math.min(bytesRead, o + ZSTD_PUSH_BYTES);
-        d.push(buf.subarray(o, end), pos >= size && end === bytesRead);
-        if (out.length) {
-          const ready = out;
-          out = [];
-          for (const c of ready) yield c;
-        }
-      }
-    }
-  } finally {
-    await fh.close();
+/**
+ * Chunks of the decompressed stream; `onInput` reports compressed bytes consumed. Throws a
+ * DecompressError (a whole sentence) after yielding everything that decoded.
+ */
+export function decompressedChunks(path: string, compression: Compression, onInput: (n: number) => void, maxInflateRatio?: number): AsyncGenerator<Uint8Array> {
+  if (compression === 'none') throw new Error(`${path}: not compressed`);
+  return decompress(path, compression, { onInput, maxInflateRatio });
+}
+
+/** Thrown when a plain file is shorter than it was when opened: it changed while being read. */
+export class FileShrankError extends Error {
+  constructor(
+    readonly path: string,
+    readonly at: number,
+    readonly expected: number,
+  ) {
+    super(`the file ended at byte ${at} while ${expected} bytes were expected: it was truncated or replaced while being read; what came before was read`);
+    this.name = 'FileShrankError';
   }
 }
 
 /** Plain-file chunks from `offset` on, read positionally through a shared handle. */
-async function* fileChunks(handle: FileHandle, offset: number, size: number): AsyncGenerator<Uint8Array> {
+async function* fileChunks(handle: FileHandle, offset: number, size: number, path = ''): AsyncGenerator<Uint8Array> {
   const buf = new Uint8Array(CHUNK_BYTES);
   let pos = offset;
   while (pos < size) {
     const { bytesRead } = await handle.read(buf, 0, Math.min(buf.length, size - pos), pos);
-    if (bytesRead === 0) break;
+    // Short of the size seen at open: the file shrank or was replaced underneath us.
+    if (bytesRead === 0) throw new FileShrankError(path, pos, size);
     pos += bytesRead;
     yield buf.subarray(0, bytesRead);
   }
@@ -299,7 +238,12 @@ export class JsonlSource implements RecordSource {
   ) {
     this.maxLineBytes = opts.maxLineBytes ?? DEFAULT_MAX_LINE_BYTES;
     this.compression = opts.compression ?? compressionOf(path);
+    this.maxInflateRatio = opts.maxInflateRatio;
+    this.minFreeBytes = opts.minFreeBytes ?? MIN_FREE_BYTES;
   }
+
+  private readonly maxInflateRatio: number | undefined;
+  private readonly minFreeBytes: number;
 
   async open(): Promise<SourceInfo> {
     if (this.closed) throw new Error(`${this.path}: the source was closed`);
@@ -332,6 +276,9 @@ export class JsonlSource implements RecordSource {
   info(): SourceInfo {
     const facts: Record<string, string> = { compression: this.compression, records: String(this.records) };
     if (this.compression !== 'none' && this.complete) facts.decompressedBytes = String(this.decompressedSize);
+    const findings = [...this.findings];
+    // One verdict for an empty shard, whatever its format (see EMPTY_FILE_MESSAGE).
+    if (this.opened && this.sizeBytes === 0) findings.unshift(this.fileFinding('read-empty', EMPTY_FILE_MESSAGE));
     return {
       format: 'jsonl',
       path: this.path,
@@ -339,7 +286,7 @@ export class JsonlSource implements RecordSource {
       entries: this.count,
       complete: this.complete,
       facts,
-      findings: [...this.findings],
+      findings,
     };
   }
 
@@ -407,11 +354,16 @@ export class JsonlSource implements RecordSource {
     check();
     if (this.compression === 'none') {
       let done = 0;
-      for await (const chunk of fileChunks(this.handle!, 0, this.sizeBytes)) {
-        check();
-        splitter.push(chunk);
-        done += chunk.length;
-        progress(done);
+      try {
+        for await (const chunk of fileChunks(this.handle!, 0, this.sizeBytes, this.path)) {
+          check();
+          splitter.push(chunk);
+          done += chunk.length;
+          progress(done);
+        }
+      } catch (e) {
+        if (!(e instanceof FileShrankError)) throw e;
+        this.findings.push(this.fileFinding('read-corrupt', e.message));
       }
       splitter.end();
       this.decompressedSize = done;
@@ -420,9 +372,20 @@ export class JsonlSource implements RecordSource {
       const out = this.handle!;
       let written = 0;
       let consumed = 0;
+      let nextDiskCheck = 0;
       try {
-        for await (const chunk of decompressedChunks(this.path, this.compression, (n) => (consumed += n))) {
+        for await (const chunk of decompressedChunks(this.path, this.compression, (n) => (consumed += n), this.maxInflateRatio)) {
           check();
+          if (written >= nextDiskCheck) {
+            // The copy must never fill the disk: stop while a margin is left.
+            const free = await freeBytes(this.tempDir!);
+            if (free - DISK_CHECK_BYTES < this.minFreeBytes) {
+              throw new DiskSpaceError(
+                `the decompressed copy stopped at ${formatBytes(written)}: ${formatBytes(free)} are left on the temporary folder's disk and ${formatBytes(this.minFreeBytes)} must stay free; lines up to there were read`,
+              );
+            }
+            nextDiskCheck = written + DISK_CHECK_BYTES;
+          }
           // Written before the lines are published, so read() always finds their bytes.
           let off = 0;
           while (off < chunk.length) {
@@ -441,6 +404,9 @@ export class JsonlSource implements RecordSource {
       }
       splitter.end();
       this.decompressedSize = written;
+      if (written === 0 && this.sizeBytes > 0 && !this.findings.some((f) => f.family === 'read')) {
+        this.findings.push(this.fileFinding('read-empty', `the ${this.compression} file decompresses to 0 bytes: it holds no records`));
+      }
     }
     this.complete = true;
     progress(this.sizeBytes);
@@ -448,13 +414,17 @@ export class JsonlSource implements RecordSource {
   }
 
   private corruptFinding(e: unknown, decompressed: number): Finding {
-    const r = jsonlRule('read-corrupt');
+    if (e instanceof DecompressError) return this.fileFinding(e.problem === 'limit' ? 'read-limit' : 'read-corrupt', e.message.replace(/; (all|everything)[^;]*$/, '') + '; lines up to there were read');
+    if (e instanceof DiskSpaceError) return this.fileFinding('read-limit', e.message);
     const what = this.compression === 'gzip' ? 'gzip' : 'zstd';
-    return {
-      rule: 'read-corrupt', family: r.family, severity: r.severity,
-      message: `${what} stream is corrupt or truncated after ${decompressed} decompressed bytes (${(e as Error)?.message ?? String(e)}); lines up to there were read`,
-      record: null, line: null, column: null, pointer: null, entry: null,
-    };
+    const code = (e as NodeJS.ErrnoException)?.code;
+    const why = code === 'ENOSPC' ? 'the temporary folder\'s disk is full' : code ? `a system error, ${code}` : 'an unexpected error';
+    return this.fileFinding('read-corrupt', `the ${what} stream stopped after ${decompressed} decompressed bytes (${why}); lines up to there were read`);
+  }
+
+  private fileFinding(rule: JsonlRuleId, message: string): Finding {
+    const r = jsonlRule(rule);
+    return { rule, family: r.family, severity: r.severity, message, record: null, line: null, column: null, pointer: null, entry: null };
   }
 
   private async prepareTempFile(): Promise<void> {
@@ -462,7 +432,7 @@ export class JsonlSource implements RecordSource {
       await this.handle.close();
       this.handle = null;
     }
-    if (!this.tempDir) this.tempDir = await mkdtemp(join(tmpdir(), 'shardwise-jsonl-'));
+    if (!this.tempDir) this.tempDir = await makeTempDir('jsonl');
     this.handle = await open(join(this.tempDir, 'decompressed.jsonl'), 'w+');
   }
 
@@ -551,8 +521,8 @@ export class JsonlSource implements RecordSource {
     const total = this.sizeBytes;
     const seekable = this.compression === 'none' || (this.complete && this.handle !== null);
     const chunks = seekable
-      ? fileChunks(this.handle!, byteStart, this.decompressedSize)
-      : decompressedChunks(this.path, this.compression, (n) => (consumed += n));
+      ? fileChunks(this.handle!, byteStart, this.decompressedSize, this.path)
+      : decompressedChunks(this.path, this.compression, (n) => (consumed += n), this.maxInflateRatio);
     let decompressed = 0;
     try {
       for await (const chunk of chunks) {
@@ -564,11 +534,20 @@ export class JsonlSource implements RecordSource {
         if (entry >= to) return;
       }
     } catch (e) {
-      if ((e as Error)?.name === 'AbortError' || seekable) throw e;
-      if (!this.findings.some((f) => f.rule === 'read-corrupt')) this.findings.push(this.corruptFinding(e, decompressed));
+      if ((e as Error)?.name === 'AbortError') throw e;
+      if (e instanceof FileShrankError) {
+        if (!this.findings.some((f) => f.message === e.message)) this.findings.push(this.fileFinding('read-corrupt', e.message));
+      } else {
+        if (seekable) throw e;
+        const f = this.corruptFinding(e, decompressed);
+        if (!this.findings.some((x) => x.rule === f.rule)) this.findings.push(f);
+      }
     }
     splitter.end();
     for (const e of pending.splice(0)) yield e;
+    if (!seekable && decompressed === 0 && this.sizeBytes > 0 && !this.findings.some((f) => f.family === 'read')) {
+      this.findings.push(this.fileFinding('read-empty', `the ${this.compression} file decompresses to 0 bytes: it holds no records`));
+    }
   }
 
   async close(): Promise<void> {

@@ -10,6 +10,7 @@ import { ByteBudgetCache, batchEntries, groupOf, lostEntries } from './columnar/
 import { schemaColumns } from './columnar/toJson.js';
 import { guardWasm } from './columnar/wasmGuard.js';
 import { structFieldIds } from './columnar/thrift.js';
+import { EMPTY_FILE_MESSAGE } from './jsonl.js';
 
 export { wasmFaults } from './columnar/wasmGuard.js';
 
@@ -46,6 +47,22 @@ const CODEC_NAMES = ['uncompressed', 'snappy', 'gzip', 'brotli', 'lz4 (hadoop fr
 
 const MAGIC = [0x50, 0x41, 0x52]; // "PAR"
 
+/** What one row group may decode to unless the caller says otherwise: wasm memory is capped at 4 GiB. */
+export const DEFAULT_MAX_DECODED_BYTES = 1024 * 1024 * 1024;
+
+/**
+ * Rows a footer may claim per byte of file. A row costs at least a bit of a definition level or of
+ * a value on some page, and writers cap a page at 20,000 rows (parquet-mr's and arrow-rs's default
+ * page row limit, from memory) behind a page header of a dozen bytes or more; 1,024 rows a byte is
+ * far above what any writer produces, yet keeps a forged count from building billions of entries.
+ */
+export const MAX_ROWS_PER_FILE_BYTE = 1024;
+/** Rows one row group may hold at most, whatever the file size: Arrow arrays index rows with 32-bit offsets. */
+export const MAX_ROWS_PER_GROUP = 2 ** 31 - 1;
+
+/** Rows a scan turns into entries at a time, so a large row group never becomes millions of objects at once. */
+const SCAN_SLICE_ROWS = 4096;
+
 const ENCRYPTED_FOOTER = 'encrypted Parquet (PARE): the footer is encrypted (Parquet modular encryption); Shardwise does not decrypt files';
 const ENCRYPTED_COLUMNS = 'encrypted Parquet (plaintext footer): the columns are encrypted (Parquet modular encryption); Shardwise does not decrypt files';
 
@@ -66,6 +83,8 @@ export class ParquetSource implements RecordSource {
   private cache: ByteBudgetCache<Decoded | Error>;
   /** Bytes each group decodes to, per column (top-level name), from the footer. */
   private groupColumnBytes: Map<string, number>[] = [];
+  /** Row groups refused at open (their footer-declared size is over the limit): their rows stay empty. */
+  private refusedGroups = new Set<number>();
 
   constructor(
     readonly path: string,
@@ -107,7 +126,18 @@ export class ParquetSource implements RecordSource {
     try {
       this.describe(file, facts);
     } catch (e) {
-      findings.push(readFinding('read-footer-invalid', `the footer's metadata does not decode: ${errorText(e)}`));
+      this.groups = [];
+      this.firstRows = [];
+      this.groupColumnBytes = [];
+      this.current.entries = 0;
+      this.current.groups = [];
+      findings.push(readFinding('read-footer-invalid', e instanceof FooterLimitError ? e.message : `the footer's metadata does not decode: ${errorText(e)}`));
+      this.file = null;
+      try {
+        file.free();
+      } catch {
+        // Already released.
+      }
       return this.info();
     }
     try {
@@ -138,6 +168,7 @@ export class ParquetSource implements RecordSource {
 
   /** Magic at both ends; an encrypted footer ("PARE") is named, not decoded. */
   private async checkEnds(size: number): Promise<Finding | null> {
+    if (size === 0) return readFinding('read-empty', EMPTY_FILE_MESSAGE);
     if (size < 12) return readFinding('read-footer-invalid', `the file is ${size} bytes: too short for Parquet (magic, footer, magic)`);
     const head = await this.reader!.read(0, 4);
     const tail = await this.reader!.read(size - 8, 8);
@@ -164,7 +195,7 @@ export class ParquetSource implements RecordSource {
     this.groupColumnBytes = [];
     for (let k = 0; k < md.numRowGroups(); k++) {
       const rg = md.rowGroup(k);
-      const rows = rg.numRows();
+      const rows = Number(rg.numRows());
       const perColumn: Record<string, string> = {};
       const bytes = new Map<string, number>();
       let compressed = 0;
@@ -185,7 +216,29 @@ export class ParquetSource implements RecordSource {
       first += rows;
     }
     facts.compression = [...codecs].join(', ') || 'none';
-    const total = fmd.numRows();
+    const size = this.reader?.size ?? 0;
+    const rowLimit = Math.min(MAX_ROWS_PER_GROUP, Math.max(1024, size * MAX_ROWS_PER_FILE_BYTE));
+    const forged = this.groups.find((g) => !Number.isSafeInteger(g.rows) || g.rows < 0 || g.rows > rowLimit);
+    if (forged) {
+      // Refused before any entry exists: a forged count must not become one entry per claimed row.
+      throw new FooterLimitError(
+        `row group ${forged.index} claims ${forged.rows} rows, more than a ${size}-byte file can hold (at most ${rowLimit}); the footer is corrupt, no rows are read`,
+      );
+    }
+    const budget = this.opts.maxDecodedBytes ?? DEFAULT_MAX_DECODED_BYTES;
+    for (const g of this.groups) {
+      if ((g.uncompressedBytes ?? 0) > budget) {
+        this.refusedGroups.add(g.index);
+        this.current.findings.push(
+          readFinding(
+            'read-unsupported',
+            `row group ${g.index} decodes to ${formatSize(g.uncompressedBytes ?? 0)} by its footer, over the ${formatSize(budget)} limit for one row group; its ${g.rows} rows are not read`,
+            { group: g.index, entry: g.firstRow, record: g.firstRow, rowInGroup: 0 },
+          ),
+        );
+      }
+    }
+    const total = Number(fmd.numRows());
     if (total !== first) {
       this.current.findings.push(readFinding('read-corrupt', `the footer counts ${total} rows but its row groups hold ${first}`, {}, 'warning'));
     }
@@ -217,6 +270,11 @@ export class ParquetSource implements RecordSource {
       const to = Math.min(g.rows, e - g.firstRow);
       if (to <= from) continue;
       const decoded = await this.decodeGroup(k, columns);
+      if (decoded instanceof RefusedGroupError) {
+        // Reported once at open; the rows are still places, without values.
+        out.push(...lostEntries(k, g.firstRow, from, to, 'read-unsupported', '').map((x) => ({ ...x, findings: [] })));
+        continue;
+      }
       if (decoded instanceof Error) {
         const rule = /unsupported|not supported|not yet implemented|encrypt|budget/i.test(decoded.message) ? 'read-unsupported' : 'read-corrupt';
         out.push(...lostEntries(k, g.firstRow, from, to, rule, `row group ${k} does not decode: ${errorText(decoded)}`));
@@ -249,9 +307,11 @@ export class ParquetSource implements RecordSource {
     const needs = columns
       ? columns.reduce((a, c) => a + (this.groupColumnBytes[k].get(c) ?? 0), 0)
       : [...this.groupColumnBytes[k].values()].reduce((a, b) => a + b, 0);
-    const budget = this.opts.maxDecodedBytes ?? 1024 * 1024 * 1024;
+    const budget = this.opts.maxDecodedBytes ?? DEFAULT_MAX_DECODED_BYTES;
     let result: Decoded | Error;
-    if (needs > budget) {
+    if (this.refusedGroups.has(k)) {
+      result = new RefusedGroupError(`its footer-declared size is over the ${formatSize(budget)} limit for one row group`);
+    } else if (needs > budget) {
       result = new Error(`its columns decode to ${needs} bytes, beyond the ${budget}-byte budget for one row group`);
     } else {
       try {
@@ -282,8 +342,12 @@ export class ParquetSource implements RecordSource {
     for (let k = groupOf(this.firstRows, from); k < this.groups.length && this.firstRows[k] < to; k++) {
       opts.signal?.throwIfAborted();
       const g = this.groups[k];
-      const entries = await this.read(Math.max(from, g.firstRow), Math.min(to, g.firstRow + g.rows), { signal: opts.signal });
-      for (const e of entries) yield e;
+      const end = Math.min(to, g.firstRow + g.rows);
+      for (let lo = Math.max(from, g.firstRow); lo < end; lo += SCAN_SLICE_ROWS) {
+        opts.signal?.throwIfAborted();
+        const entries = await this.read(lo, Math.min(end, lo + SCAN_SLICE_ROWS), { signal: opts.signal });
+        for (const e of entries) yield e;
+      }
       opts.onProgress?.({ done: Math.min(to, g.firstRow + g.rows) - from, total: to - from, entries: total });
     }
   }
@@ -300,6 +364,18 @@ export class ParquetSource implements RecordSource {
     this.reader = null;
     await r?.close();
   }
+}
+
+/** A footer whose counts no file of its size can hold. */
+class FooterLimitError extends Error {}
+
+/** A row group refused at open; its finding was raised then. */
+class RefusedGroupError extends Error {}
+
+function formatSize(n: number): string {
+  if (n >= 1024 ** 3) return `${(n / 1024 ** 3).toFixed(1)} GiB`;
+  if (n >= 1024 ** 2) return `${(n / 1024 ** 2).toFixed(1)} MiB`;
+  return `${n} bytes`;
 }
 
 /** Cache keys are numbers; collisions are caught by comparing the stored key string. */

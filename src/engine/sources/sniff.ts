@@ -8,6 +8,7 @@ import { closeSync, fstatSync, openSync, readSync } from 'node:fs';
 import { constants as zlib, gunzipSync } from 'node:zlib';
 import { Decompress } from 'fzstd';
 import { MESSAGE_SCHEMA, NEWEST_METADATA_VERSION, parseMessage } from './columnar/ipc.js';
+import { FbTable } from './columnar/flatbuf.js';
 import type { Compression } from './jsonl.js';
 import type { FormatName } from './source.js';
 
@@ -149,6 +150,24 @@ function isLegacyArrowStream(head: Uint8Array, size: number): boolean {
 }
 
 /**
+ * A damaged stream with the same framing: a length that fits the file, then a flatbuffer whose root
+ * table and vtable lie inside it. Text never starts so (it holds no NUL bytes); the stream reader
+ * then names what is wrong with the message, instead of a refusal of unknown bytes.
+ */
+function isDamagedArrowStream(head: Uint8Array, size: number): boolean {
+  if (head.length < 8) return false;
+  const dv = new DataView(head.buffer, head.byteOffset, head.byteLength);
+  const len = dv.getInt32(0, true);
+  if (len < 8 || 4 + len > Math.min(size, head.length)) return false;
+  try {
+    FbTable.root(head.subarray(4, 4 + len));
+    return true;
+  } catch {
+    return false;
+  }
+}
+
+/**
  * The first `want` bytes of decompressed data from the start of a compressed stream; a corrupt or
  * cut-short stream gives what decoded before the damage. Input grows in steps so no step can
  * expand past a few MiB.
@@ -264,6 +283,7 @@ function sniffOpen(ends: Ends, hint: NameHint): Sniffed {
     return { format: null, what: `${compression}-compressed data that is not JSON text: it starts with bytes ${hex(inner.data)}${guess(inner.data)}` };
   }
   if (isLegacyArrowStream(head, size)) return { format: 'arrow-stream', compression: 'none' };
+  if (!guess(head) && !isText(head.subarray(0, 4096)) && isDamagedArrowStream(head, size)) return { format: 'arrow-stream', compression: 'none' };
   const format = textFormat(head, head.length >= size, hint, () => {
     const h = ends.grow(TEXT_HEAD_MAX);
     return { head: h, whole: h.length >= size };

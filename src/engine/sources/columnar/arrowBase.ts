@@ -8,9 +8,10 @@ import type { ByteReader, Entry, FormatName, GroupInfo, RecordSource, ScanOption
 import { errorText, readFinding } from '../columnarRules.js';
 import { openFileReader, type ReaderFactory } from './byteReader.js';
 import { registerIpcCodecs } from './codecs.js';
-import { END_OF_STREAM, IpcFormatError, MESSAGE_DICTIONARY, unreadableColumns, type MessageHeader } from './ipc.js';
+import { END_OF_STREAM, IpcFormatError, MESSAGE_DICTIONARY, unreadableColumns, validateSchemaMessage, type MessageHeader } from './ipc.js';
 import { ByteBudgetCache, batchEntries, groupOf, lostEntries } from './rows.js';
 import { schemaColumns } from './toJson.js';
+import { EMPTY_FILE_MESSAGE } from '../jsonl.js';
 
 export interface ArrowSourceOptions {
   /** Opens the file for range reads; tests pass a counting reader. */
@@ -74,6 +75,12 @@ export abstract class ArrowSourceBase implements RecordSource {
   async open(signal?: AbortSignal): Promise<SourceInfo> {
     if (!this.reader) this.reader = await (this.opts.openReader ?? openFileReader)(this.path);
     this.current = { format: this.format, path: this.path, sizeBytes: this.reader.size, entries: 0, complete: false, findings: [] };
+    if (this.reader.size === 0) {
+      // One verdict for an empty shard, whatever its format.
+      this.layout = { schema: null, dictionaries: [], batches: [], facts: {}, findings: [readFinding('read-empty', EMPTY_FILE_MESSAGE)], refused: 'empty' };
+      await this.describe(this.layout, true);
+      return this.info();
+    }
     if (this.layoutAtOpen) await this.loadLayout(signal);
     else await this.loadSchemaOnly();
     return this.info();
@@ -111,6 +118,8 @@ export abstract class ArrowSourceBase implements RecordSource {
     if ((layout.schema || layout.schemaMessage) && !this.arrowSchema) {
       try {
         this.schemaBytes = layout.schemaMessage ?? (await this.messageBytes(layout.schema!, false));
+        // Checked by hand first: a fuzzed schema must never reach the library's decoder unchecked.
+        validateSchemaMessage(this.schemaBytes);
         this.arrowSchema = decodeSchema(this.schemaBytes);
       } catch (e) {
         const odd = this.schemaBytes ? unreadableColumns(this.schemaBytes) : [];

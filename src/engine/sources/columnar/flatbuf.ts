@@ -50,6 +50,13 @@ export class FbTable {
     return this.view.getInt16(p, true);
   }
 
+  int32(i: number, dflt = 0): number {
+    const p = this.field(i);
+    if (!p) return dflt;
+    need(this.bytes, p, 4);
+    return this.view.getInt32(p, true);
+  }
+
   int64(i: number, dflt = 0n): bigint {
     const p = this.field(i);
     if (!p) return dflt;

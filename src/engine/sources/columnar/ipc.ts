@@ -292,3 +292,123 @@ export async function walkMessages(reader: ByteReader, start: number, signal?: A
     onStep?.(at);
   }
 }
+
+/** Arrow `Type` union members (Schema.fbs), by number. */
+const TYPE_NAMES = [
+  'none', 'null', 'int', 'floating point', 'binary', 'utf8', 'bool', 'decimal', 'date', 'time', 'timestamp', 'interval', 'list', 'struct', 'union',
+  'fixed-size binary', 'fixed-size list', 'map', 'duration', 'large binary', 'large utf8', 'large list', 'run-end encoded', 'binary view', 'utf8 view',
+  'list-view', 'large list-view',
+];
+const MAX_SCHEMA_DEPTH = 64;
+const MAX_SCHEMA_FIELDS = 100_000;
+
+/**
+ * Checks a schema message (with its prefix) the way the library will read it, before the library
+ * sees it: every table, string and vector inside the buffer, known type numbers with sane
+ * parameters, children where a type needs them, nesting and field counts bounded. A fuzzed schema
+ * becomes an IpcFormatError naming the column, instead of a loop or a crash inside the library.
+ */
+export function validateSchemaMessage(message: Uint8Array): void {
+  const dv = new DataView(message.buffer, message.byteOffset, message.byteLength);
+  let pre = 4;
+  if (message.length >= 8 && dv.getInt32(0, true) === -1) pre = 8;
+  try {
+    const msg = FbTable.root(message.subarray(pre));
+    if (msg.uint8(1) !== MESSAGE_SCHEMA) throw new IpcFormatError('the first message is not a schema', 'corrupt');
+    const schema = msg.table(2);
+    if (!schema) throw new IpcFormatError('the schema message holds no schema', 'corrupt');
+    validateSchemaTable(schema);
+    keyValues(msg, 4, 'the message');
+  } catch (e) {
+    if (e instanceof FlatbufError) throw new IpcFormatError(`the schema message is corrupt (${e.message})`, 'corrupt');
+    throw e;
+  }
+}
+
+/** The Schema table itself (also what an Arrow file's footer carries). */
+export function validateSchemaTable(schema: FbTable): void {
+  try {
+    const endianness = schema.int16(0);
+    if (endianness !== 0 && endianness !== 1) throw new IpcFormatError(`the schema declares endianness ${endianness}`, 'corrupt');
+    const count = { fields: 0 };
+    schema.tables(1).forEach((f, k) => validateField(f, `column ${k + 1}`, 1, count));
+    keyValues(schema, 2, 'the schema');
+    schema.structVector(3, 8);
+  } catch (e) {
+    if (e instanceof FlatbufError) throw new IpcFormatError(`the schema is corrupt (${e.message})`, 'corrupt');
+    throw e;
+  }
+}
+
+function keyValues(t: FbTable, i: number, where: string): void {
+  for (const kv of t.tables(i)) {
+    kv.string(0);
+    kv.string(1);
+    void where;
+  }
+}
+
+function validateField(f: FbTable, where: string, depth: number, count: { fields: number }): void {
+  if (depth > MAX_SCHEMA_DEPTH) throw new IpcFormatError(`${where}: types nest deeper than ${MAX_SCHEMA_DEPTH} levels`, 'corrupt');
+  if (++count.fields > MAX_SCHEMA_FIELDS) throw new IpcFormatError(`the schema declares more than ${MAX_SCHEMA_FIELDS} fields`, 'corrupt');
+  const name = f.string(0);
+  const label = name !== null ? `${where} ("${name.length > 40 ? `${name.slice(0, 40)}…` : name}")` : where;
+  const typeId = f.uint8(2);
+  const typeName = TYPE_NAMES[typeId];
+  if (typeName === undefined || typeId === 0) throw new IpcFormatError(`${label} declares type number ${typeId}, which Arrow does not define`, 'corrupt');
+  const type = f.table(3);
+  const bad = (what: string) => new IpcFormatError(`${label}: its ${typeName} type ${what}`, 'corrupt');
+  const children = f.tables(5);
+  const param = (i: number, kind: 'int16' | 'int32' | 'uint8' = 'int16') => (type ? (kind === 'uint8' ? type.uint8(i) : kind === 'int32' ? type.int32(i) : type.int16(i)) : 0);
+  switch (typeId) {
+    case 2: // Int
+      if (![8, 16, 32, 64].includes(param(0, 'int32'))) throw bad(`has bit width ${param(0, 'int32')}`);
+      break;
+    case 3: // FloatingPoint
+      if (param(0) < 0 || param(0) > 2) throw bad(`has precision ${param(0)}`);
+      break;
+    case 7: // Decimal
+      if (type && ![32, 64, 128, 256].includes(type.int32(2, 128))) throw bad(`has bit width ${type.int32(2, 128)}`);
+      break;
+    case 8: // Date
+    case 11: // Interval
+      if (param(0) < 0 || param(0) > 2) throw bad(`has unit ${param(0)}`);
+      break;
+    case 9: // Time
+      if (param(0) < 0 || param(0) > 3 || (type && ![32, 64].includes(type.int32(1, 32)))) throw bad('has an unknown unit or bit width');
+      break;
+    case 10: // Timestamp
+    case 18: // Duration
+      if (param(0) < 0 || param(0) > 3) throw bad(`has unit ${param(0)}`);
+      if (typeId === 10) type?.string(1);
+      break;
+    case 15: // FixedSizeBinary
+      if (param(0, 'int32') <= 0) throw bad(`has byte width ${param(0, 'int32')}`);
+      break;
+    case 16: // FixedSizeList
+      if (param(0, 'int32') < 0) throw bad(`has list size ${param(0, 'int32')}`);
+      break;
+    case 14: {
+      // Union
+      const mode = param(0);
+      if (mode !== 0 && mode !== 1) throw bad(`has mode ${mode}`);
+      const ids = type?.structVector(1, 4);
+      if (ids && ids.length !== children.length) throw bad(`names ${ids.length} type ids for ${children.length} children`);
+      break;
+    }
+    default:
+      break;
+  }
+  // List-like types carry exactly one child; a map's is a struct of key and value.
+  if ([12, 16, 21, 25, 26].includes(typeId) && children.length !== 1) throw bad(`has ${children.length} children, not 1`);
+  if (typeId === 17 && (children.length !== 1 || children[0].uint8(2) !== 13 || children[0].tables(5).length !== 2)) throw bad('does not hold one struct child of key and value');
+  if (typeId === 22 && children.length !== 2) throw bad(`has ${children.length} children, not 2`);
+  const dict = f.table(4);
+  if (dict) {
+    const index = dict.table(1);
+    const width = index ? index.int32(0) : 32;
+    if (![8, 16, 32, 64].includes(width)) throw new IpcFormatError(`${label}: its dictionary's index type has bit width ${width}`, 'corrupt');
+  }
+  keyValues(f, 6, label);
+  children.forEach((c, k) => validateField(c, `${label}, child ${k + 1}`, depth + 1, count));
+}

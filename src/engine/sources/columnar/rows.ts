@@ -3,7 +3,7 @@
 import type { RecordBatch } from 'apache-arrow';
 import type { Entry } from '../source.js';
 import { columnValue, type ConvertContext } from './toJson.js';
-import { readFinding } from '../columnarRules.js';
+import { errorText, readFinding } from '../columnarRules.js';
 
 /** Converts rows [from, to) of `batch` (rows counted inside the batch). */
 export function batchEntries(
@@ -34,7 +34,7 @@ export function batchEntries(
         v = columnValue(chunks[k], r, picks[k].name, ctx);
       } catch (e) {
         v = null;
-        findings.push(readFinding('read-corrupt', `column "${picks[k].name}" does not decode at this row: ${(e as Error).message}`, { ...place, pointer: `/${picks[k].name}` }));
+        findings.push(readFinding('read-corrupt', `column "${picks[k].name}" does not decode at this row: ${errorText(e)}`, { ...place, pointer: `/${picks[k].name}` }));
       }
       Object.defineProperty(value, picks[k].name, { value: v, enumerable: true, writable: true, configurable: true });
     }

@@ -15,7 +15,7 @@ function onUncaught(e: unknown): void {
     const all = [...pending];
     pending.clear();
     uninstall();
-    for (const reject of all) reject(new Error(`the Parquet decoder stopped on malformed data (${e.message})`));
+    for (const reject of all) reject(new Error('the Parquet decoder stopped on malformed data'));
     return;
   }
   // Not ours: restore the default (print and exit) by rethrowing without this listener.

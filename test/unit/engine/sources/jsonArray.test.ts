@@ -74,10 +74,10 @@ describe('broken input becomes findings, never a throw', () => {
     expect(rows[1].findings.map((f) => f.rule)).toEqual(['read-truncated']);
     expect(info.findings.map((f) => f.rule)).toEqual(['array-structure']);
   });
-  it('not an array, trailing text, and an empty file are array-structure findings', async () => {
+  it('not an array and trailing text are array-structure findings; an empty file is read-empty, as for every format', async () => {
     expect((await load('{"a": 1}')).info.findings.map((f) => f.rule)).toEqual(['array-structure']);
     expect((await load('[1] 2')).info.findings.map((f) => f.rule)).toEqual(['array-structure']);
-    expect((await load('')).info.findings.map((f) => f.rule)).toEqual(['array-structure']);
+    expect((await load('')).info.findings.map((f) => f.rule)).toEqual(['read-empty']);
   });
   it('invalid UTF-8 inside an element is a finding (RFC 8259 §8.1)', async () => {
     const { rows } = await load(Buffer.from([0x5b, 0x22, 0xff, 0x22, 0x5d]));

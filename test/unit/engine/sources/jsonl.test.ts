@@ -121,7 +121,7 @@ describe('the source rules', () => {
 
   it('exports a rule table covering every rule id the source raises', () => {
     expect(JSONL_RULES.map((r) => r.id).sort()).toEqual(
-      ['bom-present', 'json-syntax', 'key-duplicate', 'line-blank', 'line-too-long', 'number-unsafe', 'read-corrupt', 'record-not-object', 'surrogate-unpaired', 'utf8-invalid'],
+      ['bom-present', 'json-syntax', 'key-duplicate', 'line-blank', 'line-too-long', 'number-unsafe', 'read-corrupt', 'read-empty', 'read-limit', 'read-stalled', 'record-not-object', 'surrogate-unpaired', 'utf8-invalid'],
     );
   });
 
@@ -217,7 +217,7 @@ describe('compressed shards', () => {
     expect(gg.info.findings.map((f) => f.rule)).toEqual(['read-corrupt']);
   });
 
-  it('an empty compressed file, or a stream of empty content, is an empty shard', async () => {
+  it('an empty compressed file, or a stream of empty content, is an empty shard: one read-empty error, as for every format', async () => {
     for (const [data, ending] of [
       [Buffer.alloc(0), '.jsonl.gz'],
       [gzip(Buffer.alloc(0)), '.jsonl.gz'],
@@ -225,7 +225,7 @@ describe('compressed shards', () => {
       [zstdRawFrame(Buffer.alloc(0)), '.jsonl.zst'],
     ] as const) {
       const r = await both(shard(data, ending));
-      expect([r.info.entries, r.info.findings]).toEqual([0, []]);
+      expect([r.info.entries, r.info.findings.map((f) => [f.rule, f.severity])]).toEqual([0, [['read-empty', 'error']]]);
     }
   });
 
