@@ -238,7 +238,16 @@ export class RecordEditorProvider implements vscode.CustomReadonlyEditorProvider
             const total = view ? view.count : document.info?.entries ?? 0;
             const start = Math.max(0, Math.min(msg.start, total));
             const end = Math.min(total, start + Math.max(0, Math.min(msg.count, 1000)));
-            const entries = end > start ? (view ? await readPositions(document, view, start, end) : await document.session!.read(start, end)) : [];
+            if (view) {
+              // The view speaks in positions: each row goes where the view shows it.
+              const at = end > start ? await readPositions(document, view, start, end) : [];
+              const rows = at.flatMap((e, i) =>
+                e ? [{ ...rowOf(e, columns, document.byEntry.get(e.entry), e.record !== null ? document.tally.tokensOf(e.record) : null), entry: start + i }] : [],
+              );
+              post({ type: 'rows', requestId: msg.requestId, start, rows });
+              break;
+            }
+            const entries = end > start ? await document.session!.read(start, end) : [];
             const rows = entries.map((e) =>
               rowOf(e, columns, document.byEntry.get(e.entry), e.record !== null ? document.tally.tokensOf(e.record) : null),
             );
@@ -421,8 +430,8 @@ export function noSuchPlace(document: { info?: { entries: number; complete: bool
   return `There is no ${kind} ${value} (the shard has ${n.toLocaleString('en-US')} ${kind}s${so}).`;
 }
 
-/** The entries at view positions [start, end), read in runs of consecutive entries. */
-async function readPositions(document: ShardDocument, view: ViewOrder, start: number, end: number): Promise<Entry[]> {
+/** The entries at view positions [start, end) (undefined where one cannot be read), read in runs of consecutive entries. */
+async function readPositions(document: ShardDocument, view: ViewOrder, start: number, end: number): Promise<(Entry | undefined)[]> {
   const want: number[] = [];
   for (let p = start; p < end; p++) want.push(view.entryAt(p));
   const sorted = [...new Set(want)].sort((a, b) => a - b);
@@ -433,5 +442,5 @@ async function readPositions(document: ShardDocument, view: ViewOrder, start: nu
     for (const e of await document.session!.read(sorted[i], sorted[j] + 1)) got.set(e.entry, e);
     i = j + 1;
   }
-  return want.map((e) => got.get(e)).filter((e): e is Entry => e !== undefined);
+  return want.map((e) => got.get(e));
 }
