@@ -56,6 +56,30 @@ export class SourceSession {
       const busy = this.indexing || [...this.pending.keys()].some((id) => id !== this.openId);
       if (!busy) {
         this.lastMove = Date.now();
+        return;
+      }
+      if (Date.now() - this.lastMove < seconds * 1000) return;
+      const message = `stopped: no progress for ${seconds} s while reading ${this.path} (no record, no byte); the reader was ended`;
+      this.stopped = message;
+      this.indexing = false;
+      const w = this.worker;
+      this.worker = null;
+      void w?.terminate();
+      for (const p of this.pending.values()) p.reject(new Error(message));
+      this.pending.clear();
+      this.route.clear();
+      this.events.onError(message);
+    }, Math.min(1000, seconds * 250));
+    this.watchdog.unref?.();
+  }
+
+  /** Opens the shard and starts indexing; resolves with the first description. */
+  start(): Promise<SourceInfo> {
+    installTempCleanup();
+    this.spawn();
+    this.watch();
+    this.indexing = true;
+    this.lastMove = Date.now();
     return new Promise<SourceInfo>((resolve, reject) => {
       let first = true;
       this.openId = this.nextId++;
