@@ -176,6 +176,8 @@ detailHead.append(detailTitle, detailTokens, detailLayout, h('span', 'sw-spacer-
 const tabsEl = h('div', 'sw-tabs');
 tabsEl.setAttribute('role', 'tablist');
 const tabBody = h('div', 'sw-tab-body');
+tabBody.id = 'sw-tab-panel';
+tabBody.setAttribute('role', 'tabpanel');
 detailEl.append(detailHead, tabsEl, tabBody);
 detailEl.hidden = true;
 splitter.hidden = true;
@@ -403,6 +405,11 @@ function renderRows(): void {
   const frag = document.createDocumentFragment();
   for (let e = start; e < end; e++) frag.append(buildRow(e));
   rowsLayer.replaceChildren(frag);
+  // WAI-ARIA grid with virtual rows: the whole count, each row's index (the header row is 1), and
+  // the selected row announced through aria-activedescendant while the grid has focus.
+  viewport.setAttribute('aria-rowcount', String(entries + 1));
+  if (selected >= start && selected < end) viewport.setAttribute('aria-activedescendant', `sw-row-${selected}`);
+  else viewport.removeAttribute('aria-activedescendant');
   scheduleRequests(start, end);
 }
 
@@ -433,7 +440,9 @@ function buildRow(entry: number): HTMLElement {
   const r = rowAt(entry);
   const row = h('div', 'sw-row');
   row.dataset.entry = String(entry);
+  row.id = `sw-row-${entry}`;
   row.setAttribute('role', 'row');
+  row.setAttribute('aria-rowindex', String(entry + 2));
   if (entry === selected) {
     row.classList.add('sw-selected');
     row.setAttribute('aria-selected', 'true');
@@ -935,6 +944,8 @@ function onDetail(d: DetailView): void {
     b.type = 'button';
     b.dataset.tab = id;
     b.setAttribute('role', 'tab');
+    b.id = `sw-tab-${id}`;
+    b.setAttribute('aria-controls', 'sw-tab-panel');
     b.append(icon(ic), h('span', '', label));
     if (count !== null) b.append(h('span', 'sw-count', formatCount(count)));
     if (id === 'findings' && findings.length) {
@@ -944,6 +955,18 @@ function onDetail(d: DetailView): void {
     b.addEventListener('click', () => {
       activeTab = id;
       showTab(id);
+    });
+    // Tabs as WAI-ARIA describes them: arrows (and Home/End) move between tabs and select them.
+    b.addEventListener('keydown', (ev) => {
+      const all = [...tabsEl.querySelectorAll<HTMLElement>('.sw-tab')];
+      const i = all.indexOf(b);
+      const to = ev.key === 'ArrowRight' ? (i + 1) % all.length : ev.key === 'ArrowLeft' ? (i - 1 + all.length) % all.length : ev.key === 'Home' ? 0 : ev.key === 'End' ? all.length - 1 : -1;
+      if (to < 0) return;
+      ev.preventDefault();
+      const t = all[to].dataset.tab as Tab;
+      activeTab = t;
+      showTab(t);
+      all[to].focus();
     });
     tabsEl.append(b);
   }
@@ -957,6 +980,8 @@ function showTab(tab: Tab): void {
     const on = b.dataset.tab === tab;
     b.classList.toggle('sw-tab-active', on);
     b.setAttribute('aria-selected', String(on));
+    b.tabIndex = on ? 0 : -1;
+    if (on) tabBody.setAttribute('aria-labelledby', b.id);
   }
   tabBody.replaceChildren();
   tabBody.dataset.tab = tab;
@@ -1244,14 +1269,46 @@ function treeNode(key: string | null, value: unknown, pointer: string, depth: nu
   const node = h('div', 'sw-node');
   node.dataset.pointer = pointer;
   node.setAttribute('role', 'treeitem');
+  node.setAttribute('aria-level', String(depth + 1));
+  node.tabIndex = depth === 0 ? 0 : -1;
   const line = h('div', 'sw-node-line');
   const isArr = Array.isArray(value);
   const isObj = !isArr && value !== null && typeof value === 'object';
+  const setOpen = (open: boolean) => {
+    node.classList.toggle('sw-collapsed', !open);
+    node.setAttribute('aria-expanded', String(open));
+  };
   if (isArr || isObj) {
     const t = iconButton('chevron-down', 'Fold', 'sw-node-toggle');
-    t.addEventListener('click', () => node.classList.toggle('sw-collapsed'));
+    t.tabIndex = -1;
+    t.addEventListener('click', () => setOpen(node.classList.contains('sw-collapsed')));
     line.append(t);
   } else line.append(h('span', 'sw-node-leaf-pad'));
+  // The tree pattern's keys: Up/Down move, Right opens (or goes to the first child), Left closes (or goes to the parent).
+  node.addEventListener('keydown', (ev) => {
+    if (ev.target !== node) return;
+    // The items a person sees: those with no folded ancestor.
+    const all = [...(node.closest('.sw-tree')?.querySelectorAll<HTMLElement>('[role="treeitem"]') ?? [])];
+    const shown = all.filter((n) => !n.parentElement?.closest('.sw-node.sw-collapsed'));
+    const i = shown.indexOf(node);
+    const go = (el: HTMLElement | undefined) => {
+      if (!el) return;
+      node.tabIndex = -1;
+      el.tabIndex = 0;
+      el.focus();
+    };
+    const expandable = node.hasAttribute('aria-expanded');
+    if (ev.key === 'ArrowDown') go(shown[i + 1]);
+    else if (ev.key === 'ArrowUp') go(shown[i - 1]);
+    else if (ev.key === 'ArrowRight' && expandable) {
+      if (node.getAttribute('aria-expanded') === 'false') setOpen(true);
+      else go(node.querySelector<HTMLElement>(':scope > .sw-node-children > [role="treeitem"]') ?? undefined);
+    } else if (ev.key === 'ArrowLeft') {
+      if (expandable && node.getAttribute('aria-expanded') === 'true') setOpen(false);
+      else go(node.parentElement?.closest<HTMLElement>('[role="treeitem"]') ?? undefined);
+    } else return;
+    ev.preventDefault();
+  });
   if (key !== null) line.append(h('span', 'sw-key', key), h('span', 'sw-punct', ': '));
   node.append(line);
   if (depth >= TREE_MAX_DEPTH) {
@@ -1264,8 +1321,9 @@ function treeNode(key: string | null, value: unknown, pointer: string, depth: nu
       : Object.entries(value as Record<string, unknown>);
     line.append(h('span', 'sw-summary', isArr ? `[${formatCount(items.length)}]` : `{${formatCount(items.length)}}`));
     const children = h('div', 'sw-node-children');
+    children.setAttribute('role', 'group');
     node.append(children);
-    if (depth >= 6) node.classList.add('sw-collapsed');
+    setOpen(depth < 6);
     let shown = 0;
     const more = h('button', 'sw-button sw-tree-more');
     more.type = 'button';
@@ -1349,7 +1407,24 @@ function renderDetailFindings(findings: FindingView[]): HTMLElement {
   return list;
 }
 
-// ---- splitter: drag to resize the detail pane ----
+// ---- splitter: drag, or arrow keys while focused, to resize the detail pane ----
+splitter.tabIndex = 0;
+splitter.setAttribute('aria-label', 'Resize the detail pane');
+splitter.addEventListener('keydown', (ev) => {
+  const vertical = getComputedStyle(main).flexDirection === 'column';
+  const grow = vertical ? ev.key === 'ArrowUp' : ev.key === 'ArrowLeft';
+  const shrink = vertical ? ev.key === 'ArrowDown' : ev.key === 'ArrowRight';
+  if (!grow && !shrink) return;
+  ev.preventDefault();
+  const rect = main.getBoundingClientRect();
+  const now = detailEl.getBoundingClientRect();
+  const size = (vertical ? now.height : now.width) + (grow ? 24 : -24);
+  const max = (vertical ? rect.height : rect.width) - 120;
+  const v = Math.max(160, Math.min(max, size));
+  main.style.setProperty('--sw-detail-size', `${v}px`);
+  splitter.setAttribute('aria-valuenow', String(Math.round(v)));
+  queueRender();
+});
 splitter.addEventListener('pointerdown', (ev) => {
   splitter.setPointerCapture(ev.pointerId);
   const vertical = getComputedStyle(main).flexDirection === 'column';

@@ -673,6 +673,58 @@ describe('record view', () => {
     }
   });
 
+  test('accessibility: the grid, the detail tabs and the JSON tree follow the WAI-ARIA patterns, by keyboard alone', async () => {
+    const view = await openView(env.browser, env.server, { kind: 'recordView', onMessage: scriptedHost() });
+    try {
+      await view.send(initMessage(1000));
+      await waitLoaded(view.page);
+      // The grid: the whole count with the header row, each row's index, the selection announced.
+      assert.equal(await view.page.getAttribute('.sw-viewport', 'role'), 'grid');
+      assert.equal(await view.page.getAttribute('.sw-viewport', 'aria-rowcount'), '1001');
+      assert.equal(await view.page.getAttribute('.sw-rows .sw-row[data-entry="3"]', 'aria-rowindex'), '5');
+      await view.page.focus('.sw-viewport');
+      await view.page.keyboard.press('ArrowDown');
+      await view.page.keyboard.press('ArrowDown');
+      await view.page.waitForFunction(() => document.querySelector('.sw-viewport')?.getAttribute('aria-activedescendant') === 'sw-row-1');
+      assert.equal(await view.page.getAttribute('#sw-row-1', 'aria-selected'), 'true');
+      // Tabs: arrows move and select; the panel is labelled by its tab.
+      await view.page.waitForSelector('.sw-tab[aria-selected="true"]');
+      const first = await view.page.getAttribute('.sw-tab[aria-selected="true"]', 'data-tab');
+      await view.page.focus('.sw-tab[aria-selected="true"]');
+      await view.page.keyboard.press('End');
+      const last = await view.page.$$eval('.sw-tab', (ts) => ts[ts.length - 1].dataset.tab);
+      assert.equal(await view.page.getAttribute('.sw-tab[aria-selected="true"]', 'data-tab'), last);
+      assert.equal(await view.page.evaluate(() => document.activeElement?.getAttribute('role')), 'tab');
+      assert.equal(await view.page.getAttribute('#sw-tab-panel', 'aria-labelledby'), `sw-tab-${last}`);
+      await view.page.keyboard.press('Home');
+      assert.equal(await view.page.getAttribute('.sw-tab[aria-selected="true"]', 'data-tab'), first);
+      // The JSON tree: levels and open state; Left closes, Right opens, Down moves.
+      await view.page.click('.sw-tab[data-tab="json"]');
+      await view.page.focus('.sw-tree [role="treeitem"][aria-level="1"]');
+      assert.equal(await view.page.getAttribute('.sw-tree [aria-level="1"]', 'aria-expanded'), 'true');
+      await view.page.keyboard.press('ArrowDown');
+      assert.equal(await view.page.evaluate(() => document.activeElement?.getAttribute('aria-level')), '2');
+      await view.page.keyboard.press('ArrowLeft');
+      assert.equal(await view.page.evaluate(() => document.activeElement?.getAttribute('aria-level')), '1');
+      await view.page.keyboard.press('ArrowLeft');
+      assert.equal(await view.page.getAttribute('.sw-tree [aria-level="1"]', 'aria-expanded'), 'false');
+      await view.page.keyboard.press('ArrowRight');
+      assert.equal(await view.page.getAttribute('.sw-tree [aria-level="1"]', 'aria-expanded'), 'true');
+      // The splitter is focusable and moves with the keyboard.
+      const before = await view.page.$eval('.sw-detail', (d) => d.getBoundingClientRect().width + d.getBoundingClientRect().height);
+      await view.page.focus('.sw-splitter');
+      await view.page.keyboard.press('ArrowLeft');
+      await view.page.keyboard.press('ArrowUp');
+      const after = await view.page.$eval('.sw-detail', (d) => d.getBoundingClientRect().width + d.getBoundingClientRect().height);
+      assert.ok(after > before, `the detail pane did not grow (${before} → ${after})`);
+      // Chromium's accessibility tree (playwright's ARIA snapshot) holds the roles with their names.
+      const tree = await view.page.locator('body').ariaSnapshot();
+      for (const want of [/- grid/, /- '?row "/, /- columnheader "Tokens"/, /- tablist/, /- '?tab "/, /- tabpanel/, /- tree:/, /- '?treeitem "/, /- search/, /- textbox "Go to record, line or row"/]) assert.match(tree, want);
+    } finally {
+      await view.close();
+    }
+  });
+
   test('indexing progress shows while the entry count grows, and new rows become reachable', async () => {
     const view = await openView(env.browser, env.server, { kind: 'recordView', onMessage: scriptedHost() });
     try {
