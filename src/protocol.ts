@@ -32,8 +32,12 @@ export interface ShardSummary {
   findingsByRule?: Record<string, number>;
   /** 'indexing' → 'analysing' → 'done' (or 'failed' / 'cancelled'). */
   phase: 'indexing' | 'analysing' | 'done' | 'failed' | 'cancelled';
-  /** 0..1 */
+  /** 0..1: the share of the file checked. */
   progress: number;
+  /** The progress in words (engine/progress.ts): both phases, with "so far" until final. */
+  progressText?: string;
+  /** 0..1: the share of the file indexed (1 once the index is complete). */
+  indexed?: number;
   /** A clear message when the phase is 'failed'. */
   error?: string;
 }

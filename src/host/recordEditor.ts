@@ -220,7 +220,8 @@ export class RecordEditorProvider implements vscode.CustomReadonlyEditorProvider
       if (!view && (entries !== lastEntries || complete !== lastComplete)) {
         lastEntries = entries;
         lastComplete = complete;
-        post({ type: 'entries', entries, complete, progress: document.progress });
+        // The header's indexing share is the index's own, never the check's.
+        post({ type: 'entries', entries, complete, progress: document.progressState.indexComplete ? 1 : document.progressState.indexed });
       }
     });
 

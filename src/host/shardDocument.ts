@@ -15,6 +15,9 @@ import { SourceSession } from '../node/session.js';
 import type { FindingView, ShardSummary } from '../protocol.js';
 import { settingsFor, type HostSettings } from './settings.js';
 import { formatPlace, targetIndex, type PlaceTarget } from '../engine/places.js';
+import { initialProgress, nextProgress, panelText, windowText, type ProgressEvent, type ProgressState } from '../engine/progress.js';
+
+const TEXT_FORMATS: ReadonlySet<string> = new Set(['jsonl', 'json-array']);
 
 /** A finding's place as every presenter shows it (one formatter: engine/places.ts). */
 export function placeOf(f: { line: number | null; column: number | null; record: number | null; entry: number | null }): string {
@@ -38,6 +41,11 @@ export class ShardDocument implements vscode.CustomDocument {
   private recordEntry = new Int32Array(0);
   phase: ShardSummary['phase'] = 'indexing';
   progress = 0;
+  /** The one progress model every presenter reads (engine/progress.ts). */
+  progressState: ProgressState = initialProgress();
+  private step(ev: ProgressEvent): void {
+    this.progressState = nextProgress(this.progressState, ev);
+  }
   error?: string;
   private analysis: AbortController | null = null;
   private tempDir: string | null = null;
@@ -62,10 +70,12 @@ export class ShardDocument implements vscode.CustomDocument {
       onProgress: (p) => {
         if (this.info) this.info = { ...this.info, entries: p.entries };
         if (this.phase === 'indexing') this.progress = p.total ? p.done / p.total : 0;
+        this.step({ kind: 'indexing', done: p.done, total: p.total, entries: p.entries });
         this.fire();
       },
       onIndexed: (info) => {
         this.info = info;
+        if (info.complete) this.step({ kind: 'indexed', entries: info.entries });
         this.fire();
       },
       onError: (message) => {
@@ -109,6 +119,7 @@ export class ShardDocument implements vscode.CustomDocument {
     this.recordEntry = new Int32Array(0);
     this.phase = 'analysing';
     this.progress = 0;
+    this.step({ kind: 'check-restarted' });
     this.error = this.settings.projectProblem ?? this.settings.schemaProblem ?? this.settings.tokenizerProblem;
     this.fire();
     const workers = this.settings.workers || defaultWorkerCount();
@@ -135,8 +146,9 @@ export class ShardDocument implements vscode.CustomDocument {
               if (gen !== this.generation) return;
               const pct = p.total ? (100 * p.done) / p.total : 0;
               this.progress = pct / 100;
+              this.step({ kind: 'checking', done: p.done, total: p.total, records: this.tally.records });
               if (pct - lastPct >= 1) {
-                report.report({ increment: pct - lastPct, message: `${p.entries.toLocaleString()} entries` });
+                report.report({ increment: pct - lastPct, message: windowText(this.progressState) });
                 lastPct = pct;
               }
               this.fire();
@@ -152,11 +164,15 @@ export class ShardDocument implements vscode.CustomDocument {
       if (gen !== this.generation) return;
       this.phase = 'done';
       this.progress = 1;
+      this.step({ kind: 'checked', records: this.tally.records });
     } catch (err) {
       if (gen !== this.generation) return;
-      if ((err as Error).name === 'AbortError') this.phase = 'cancelled';
-      else {
+      if ((err as Error).name === 'AbortError') {
+        this.phase = 'cancelled';
+        this.step({ kind: 'check-cancelled' });
+      } else {
         this.phase = 'failed';
+        this.step({ kind: 'check-failed' });
         this.error = (err as Error).message;
       }
     }
@@ -259,6 +275,8 @@ export class ShardDocument implements vscode.CustomDocument {
       findingsByRule: Object.fromEntries(this.tally.byRule),
       phase: this.phase,
       progress: this.progress,
+      progressText: panelText(this.progressState, this.info && !TEXT_FORMATS.has(this.info.format) ? 'rows' : 'lines').text,
+      indexed: this.progressState.indexComplete ? 1 : this.progressState.indexed,
       error: this.error,
     };
   }

@@ -134,6 +134,7 @@ function renderSummary(s: ShardSummary): void {
   head.append(phaseEl);
   summaryEl.append(head);
   summaryEl.append(h('div', 'sw-muted sw-summary-sub', `${str(s.format)} · ${formatBytes(s.sizeBytes)}`));
+  if (typeof s.progressText === 'string' && s.progressText) summaryEl.append(h('div', 'sw-muted sw-progress-text', str(s.progressText)));
 
   if (s.phase === 'indexing' || s.phase === 'analysing') {
     const pct = Math.round(Math.max(0, Math.min(1, Number(s.progress) || 0)) * 100);

@@ -225,7 +225,16 @@ function renderLayout(m: { id: string | null; share: number; chosen: boolean }):
   layoutEl.hidden = false;
 }
 
+/** Column widths that fit the largest number they can show (a six-digit record number is never cut). */
+function fitNumberColumns(): void {
+  const most = Math.max(entries, viewTotal);
+  const digits = formatCount(Math.max(1, most)).length;
+  root.style.setProperty('--sw-col-record', `max(64px, calc(${digits}ch + 20px))`);
+  root.style.setProperty('--sw-col-place', `max(84px, calc(${digits + 4}ch + 20px))`);
+}
+
 function renderEntriesCount(): void {
+  fitNumberColumns();
   const unit = info && COLUMNAR.has(info.format) ? 'rows' : 'lines';
   entriesEl.textContent = viewOn ? `${formatCount(entries)} of ${formatCount(viewTotal)} ${unit}` : `${formatCount(entries)} ${unit}`;
   indexingEl.hidden = complete;
