@@ -2,6 +2,7 @@
 // VS Code glue only: formats and rules live in the engine.
 
 import * as vscode from 'vscode';
+import { ResultsStore } from './resultsStore.js';
 import { PROJECT_FILE } from '../engine/project.js';
 import { PLACE_HINT, parsePlace } from '../engine/places.js';
 import { tokenizerLabel, tokenizerOf } from '../engine/tokens/tokenizer.js';
@@ -11,9 +12,11 @@ import { RECORD_TEXT_SCHEME, recordTexts } from './openText.js';
 import { PANEL_VIEW_ID, PanelViewProvider } from './panelView.js';
 import { RECORD_VIEW_TYPE, RecordEditorProvider, noSuchPlace } from './recordEditor.js';
 import { SECTION } from './settings.js';
-import type { ShardDocument } from './shardDocument.js';
+import { ShardDocument } from './shardDocument.js';
 
 export function activate(context: vscode.ExtensionContext): void {
+  // Checked results are kept in the extension's own storage, never beside the data.
+  ShardDocument.store = new ResultsStore(vscode.Uri.joinPath(context.globalStorageUri, 'results').fsPath);
   const editors = new RecordEditorProvider(context);
   const panel = new PanelViewProvider(context, editors);
   const diagnostics = new ShardDiagnostics();

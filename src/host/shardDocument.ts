@@ -14,6 +14,7 @@ import { analyzeFile, defaultWorkerCount } from '../node/pool.js';
 import { SourceSession } from '../node/session.js';
 import type { FindingView, ShardSummary } from '../protocol.js';
 import { settingsFor, type HostSettings } from './settings.js';
+import { ResultsStore } from './resultsStore.js';
 import { formatPlace, targetIndex, type PlaceTarget } from '../engine/places.js';
 import { initialProgress, nextProgress, panelText, windowText, type ProgressEvent, type ProgressState } from '../engine/progress.js';
 
@@ -47,6 +48,10 @@ export class ShardDocument implements vscode.CustomDocument {
     this.progressState = nextProgress(this.progressState, ev);
   }
   error?: string;
+  /** True when the report shown was kept from an earlier check (no check ran for it). */
+  kept = false;
+  /** Where checked results are kept between sessions (set by the extension on activation). */
+  static store: ResultsStore | null = null;
   private analysis: AbortController | null = null;
   private tempDir: string | null = null;
   /** The local file the engine reads (a temporary copy for non-file schemes). */
@@ -85,7 +90,7 @@ export class ShardDocument implements vscode.CustomDocument {
     });
     this.session = session;
     await session.start();
-    void this.analyze(false);
+    if (!(await this.restoreKept())) void this.analyze(false);
   }
 
   /** Copies a file from a non-file scheme into a temporary folder (never written back). */
@@ -119,6 +124,7 @@ export class ShardDocument implements vscode.CustomDocument {
     this.recordEntry = new Int32Array(0);
     this.phase = 'analysing';
     this.progress = 0;
+    this.kept = false;
     this.step({ kind: 'check-restarted' });
     this.error = this.settings.projectProblem ?? this.settings.schemaProblem ?? this.settings.tokenizerProblem;
     this.fire();
@@ -165,6 +171,7 @@ export class ShardDocument implements vscode.CustomDocument {
       this.phase = 'done';
       this.progress = 1;
       this.step({ kind: 'checked', records: this.tally.records });
+      void this.keep();
     } catch (err) {
       if (gen !== this.generation) return;
       if ((err as Error).name === 'AbortError') {
@@ -177,6 +184,44 @@ export class ShardDocument implements vscode.CustomDocument {
       }
     }
     this.fire();
+  }
+
+  /** Shows the results kept from an earlier check of the same bytes and settings; false when there are none. */
+  private async restoreKept(): Promise<boolean> {
+    const store = ShardDocument.store;
+    if (!store || this.uri.scheme !== 'file') return false;
+    const key = await ResultsStore.keyFor(this.localPath, this.settings.config);
+    const kept = key ? await store.get(key) : null;
+    if (!kept) return false;
+    try {
+      this.tally = ShardTally.restore(kept.tally);
+    } catch {
+      return false;
+    }
+    this.recordEntry = Int32Array.from(kept.recordEntry);
+    this.byEntry = new Map();
+    for (const f of this.tally.findings) {
+      if (f.entry === null) continue;
+      const list = this.byEntry.get(f.entry) ?? [];
+      list.push(f);
+      this.byEntry.set(f.entry, list);
+    }
+    this.phase = 'done';
+    this.progress = 1;
+    this.kept = true;
+    this.step({ kind: 'checked', records: this.tally.records });
+    this.fire();
+    return true;
+  }
+
+  private async keep(): Promise<void> {
+    const store = ShardDocument.store;
+    if (!store || this.uri.scheme !== 'file') return;
+    const key = await ResultsStore.keyFor(this.localPath, this.settings.config);
+    if (!key) return;
+    let last = this.recordEntry.length;
+    while (last > 0 && this.recordEntry[last - 1] < 0) last--;
+    await store.put({ key, tally: this.tally.snapshot(), recordEntry: Array.from(this.recordEntry.subarray(0, last)) }).catch(() => undefined);
   }
 
   cancel(): void {
@@ -275,7 +320,7 @@ export class ShardDocument implements vscode.CustomDocument {
       findingsByRule: Object.fromEntries(this.tally.byRule),
       phase: this.phase,
       progress: this.progress,
-      progressText: panelText(this.progressState, this.info && !TEXT_FORMATS.has(this.info.format) ? 'rows' : 'lines').text,
+      progressText: `${panelText(this.progressState, this.info && !TEXT_FORMATS.has(this.info.format) ? 'rows' : 'lines').text}${this.kept ? ' (kept from an earlier check)' : ''}`,
       indexed: this.progressState.indexComplete ? 1 : this.progressState.indexed,
       error: this.error,
     };

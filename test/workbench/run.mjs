@@ -490,6 +490,21 @@ async function main() {
     await frame.locator('.sw-view-clear').click();
   });
 
+  await step(`reopening a checked shard (${chat}) shows its report at once, without a new check`, async () => {
+    await wb.runCommand('View: Close All Editors');
+    await wb.openFromExplorer(chat);
+    await wb.recordView(chat);
+    const { frame } = await panelFor(chat, { done: false });
+    // The report kept from the earlier check: final at once, and it says where it came from.
+    const text = await waitFor('the kept report', async () => {
+      const t = await frame.locator('.sw-progress-text').innerText().catch(() => '');
+      return /kept from an earlier check/.test(t) ? t : null;
+    }, 15000);
+    assert(/checked: [\d,]+ records/.test(text), `the panel says "${text}"`);
+    const p = await readPanel(frame);
+    assert(p.phase === 'done', `the panel's phase is ${p.phase}`);
+  });
+
   await step(`token counts of ${textShard} rows match the ${defaultEncoding} reference`, async () => {
     assert(textShard, 'no JSONL demo shard keeps its text in a "text" field');
     await expectRowTokens(textShard, facts.get(textShard), defaultEncoding);

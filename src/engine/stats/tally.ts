@@ -74,6 +74,27 @@ export interface TokenSummary {
   trainable?: number;
 }
 
+export interface TallySnapshot {
+  version: 1;
+  entries: number;
+  records: number;
+  blankLines: number;
+  invalidLines: number;
+  /** Per record index, its tokens; -1 where not counted. */
+  tokens: number[];
+  findings: Finding[];
+  totalFindings: number;
+  bySeverity: Record<Severity, number>;
+  byRule: [string, number][];
+  contentTotal: number;
+  promptTotal: number;
+  responseTotal: number;
+  renderedTotal: number | null;
+  trainableTotal: number;
+  byLayout: [string, number][];
+  shardLayout: string | null;
+}
+
 export class ShardTally {
   entries = 0;
   records = 0;
@@ -101,6 +122,53 @@ export class ShardTally {
 
   /** `keepFindings` caps how many findings are kept in memory; all are still counted. */
   constructor(private readonly keepFindings = 200_000) {}
+
+  /** Everything the tally holds, as plain data (kept between sessions by the editor's results store). */
+  snapshot(): TallySnapshot {
+    return {
+      version: 1,
+      entries: this.entries,
+      records: this.records,
+      blankLines: this.blankLines,
+      invalidLines: this.invalidLines,
+      tokens: Array.from(this.tokens.subarray(0, this.maxRecord + 1)),
+      findings: this.sortedFindings().slice(),
+      totalFindings: this.totalFindings,
+      bySeverity: { ...this.bySeverity },
+      byRule: [...this.byRule.entries()],
+      contentTotal: this.contentTotal,
+      promptTotal: this.promptTotal,
+      responseTotal: this.responseTotal,
+      renderedTotal: this.renderedTotal,
+      trainableTotal: this.trainableTotal,
+      byLayout: [...this.byLayout.entries()],
+      shardLayout: this.shardLayout,
+    };
+  }
+
+  static restore(s: TallySnapshot, keepFindings?: number): ShardTally {
+    if (!s || s.version !== 1 || !Array.isArray(s.tokens) || !Array.isArray(s.findings)) throw new Error('not a tally snapshot of version 1');
+    const t = new ShardTally(keepFindings);
+    t.entries = s.entries;
+    t.records = s.records;
+    t.blankLines = s.blankLines;
+    t.invalidLines = s.invalidLines;
+    t.tokens = new Int32Array(Math.max(1024, s.tokens.length)).fill(-1);
+    t.tokens.set(s.tokens);
+    t.maxRecord = s.tokens.length - 1;
+    for (const f of s.findings) t.findings.push(f);
+    t.totalFindings = s.totalFindings;
+    Object.assign(t.bySeverity, s.bySeverity);
+    for (const [k, v] of s.byRule) t.byRule.set(k, v);
+    t.contentTotal = s.contentTotal;
+    t.promptTotal = s.promptTotal;
+    t.responseTotal = s.responseTotal;
+    t.renderedTotal = s.renderedTotal;
+    t.trainableTotal = s.trainableTotal;
+    for (const [k, v] of s.byLayout) t.byLayout.set(k, v);
+    t.shardLayout = s.shardLayout;
+    return t;
+  }
 
   add(o: EntryOutcome): void {
     this.entries = Math.max(this.entries, o.entry + 1);
