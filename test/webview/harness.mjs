@@ -128,6 +128,35 @@ const THEMES = {
   },
 };
 
+// High-contrast themes (values from memory of VS Code's built-in "Dark High Contrast" and "Light
+// High Contrast"): the only themes that set contrastBorder and contrastActiveBorder.
+THEMES['hc-dark'] = {
+  ...THEMES.dark,
+  'editor-background': '#000000',
+  'sideBar-background': '#000000',
+  foreground: '#ffffff',
+  descriptionForeground: '#ffffff',
+  contrastBorder: '#6fc3df',
+  contrastActiveBorder: '#f38518',
+  focusBorder: '#f38518',
+  'list-focusOutline': '#f38518',
+  'list-activeSelectionBackground': '#00000000',
+  'list-hoverBackground': '#00000000',
+};
+THEMES['hc-light'] = {
+  ...THEMES.light,
+  'editor-background': '#ffffff',
+  'sideBar-background': '#ffffff',
+  foreground: '#292929',
+  descriptionForeground: '#292929',
+  contrastBorder: '#0f4a85',
+  contrastActiveBorder: '#006bbd',
+  focusBorder: '#006bbd',
+  'list-focusOutline': '#006bbd',
+  'list-activeSelectionBackground': '#ffffff00',
+  'list-hoverBackground': '#ffffff00',
+};
+
 function themeCss(name) {
   const vars = THEMES[name];
   if (!vars) throw new Error(`unknown theme ${name}`);

@@ -725,6 +725,40 @@ describe('record view', () => {
     }
   });
 
+  test('themes: light, dark and both high-contrast themes; high contrast marks the selected row and the active tab with its active border', async () => {
+    for (const theme of ['light', 'dark', 'hc-dark', 'hc-light']) {
+      const view = await openView(env.browser, env.server, { kind: 'recordView', theme, onMessage: scriptedHost() });
+      try {
+        await view.send(initMessage(400));
+        await waitLoaded(view.page);
+        await view.page.focus('.sw-viewport');
+        await view.page.keyboard.press('ArrowDown');
+        await view.page.waitForSelector('.sw-rows .sw-row.sw-selected');
+        await view.page.waitForSelector('.sw-tab-active');
+        const style = await view.page.$eval('.sw-rows .sw-row.sw-selected', (r) => ({ color: getComputedStyle(r).outlineColor, width: getComputedStyle(r).outlineWidth, style: getComputedStyle(r).outlineStyle }));
+        const tab = await view.page.$eval('.sw-tab-active', (t) => getComputedStyle(t).outlineColor);
+        if (theme === 'hc-dark') {
+          assert.equal(style.color, 'rgb(243, 133, 24)');
+          assert.equal(tab, 'rgb(243, 133, 24)');
+        } else if (theme === 'hc-light') {
+          assert.equal(style.color, 'rgb(0, 107, 189)');
+        }
+        await screenshot(view.page, `record-view-theme-${theme}`);
+      } finally {
+        await view.close();
+      }
+      const panel = await openView(env.browser, env.server, { kind: 'panel', theme });
+      try {
+        const { panelState } = await import('./fixtures.mjs');
+        await panel.send(panelState());
+        await panel.page.waitForSelector('.sw-finding');
+        await screenshot(panel.page, `panel-theme-${theme}`);
+      } finally {
+        await panel.close();
+      }
+    }
+  });
+
   test('indexing progress shows while the entry count grows, and new rows become reachable', async () => {
     const view = await openView(env.browser, env.server, { kind: 'recordView', onMessage: scriptedHost() });
     try {
