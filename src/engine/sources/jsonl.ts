@@ -30,6 +30,8 @@ export const DEFAULT_MAX_LINE_BYTES = 64 * 1024 * 1024;
 /** The one message for a 0-byte file of any format: an empty shard is an error (a failed write, most often), never a pass. */
 export const EMPTY_FILE_MESSAGE = 'the file is empty (0 bytes): it holds no records';
 const CHUNK_BYTES = 4 * 1024 * 1024;
+/** A scan splits its chunks into slices of this size: entries are built and yielded a slice at a time. */
+const SCAN_SLICE_BYTES = 256 * 1024;
 /** Free disk space is checked again after this many bytes of a temporary copy. */
 const DISK_CHECK_BYTES = 64 * 1024 * 1024;
 /** A read() groups neighbouring lines into one positional read up to this size. */
@@ -526,12 +528,17 @@ export class JsonlSource implements RecordSource {
     let decompressed = 0;
     try {
       for await (const chunk of chunks) {
-        if (signal?.aborted) throw abortError('scanning');
-        splitter.push(chunk);
-        decompressed += chunk.length;
-        onProgress?.({ done: seekable ? byteStart + decompressed : consumed, total: seekable ? this.decompressedSize : total, entries: entry });
-        for (const e of pending.splice(0)) yield e;
-        if (entry >= to) return;
+        // In slices: a chunk of tiny lines is millions of entries, never all built at once, and
+        // progress (what the watchdog watches) comes every slice.
+        for (let o = 0; o < chunk.length; o += SCAN_SLICE_BYTES) {
+          if (signal?.aborted) throw abortError('scanning');
+          const slice = chunk.subarray(o, Math.min(chunk.length, o + SCAN_SLICE_BYTES));
+          splitter.push(slice);
+          decompressed += slice.length;
+          onProgress?.({ done: seekable ? byteStart + decompressed : consumed, total: seekable ? this.decompressedSize : total, entries: entry });
+          for (const e of pending.splice(0)) yield e;
+          if (entry >= to) return;
+        }
       }
     } catch (e) {
       if ((e as Error)?.name === 'AbortError') throw e;

@@ -108,6 +108,19 @@ export function decimalText(unscaled: bigint, scale: number): string {
   return neg ? `-${digits}` : digits;
 }
 
+/**
+ * The [start, end) a value's offsets give, checked against what they index: a corrupt offsets
+ * buffer (a fuzzed 64-bit offset, say) must fail at the value, never loop over billions of items.
+ */
+function span(d: Data, i: number, limit: number): [number, number] {
+  const vo = d.valueOffsets as ArrayLike<number | bigint> | undefined;
+  if (!vo || i + 1 >= vo.length) throw new Error(`value ${i} has no offsets`);
+  const a = Number(vo[i]);
+  const b = Number(vo[i + 1]);
+  if (!(a >= 0 && b >= a && b <= limit)) throw new Error(`the offsets of value ${i} (${a} to ${b}) lie outside the ${limit} items they index`);
+  return [a, b];
+}
+
 function toBig(x: number | bigint): bigint {
   return typeof x === 'bigint' ? x : BigInt(Math.trunc(x));
 }
@@ -142,13 +155,15 @@ function makeConverter(type: DataType): Convert {
   if (DataType.isUtf8(type) || DataType.isLargeUtf8(type)) {
     const dec = new TextDecoder('utf-8');
     return (d, i) => {
-      const a = Number(d.valueOffsets[i]);
-      const b = Number(d.valueOffsets[i + 1]);
+      const [a, b] = span(d, i, d.values.length);
       return dec.decode(d.values.subarray(a, b));
     };
   }
   if (DataType.isBinary(type) || DataType.isLargeBinary(type)) {
-    return (d, i) => hexPreview(d.values.subarray(Number(d.valueOffsets[i]), Number(d.valueOffsets[i + 1])));
+    return (d, i) => {
+      const [a, b] = span(d, i, d.values.length);
+      return hexPreview(d.values.subarray(a, b));
+    };
   }
   if (DataType.isFixedSizeBinary(type)) {
     const w = type.byteWidth;
@@ -186,9 +201,8 @@ function makeConverter(type: DataType): Convert {
   }
   if (DataType.isList(type) || DataType.isLargeList(type)) {
     return (d, i, p, c) => {
-      const a = Number(d.valueOffsets[i]);
-      const b = Number(d.valueOffsets[i + 1]);
       const child = d.children[0];
+      const [a, b] = span(d, i, child.length);
       const conv = converterFor(child.type);
       const out: unknown[] = [];
       for (let k = a; k < b; k++) out.push(conv(child, k, `${p}/${k - a}`, c));
@@ -199,6 +213,7 @@ function makeConverter(type: DataType): Convert {
     const n = type.listSize;
     return (d, i, p, c) => {
       const child = d.children[0];
+      if ((i + 1) * n > child.length) throw new Error(`value ${i} needs items ${i * n} to ${(i + 1) * n} of a child holding ${child.length}`);
       const conv = converterFor(child.type);
       const out: unknown[] = [];
       for (let k = 0; k < n; k++) out.push(conv(child, i * n + k, `${p}/${k}`, c));
@@ -211,9 +226,8 @@ function makeConverter(type: DataType): Convert {
   }
   if (DataType.isMap(type)) {
     return (d, i, p, c) => {
-      const a = Number(d.valueOffsets[i]);
-      const b = Number(d.valueOffsets[i + 1]);
       const entries = d.children[0];
+      const [a, b] = span(d, i, entries.length);
       const [kd, vd] = entries.children;
       const kc = converterFor(kd.type);
       const vc = converterFor(vd.type);
@@ -253,8 +267,9 @@ function makeConverter(type: DataType): Convert {
       const childIndex = toChild[code];
       const child = d.children[childIndex];
       if (!child) return null;
-      const at = dense ? d.valueOffsets[i] : i;
-      return converterFor(child.type)(child, Number(at), p, c);
+      const at = Number(dense ? d.valueOffsets[i] : i);
+      if (!(at >= 0 && at < child.length)) throw new Error(`value ${i} points at item ${at} of a union member holding ${child.length}`);
+      return converterFor(child.type)(child, at, p, c);
     };
   }
   // Types this table does not know (views and newer ones): the library's own reading, made plain.
@@ -308,6 +323,7 @@ function halfToFloat(h: number): number {
 
 /** The value of one column at a row of a record-batch-shaped Data (a struct of columns). */
 export function columnValue(column: Data, row: number, name: string, ctx: ConvertContext): unknown {
+  if (row >= column.length) throw new Error(`the column holds ${column.length} values, fewer than the batch's rows`);
   return converterFor(column.type)(column, row, `/${esc(name)}`, ctx);
 }
 
