@@ -120,6 +120,8 @@ describe('many files: folders, globs, input order, workers', () => {
     put('walk/schema.schema.json', JSON.stringify({ type: 'object' }, null, 2));
     put('walk/manifest.json', JSON.stringify({ files: 1, note: 'x' }, null, 2));
     put('walk/readme.md', '# notes\n');
+    // A gzipped pretty-printed document (as the Arrow integration files are) is metadata too.
+    put('walk/integration.json.gz', gzipSync(Buffer.from(JSON.stringify({ schema: { fields: [] }, batches: [] }, null, 2))));
     const r = (await shardwise(['check', 'walk', '--format', 'json', '--in-thread']));
     expect(JSON.parse(r.out).files.map((f: { path: string }) => f.path)).toEqual(['walk/part-00000.jsonl']);
   });
