@@ -38,6 +38,8 @@ export interface HostSettings {
   textEditorMaxBytes: number;
   /** Files reached through a non-file scheme are copied up to this size. */
   virtualFileMaxBytes: number;
+  /** A read that makes no progress this long is stopped with a finding (0: never). */
+  stallSeconds: number;
 }
 
 export async function settingsFor(uri: vscode.Uri): Promise<HostSettings> {
@@ -60,6 +62,7 @@ export async function settingsFor(uri: vscode.Uri): Promise<HostSettings> {
     workers: clamp(s.get<number>('workers', 0), 0, 64, 0),
     textEditorMaxBytes: clamp(s.get<number>('textEditor.maxMiB', 50), 1, 4096, 50) * MIB,
     virtualFileMaxBytes: clamp(s.get<number>('virtualFiles.maxMiB', 512), 1, 65536, 512) * MIB,
+    stallSeconds: clamp(s.get<number>('reading.stallSeconds', 10), 0, 86400, 10),
   };
   const schemas = s.get<Record<string, string>>('schemas', {});
   const folder = vscode.workspace.getWorkspaceFolder(uri);

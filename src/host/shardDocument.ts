@@ -67,7 +67,7 @@ export class ShardDocument implements vscode.CustomDocument {
   async load(): Promise<void> {
     this.settings = await settingsFor(this.uri);
     this.localPath = await this.materialize();
-    const session = new SourceSession(this.localPath, { maxLineBytes: this.settings.config.maxLineBytes }, {
+    const session = new SourceSession(this.localPath, { maxLineBytes: this.settings.config.maxLineBytes, stallSeconds: this.settings.stallSeconds }, {
       onInfo: (info) => {
         this.info = info;
         this.fire();
@@ -141,7 +141,7 @@ export class ShardDocument implements vscode.CustomDocument {
           let lastPct = 0;
           await analyzeFile(this.localPath, {
             config: this.settings.config,
-            open: { maxLineBytes: this.settings.config.maxLineBytes },
+            open: { maxLineBytes: this.settings.config.maxLineBytes, stallSeconds: this.settings.stallSeconds },
             workers,
             signal: ac.signal,
             onFileFindings: (fs) => {
