@@ -1825,6 +1825,8 @@ const SETTINGS = {
     'chat-sft.arrow': './chat-sft.schema.json',
   },
   'workbench.startupEditor': 'none',
+  // The demo shows the record view: its JSON Lines shards open there whatever their size.
+  'shardwise.recordView.lines': 'always',
 };
 
 /** The project file: the same schema mapping for the editor and for `shardwise check demo-data`. */

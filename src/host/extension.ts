@@ -90,8 +90,10 @@ export function activate(context: vscode.ExtensionContext): void {
           filters: { Shards: dialogExtensions(context), 'All files': ['*'] },
         });
         if (!picked?.[0]) return;
+        editors.explicit.add(picked[0].toString());
         return vscode.commands.executeCommand('vscode.openWith', picked[0], RECORD_VIEW_TYPE);
       }
+      editors.explicit.add(target.toString());
       return vscode.commands.executeCommand('vscode.openWith', target, RECORD_VIEW_TYPE);
     }),
     vscode.commands.registerCommand('shardwise.goTo', async () => {

@@ -1,5 +1,7 @@
 // The read-only custom editor: one webview per open shard, paging records from the shard's worker.
 
+import { openChoice } from './openChoice.js';
+import { SECTION, clamp } from './settings.js';
 import { ViewOrder } from './viewOrder.js';
 import { scalarAt, type ViewQuery } from '../engine/query.js';
 import type { Entry } from '../engine/sources/source.js';
@@ -52,7 +54,30 @@ export class RecordEditorProvider implements vscode.CustomReadonlyEditorProvider
     return doc;
   }
 
+  /** Files the person asked to see in the record view (the command, or a second opening). */
+  readonly explicit = new Set<string>();
+  private handedToText = new Set<string>();
+
   async resolveCustomEditor(document: ShardDocument, panel: vscode.WebviewPanel): Promise<void> {
+    // A small JSON Lines file is text people also edit: it goes to the text editor unless the
+    // settings or the person say otherwise (once handed over, opening it here again keeps it here).
+    const key = document.uri.toString();
+    const s = vscode.workspace.getConfiguration(SECTION, document.uri);
+    const size = await vscode.workspace.fs.stat(document.uri).then((st) => st.size, () => null);
+    const choice = openChoice({
+      fileName: document.fileName,
+      sizeBytes: size,
+      mode: (['large', 'always', 'never'] as const).find((m) => m === s.get<string>('recordView.lines', 'large')) ?? 'large',
+      largeBytes: clamp(s.get<number>('recordView.largeMiB', 8), 0, 65536, 8) * 1024 * 1024,
+      explicit: this.explicit.delete(key) || this.handedToText.has(key),
+    });
+    if (choice === 'text') {
+      this.handedToText.add(key);
+      const column = panel.viewColumn;
+      panel.dispose();
+      await vscode.commands.executeCommand('vscode.openWith', document.uri, 'default', column);
+      return;
+    }
     const webview = panel.webview;
     webview.options = {
       enableScripts: true,
