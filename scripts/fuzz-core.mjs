@@ -161,6 +161,8 @@ let bundled = null;
 async function workerBundle() {
   if (bundled) return bundled;
   const out = mkdtempSync(join(tmpdir(), 'shardwise-fuzz-build-'));
+  // The bundle lives as long as this process.
+  process.once('exit', () => rmSync(out, { recursive: true, force: true }));
   await build({
     entryPoints: [join(root, 'scripts/fuzz-worker.mjs')],
     outfile: join(out, 'fuzz-worker.cjs'),

@@ -31,7 +31,7 @@ export const DEFAULT_MAX_LINE_BYTES = 64 * 1024 * 1024;
 export const EMPTY_FILE_MESSAGE = 'the file is empty (0 bytes): it holds no records';
 const CHUNK_BYTES = 4 * 1024 * 1024;
 /** A scan splits its chunks into slices of this size: entries are built and yielded a slice at a time. */
-const SCAN_SLICE_BYTES = 256 * 1024;
+const SCAN_SLICE_BYTES = 64 * 1024;
 /** Free disk space is checked again after this many bytes of a temporary copy. */
 const DISK_CHECK_BYTES = 64 * 1024 * 1024;
 /** A read() groups neighbouring lines into one positional read up to this size. */

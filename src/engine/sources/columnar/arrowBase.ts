@@ -2,7 +2,10 @@
 // found by reading headers only, and decoding of one batch by handing the library just the messages
 // that batch needs.
 
-import { RecordBatchReader, type RecordBatch, type Schema } from 'apache-arrow';
+import { DataType, RecordBatchReader, type RecordBatch, type Schema } from 'apache-arrow';
+
+/** Rows a scan turns into entries at a time. */
+const SCAN_SLICE_ROWS = 4096;
 import type { Finding } from '../../findings.js';
 import type { ByteReader, Entry, FormatName, GroupInfo, RecordSource, ScanOptions, SourceInfo } from '../source.js';
 import { errorText, readFinding } from '../columnarRules.js';
@@ -131,6 +134,19 @@ export abstract class ArrowSourceBase implements RecordSource {
         layout.refused ??= 'the schema does not decode';
       }
     }
+    // An uncompressed body holds at least a bit per row in every column but null ones: a header
+    // claiming more rows than that is forged, and its rows are not made into entries.
+    const fields = this.arrowSchema?.fields ?? [];
+    if (fields.length > 0 && !fields.some(function hasNull(f): boolean {
+      return DataType.isNull(f.type) || (f.type.children ?? []).some(hasNull);
+    })) {
+      layout.batches.forEach((b, k) => {
+        if (!b.codec && b.rows > b.bodyLength * 8 + 64) {
+          findings.push(readFinding('read-corrupt', `batch ${k} declares ${b.rows} rows, more than its ${b.bodyLength}-byte body can hold; it is not read`));
+          b.rows = 0;
+        }
+      });
+    }
     const groups: GroupInfo[] = [];
     let first = 0;
     this.firstRows = [];
@@ -184,6 +200,11 @@ export abstract class ArrowSourceBase implements RecordSource {
       const batch = reader.next().value as RecordBatch | undefined;
       if (!batch) throw new Error('the batch message holds no batch');
       if (batch.numRows !== b.rows) throw new Error(`the batch holds ${batch.numRows} rows where its header says ${b.rows}`);
+      batch.data.children.forEach((child, c) => {
+        if (child.length < batch.numRows) {
+          throw new Error(`column "${batch.schema.fields[c]?.name ?? c}" holds ${child.length} values where the batch declares ${batch.numRows} rows`);
+        }
+      });
       result = batch;
     } catch (e) {
       result = e instanceof Error ? e : new Error(String(e));
@@ -224,8 +245,18 @@ export abstract class ArrowSourceBase implements RecordSource {
       opts.signal?.throwIfAborted();
       const first = this.firstRows[k];
       const rows = this.layout!.batches[k].rows;
-      const entries = await this.read(Math.max(from, first), Math.min(to, first + rows), { signal: opts.signal });
-      for (const e of entries) yield e;
+      const end = Math.min(to, first + rows);
+      const batch = await this.decodeBatch(k);
+      if (batch instanceof Error) {
+        // One finding for a batch that does not decode; its claimed rows are not walked one by one.
+        if (from <= first) for (const e of await this.read(first, Math.min(end, first + 1), { signal: opts.signal })) yield e;
+      } else {
+        // In slices: a batch of millions of rows never becomes millions of entries at once.
+        for (let lo = Math.max(from, first); lo < end; lo += SCAN_SLICE_ROWS) {
+          opts.signal?.throwIfAborted();
+          for (const e of await this.read(lo, Math.min(end, lo + SCAN_SLICE_ROWS), { signal: opts.signal, columns: undefined })) yield e;
+        }
+      }
       // Scans pass once; keep the cache for paging.
       this.cache.delete(k);
       opts.onProgress?.({ done: Math.min(to, first + rows) - from, total: to - from, entries: total });

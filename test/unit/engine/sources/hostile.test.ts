@@ -6,6 +6,7 @@ import { existsSync, mkdtempSync, readFileSync, readdirSync, rmSync, truncateSyn
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { gzipSync } from 'node:zlib';
+import { build } from 'esbuild';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { tableFromArrays, tableToIPC } from 'apache-arrow';
 import * as pw from 'parquet-wasm/node';
@@ -259,6 +260,18 @@ describe('deep nesting in a JSON array is refused like a JSON Lines line', () =>
     const ok = '['.repeat(10_000) + ']'.repeat(10_000);
     const { entries } = await scanAll(new JsonArraySource(write('deep-ok.json', `[${ok}]`)));
     expect(entries[0].value).toBeDefined();
+  });
+});
+
+describe('a million tiny bad lines', () => {
+  it('are read a slice at a time: the scan fits a 128 MB heap, every line gets its finding', async () => {
+    const p = write('tiny.jsonl', 'x\n'.repeat(1_000_000));
+    const child = join(dir, 'scan-child.cjs');
+    await build({ entryPoints: [join(__dirname, 'scan-child.ts')], outfile: child, bundle: true, platform: 'node', format: 'cjs', logLevel: 'error' });
+    // Built all at once, the 2 MB of lines would be a million entries held together (about 500 MB).
+    const r = spawnSync(process.execPath, ['--max-old-space-size=128', child, p], { encoding: 'utf8' });
+    expect(r.stderr).toBe('');
+    expect(r.stdout.trim()).toBe('1000000 1000000');
   });
 });
 
