@@ -70,24 +70,33 @@ export function walkFolder(dir: string): InputFile[] {
   const saved = savedDataset(dir);
   if (saved) return saved;
   const out: InputFile[] = [];
+  for (const e of listFolder(dir, true)) {
+    if (e.dir) out.push(...walkFolder(e.path));
+    else if (e.size > 0 && isDataFile(e.path)) out.push({ path: e.path });
+  }
+  return out;
+}
+
+/** A folder's visible entries in name order (hidden ones and package folders left out). */
+function listFolder(dir: string, strict: boolean): { name: string; path: string; dir: boolean; size: number }[] {
   let names: string[];
   try {
     names = readdirSync(dir).sort();
   } catch (err) {
-    throw new InputError(`${dir}: cannot list the folder (${(err as NodeJS.ErrnoException).code})`);
+    if (strict) throw new InputError(`${dir}: cannot list the folder (${(err as NodeJS.ErrnoException).code})`);
+    return [];
   }
+  const out: { name: string; path: string; dir: boolean; size: number }[] = [];
   for (const name of names) {
     if (name.startsWith('.')) continue;
-    const p = join(dir, name);
-    let st;
+    const path = join(dir, name);
     try {
-      st = statSync(p);
+      const st = statSync(path);
+      if (st.isDirectory() && !SKIP_DIRS.has(name)) out.push({ name, path, dir: true, size: 0 });
+      else if (st.isFile()) out.push({ name, path, dir: false, size: st.size });
     } catch {
-      continue;
+      // Vanished or unreadable while listing: not an input.
     }
-    if (st.isDirectory()) {
-      if (!SKIP_DIRS.has(name)) out.push(...walkFolder(p));
-    } else if (st.isFile() && st.size > 0 && isDataFile(p)) out.push({ path: p });
   }
   return out;
 }
@@ -194,25 +203,10 @@ export function expandGlob(pattern: string): InputFile[] {
   if (!existsSync(base)) return [];
   const out: InputFile[] = [];
   const visit = (dir: string) => {
-    let names: string[];
-    try {
-      names = readdirSync(dir).sort();
-    } catch {
-      return;
-    }
-    for (const name of names) {
-      if (name.startsWith('.')) continue;
-      const p = join(dir, name);
-      let st;
-      try {
-        st = statSync(p);
-      } catch {
-        continue;
-      }
-      const rel = relative(base, p).split(sep).join('/');
-      if (st.isDirectory()) {
-        if (!SKIP_DIRS.has(name)) visit(p);
-      } else if (st.isFile() && re.test(rel) && isDataFile(p)) out.push({ path: fixed.length ? p : rel });
+    for (const e of listFolder(dir, false)) {
+      const rel = relative(base, e.path).split(sep).join('/');
+      if (e.dir) visit(e.path);
+      else if (re.test(rel) && isDataFile(e.path)) out.push({ path: fixed.length ? e.path : rel });
     }
   };
   visit(base);

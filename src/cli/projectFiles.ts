@@ -44,13 +44,7 @@ export class ProjectFiles {
   private load(file: string): ProjectFile {
     let p = this.loaded.get(file);
     if (!p) {
-      let text: string;
-      try {
-        text = readFileSync(file, 'utf8');
-      } catch (err) {
-        throw new Error(`${file}: cannot read the project file (${(err as NodeJS.ErrnoException).code ?? (err as Error).message})`);
-      }
-      p = parseProjectFile(file, dirname(file), text, this.knownRules);
+      p = parseProjectFile(file, dirname(file), readText(file, 'the project file'), this.knownRules);
       this.loaded.set(file, p);
     }
     return p;
@@ -61,12 +55,7 @@ export class ProjectFiles {
     const full = isAbsolute(path) ? path : resolve(base || '.', path);
     let s = this.schemas.get(full);
     if (!s) {
-      let text: string;
-      try {
-        text = readFileSync(full, 'utf8');
-      } catch (err) {
-        throw new Error(`${full}: cannot read the JSON Schema named by ${origin} (${(err as NodeJS.ErrnoException).code ?? (err as Error).message})`);
-      }
+      const text = readText(full, `the JSON Schema named by ${origin}`);
       try {
         s = { source: relativeOrAbsolute(full), schema: JSON.parse(text) };
       } catch (err) {
@@ -75,6 +64,14 @@ export class ProjectFiles {
       this.schemas.set(full, s);
     }
     return s;
+  }
+}
+
+function readText(path: string, what: string): string {
+  try {
+    return readFileSync(path, 'utf8');
+  } catch (err) {
+    throw new Error(`${path}: cannot read ${what} (${(err as NodeJS.ErrnoException).code ?? (err as Error).message})`);
   }
 }
 

@@ -416,27 +416,22 @@ export class RecordEditorProvider implements vscode.CustomReadonlyEditorProvider
     return detail;
   }
 
+  /** Brings the document's record view forward and acts on it; false when none shows it. */
+  private withEditorOf(document: ShardDocument, act: (ed: ActiveShard) => void): boolean {
+    const ed = [...this.editors].find((e) => e.document === document);
+    if (!ed) return false;
+    ed.panel.reveal(ed.panel.viewColumn, false);
+    act(ed);
+    return true;
+  }
+
   /** Runs a query in the document's record view (and selects its first record when asked). */
   queryInActive(document: ShardDocument, q: ViewQuery, selectFirst: boolean): boolean {
-    for (const ed of this.editors) {
-      if (ed.document === document) {
-        ed.panel.reveal(ed.panel.viewColumn, false);
-        ed.query(q, selectFirst);
-        return true;
-      }
-    }
-    return false;
+    return this.withEditorOf(document, (ed) => ed.query(q, selectFirst));
   }
 
   revealInActive(document: ShardDocument, entry: number, pointer?: string): boolean {
-    for (const ed of this.editors) {
-      if (ed.document === document) {
-        ed.panel.reveal(ed.panel.viewColumn, false);
-        ed.select(entry, pointer);
-        return true;
-      }
-    }
-    return false;
+    return this.withEditorOf(document, (ed) => ed.select(entry, pointer));
   }
 }
 

@@ -289,6 +289,13 @@ function renderFindings(): void {
   if (focusedId) (listEl.querySelector(`.sw-finding[data-id="${Number(focusedId)}"]`) as HTMLElement | null)?.focus();
 }
 
+/** Moves the tab stop to the next or previous finding or rule heading of the list. */
+function stepFocus(from: HTMLElement, direction: 1 | -1): void {
+  const all = [...listEl.querySelectorAll<HTMLElement>('.sw-finding, .sw-group-head')];
+  const to = all[all.indexOf(from) + direction];
+  if (to) moveFocus(to);
+}
+
 /** Moves the list's one tab stop to `el` and focuses it. */
 function moveFocus(el: HTMLElement): void {
   for (const x of listEl.querySelectorAll<HTMLElement>('[tabindex="0"]')) x.tabIndex = -1;
@@ -317,10 +324,7 @@ function groupHead(rule: string, list: FindingView[], total: number, open: boole
     else if (ev.key === 'ArrowLeft' && open) toggle();
     else if (ev.key === 'ArrowDown' || ev.key === 'ArrowUp') {
       ev.preventDefault();
-      const all = [...listEl.querySelectorAll<HTMLElement>('.sw-finding, .sw-group-head')];
-      const i = all.indexOf(head);
-      const sib = all[ev.key === 'ArrowDown' ? i + 1 : i - 1];
-      if (sib) moveFocus(sib);
+      stepFocus(head, ev.key === 'ArrowDown' ? 1 : -1);
     }
   });
   return head;
@@ -356,10 +360,7 @@ function findingItem(f: FindingView): HTMLElement {
       vscode.postMessage({ type: 'reveal', id: f.id });
     } else if (ev.key === 'ArrowDown' || ev.key === 'ArrowUp') {
       ev.preventDefault();
-      const all = [...listEl.querySelectorAll<HTMLElement>('.sw-finding, .sw-group-head')];
-      const i = all.indexOf(item);
-      const sib = all[ev.key === 'ArrowDown' ? i + 1 : i - 1];
-      if (sib) moveFocus(sib);
+      stepFocus(item, ev.key === 'ArrowDown' ? 1 : -1);
     }
   });
   return item;

@@ -177,11 +177,7 @@ export class ShardProfile {
       invalidLines: this.invalidLines,
       bytes: this.bytes,
       tokens: {
-        total: this.total,
-        prompt: this.prompt,
-        response: this.response,
-        ...(this.rendered !== null ? { rendered: this.rendered, trainable: this.trainable } : {}),
-        max: this.max,
+        ...this.sums(),
         p50: this.sketch.quantile(0.5),
         p90: this.sketch.quantile(0.9),
         p99: this.sketch.quantile(0.99),
@@ -191,6 +187,19 @@ export class ShardProfile {
       findings: { total: this.bySeverity.error + this.bySeverity.warning + this.bySeverity.info, bySeverity: { ...this.bySeverity }, byRule },
       fields,
       distinctRecords: this.distinct ? Math.min(this.records, this.distinct.estimate()) : null,
+    };
+  }
+
+  /** The token figures that add across shards. */
+  private sums() {
+    return {
+      total: this.total,
+      prompt: this.prompt,
+      response: this.response,
+      ...(this.rendered !== null ? { rendered: this.rendered, trainable: this.trainable } : {}),
+      max: this.max,
+      contextLength: this.contextLength,
+      overContext: this.overContext,
     };
   }
 
@@ -204,13 +213,7 @@ export class ShardProfile {
       invalidLines: this.invalidLines,
       bytes: this.bytes,
       tokens: {
-        total: this.total,
-        prompt: this.prompt,
-        response: this.response,
-        ...(this.rendered !== null ? { rendered: this.rendered, trainable: this.trainable } : {}),
-        max: this.max,
-        overContext: this.overContext,
-        contextLength: this.contextLength,
+        ...this.sums(),
         sketch: this.sketch.toJSON(),
         histogram: this.histogram.toJSON(),
       },
