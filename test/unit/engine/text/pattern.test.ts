@@ -83,3 +83,11 @@ describe('a catastrophic pattern never stalls a check', () => {
     expect(validate({ [evil]: 'x', aaaa: 'y' }).map((i) => i.pointer)).toEqual(['/aaaa']);
   });
 });
+
+describe('a schema never reaches the network', () => {
+  it('a $ref to a network address is refused at compile time, synchronously (nothing is fetched)', () => {
+    const t = Date.now();
+    expect(() => compileSchema({ properties: { a: { $ref: 'https://schemas.example.invalid/part.json' } } }, 'test')).toThrow(/does not compile.*resolve reference/i);
+    expect(Date.now() - t).toBeLessThan(2000);
+  });
+});
