@@ -93,9 +93,11 @@ describe('side panel', () => {
       mark = view.posted.length;
       await view.page.hover('.sw-finding[data-id="4"]');
       await view.page.click('.sw-finding[data-id="4"] .sw-open-text');
-      await new Promise((r) => setTimeout(r, 100));
-      // Exactly one message: the open action must not also reveal.
-      assert.deepEqual(view.posted.slice(mark), [{ type: 'openText', id: 4 }]);
+      // Exactly one message: the open action must not also reveal. A second, known action marks
+      // the end (messages keep their order), instead of a sleep that proves nothing.
+      await view.page.click('.sw-finding[data-id="1"] .sw-message');
+      await view.waitForPost((m) => m.type === 'reveal' && m.id === 1, { from: mark });
+      assert.deepEqual(view.posted.slice(mark), [{ type: 'openText', id: 4 }, { type: 'reveal', id: 1 }]);
     } finally {
       await view.close();
     }
@@ -165,7 +167,9 @@ describe('side panel', () => {
         summary: { ...s.summary, fileName: HOSTILE_TEXT, path: HOSTILE[0], format: HOSTILE[1], phase: 'failed', error: HOSTILE[2], tokens: { ...s.summary.tokens, encoding: HOSTILE[1] } },
         findings,
       });
-      await new Promise((r) => setTimeout(r, 150));
+      // Rendered (and any handler would have run) once a frame has painted the state.
+      await view.page.waitForSelector('.sw-finding');
+      await view.page.evaluate(() => new Promise((r) => requestAnimationFrame(() => requestAnimationFrame(r))));
       assert.equal(await view.page.evaluate(() => window.__pwned), undefined);
       assert.equal(await view.page.$$eval('img, svg, script:not([nonce])', (x) => x.length), 0);
       assert.equal(await view.page.textContent('.sw-summary .sw-file-name'), HOSTILE_TEXT);

@@ -505,7 +505,8 @@ describe('record view', () => {
       for (const tab of ['pair', 'json', 'findings', 'conversation']) await view.page.click(`.sw-tab[data-tab="${tab}"]`);
       await view.send({ type: 'error', message: HOSTILE_TEXT });
       await view.page.click('.sw-tab[data-tab="json"]');
-      await new Promise((r) => setTimeout(r, 200));
+      await view.page.waitForSelector('.sw-tree');
+      await view.page.evaluate(() => new Promise((r) => requestAnimationFrame(() => requestAnimationFrame(r))));
 
       assert.equal(await view.page.evaluate(() => window.__pwned), undefined);
       // Nothing was parsed as markup: no element the host text names exists anywhere.
@@ -649,6 +650,7 @@ describe('record view', () => {
       assert.equal(await view.page.textContent('.sw-entries'), '5,000 lines');
       assert.equal(await view.page.isHidden('.sw-view-chip'), true);
       // Rows carry their context for the row menu: the view position, and the cell's column.
+      await waitLoaded(view.page);
       const ctx = await view.page.$eval('.sw-rows .sw-row[data-entry="0"] [data-field="source"]', (c) => JSON.parse(c.dataset.vscodeContext));
       assert.deepEqual(ctx, { webviewSection: 'cell', position: 0, column: 'source', preventDefaultContextMenuItems: true });
       await screenshot(view.page, 'record-view-search');
