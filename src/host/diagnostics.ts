@@ -39,7 +39,7 @@ export class ShardDiagnostics {
     if (hidden > 0) {
       const d = new vscode.Diagnostic(
         new vscode.Range(0, 0, 0, 0),
-        `${hidden.toLocaleString()} more Shardwise findings are not listed here (limit shardwise.problems.max = ${max}); the Shard Report panel and the CLI list them all.`,
+        `${hidden.toLocaleString(vscode.env.language)} more Shardwise findings are not listed here (limit shardwise.problems.max = ${max}); the Shard Report panel and the CLI list them all.`,
         vscode.DiagnosticSeverity.Information,
       );
       d.source = 'shardwise';

@@ -53,8 +53,8 @@ export function activate(context: vscode.ExtensionContext): void {
     const d = activeDoc();
     if (!d?.settings) return void status.hide();
     const c = d.settings.config;
-    status.text = `$(symbol-numeric) ${tokenizerLabel(tokenizerOf(c))} · ${c.contextLength.toLocaleString()}`;
-    status.tooltip = `Tokens of ${d.fileName} are counted with ${tokenizerOf(c)}; records over ${c.contextLength.toLocaleString()} tokens are reported. Click to choose the tokenizer.`;
+    status.text = `$(symbol-numeric) ${tokenizerLabel(tokenizerOf(c))} · ${c.contextLength.toLocaleString(vscode.env.language)}`;
+    status.tooltip = `Tokens of ${d.fileName} are counted with ${tokenizerOf(c)}; records over ${c.contextLength.toLocaleString(vscode.env.language)} tokens are reported. Click to choose the tokenizer.`;
     status.show();
   };
   context.subscriptions.push(status, editors.onDidChangeActive(updateStatus));

@@ -306,7 +306,7 @@ export class RecordEditorProvider implements vscode.CustomReadonlyEditorProvider
               break;
             }
             const pick = await vscode.window.showQuickPick(
-              rules.map(([rule, n]) => ({ label: rule, description: `${n.toLocaleString()} ${n === 1 ? 'finding' : 'findings'}` })),
+              rules.map(([rule, n]) => ({ label: rule, description: `${n.toLocaleString(vscode.env.language)} ${n === 1 ? 'finding' : 'findings'}` })),
               { title: 'Show the records with findings of a rule', placeHolder: 'A rule of this shard' },
             );
             if (pick) await runQuery({ ...(view?.query ?? {}), filter: { kind: 'rule', rule: pick.label } });

@@ -18,5 +18,6 @@ export function webviewHtml(
     styleUris: [asset('media', 'common.css'), asset('media', `${kind}.css`)],
     codiconUri: asset('dist', 'codicons', 'codicon.css'),
     title,
+    language: vscode.env.language,
   });
 }

@@ -10,6 +10,8 @@ export interface WebviewHtmlOptions {
   styleUris: string[];
   codiconUri: string;
   title: string;
+  /** The display language (`vscode.env.language`): numbers in the webview are formatted for it. */
+  language?: string;
 }
 
 const HTML_ESCAPES: Record<string, string> = {
@@ -49,8 +51,9 @@ export function renderWebviewHtml(o: WebviewHtmlOptions): string {
   const styles = [o.codiconUri, ...o.styleUris]
     .map((u) => `    <link rel="stylesheet" href="${escapeHtml(u)}">`)
     .join('\n');
+  const lang = /^[A-Za-z]{2,8}(-[A-Za-z0-9]{1,8})*$/.test(o.language ?? '') ? o.language! : 'en';
   return `<!DOCTYPE html>
-<html lang="en">
+<html lang="${lang}">
   <head>
     <meta charset="utf-8">
     <meta http-equiv="Content-Security-Policy" content="${escapeHtml(csp)}">

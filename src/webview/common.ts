@@ -56,7 +56,14 @@ export function severityIcon(severity: Severity): HTMLSpanElement {
   return s;
 }
 
-const countFormat = new Intl.NumberFormat('en-US');
+/** Numbers as the display language writes them (the host puts it in <html lang>). */
+const countFormat = (() => {
+  try {
+    return new Intl.NumberFormat((typeof document !== 'undefined' && document.documentElement.lang) || 'en');
+  } catch {
+    return new Intl.NumberFormat('en');
+  }
+})();
 
 export function formatCount(n: number | null | undefined): string {
   if (n === null || n === undefined || !Number.isFinite(n)) return '–';

@@ -104,4 +104,10 @@ describe('webview HTML shell in Chromium', () => {
       await view.close();
     }
   });
+  test('the display language goes into <html lang> (numbers follow it); anything else falls back to en', () => {
+    assert.match(html.renderWebviewHtml({ ...base, language: 'de' }), /<html lang="de">/);
+    assert.match(html.renderWebviewHtml({ ...base, language: 'zh-cn' }), /<html lang="zh-cn">/);
+    assert.match(html.renderWebviewHtml({ ...base, language: '"><script>' }), /<html lang="en">/);
+    assert.match(html.renderWebviewHtml(base), /<html lang="en">/);
+  });
 });
