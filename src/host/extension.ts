@@ -47,14 +47,14 @@ export function activate(context: vscode.ExtensionContext): void {
   };
   // A status-bar item while a record view is active: its tokenizer and context length; a click opens the picker.
   const status = vscode.window.createStatusBarItem('shardwise.tokenizer', vscode.StatusBarAlignment.Right, 100);
-  status.name = 'Shardwise tokenizer';
+  status.name = vscode.l10n.t('Shardwise tokenizer');
   status.command = 'shardwise.chooseEncoding';
   const updateStatus = () => {
     const d = activeDoc();
     if (!d?.settings) return void status.hide();
     const c = d.settings.config;
     status.text = `$(symbol-numeric) ${tokenizerLabel(tokenizerOf(c))} · ${c.contextLength.toLocaleString(vscode.env.language)}`;
-    status.tooltip = `Tokens of ${d.fileName} are counted with ${tokenizerOf(c)}; records over ${c.contextLength.toLocaleString(vscode.env.language)} tokens are reported. Click to choose the tokenizer.`;
+    status.tooltip = vscode.l10n.t('Tokens of {0} are counted with {1}; records over {2} tokens are reported. Click to choose the tokenizer.', d.fileName, tokenizerOf(c), c.contextLength.toLocaleString(vscode.env.language));
     status.show();
   };
   context.subscriptions.push(status, editors.onDidChangeActive(updateStatus));
@@ -98,16 +98,16 @@ export function activate(context: vscode.ExtensionContext): void {
     }),
     vscode.commands.registerCommand('shardwise.goTo', async () => {
       const a = editors.active;
-      if (!a) return void vscode.window.showInformationMessage('Shardwise: open a shard in the record view first.');
+      if (!a) return void vscode.window.showInformationMessage(vscode.l10n.t('Shardwise: open a shard in the record view first.'));
       const text = await vscode.window.showInputBox({
-        title: 'Go to Record, Line or Row',
-        prompt: 'A record number (12 or #12), "line 40" or "row 7" — all count from 1, as the record view shows them',
+        title: vscode.l10n.t('Go to Record, Line or Row'),
+        prompt: vscode.l10n.t('A record number (12 or #12), "line 40" or "row 7" — all count from 1, as the record view shows them'),
         validateInput: (v) => (parsePlace(v) ? null : PLACE_HINT),
       });
       const g = text ? parsePlace(text) : null;
       if (!g) return;
       const entry = a.document.entryOfPlace(g);
-      if (entry < 0 || entry >= (a.document.info?.entries ?? 0)) return void vscode.window.showWarningMessage(`Shardwise: ${noSuchPlace(a.document, g.kind, g.value)}`);
+      if (entry < 0 || entry >= (a.document.info?.entries ?? 0)) return void vscode.window.showWarningMessage(vscode.l10n.t('Shardwise: {0}', noSuchPlace(a.document, g.kind, g.value)));
       a.panel.reveal(a.panel.viewColumn, false);
       a.select(entry);
     }),
@@ -115,9 +115,9 @@ export function activate(context: vscode.ExtensionContext): void {
     vscode.commands.registerCommand('shardwise.setContextLength', async () => {
       const current = vscode.workspace.getConfiguration(SECTION, activeDoc()?.uri).get<number>('tokens.contextLength', 8192);
       const v = await vscode.window.showInputBox({
-        title: 'Context length in tokens',
+        title: vscode.l10n.t('Context length in tokens'),
         value: String(current),
-        validateInput: (s) => (/^[1-9][0-9]{0,8}$/.test(s.trim()) && Number(s.trim()) <= 100_000_000 ? null : 'A whole number of tokens from 1 to 100,000,000'),
+        validateInput: (s) => (/^[1-9][0-9]{0,8}$/.test(s.trim()) && Number(s.trim()) <= 100_000_000 ? null : vscode.l10n.t('A whole number of tokens from 1 to 100,000,000')),
       });
       if (!v) return;
       const uri = activeDoc()?.uri;

@@ -39,7 +39,7 @@ export class PanelViewProvider implements vscode.WebviewViewProvider {
     view.webview.html = webviewHtml(this.context, view.webview, 'panel', 'Shard report');
     view.webview.onDidReceiveMessage((raw: unknown) => {
       if (!isMessage(raw)) return;
-      void this.onMessage(raw as PanelToHost).catch((err) => void vscode.window.showErrorMessage(`Shardwise: ${(err as Error).message}`));
+      void this.onMessage(raw as PanelToHost).catch((err) => void vscode.window.showErrorMessage(vscode.l10n.t('Shardwise: {0}', (err as Error).message)));
     });
     view.onDidChangeVisibility(() => {
       if (view.visible) this.push();

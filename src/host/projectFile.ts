@@ -44,7 +44,7 @@ export async function applyProjectFile(out: HostSettings, uri: vscode.Uri): Prom
   try {
     project = await findProjectFile(uri);
   } catch (err) {
-    out.projectProblem = `The project file could not be used: ${(err as Error).message}`;
+    out.projectProblem = vscode.l10n.t('The project file could not be used: {0}', (err as Error).message);
     return;
   }
   if (!project) return;
@@ -54,7 +54,7 @@ export async function applyProjectFile(out: HostSettings, uri: vscode.Uri): Prom
   const held = vscode.workspace.isTrusted ? [] : HELD_UNTIL_TRUSTED.filter((k) => project!.values[k] !== undefined);
   if (held.length) {
     project = { ...project, values: Object.fromEntries(Object.entries(project.values).filter(([k]) => !held.includes(k))) };
-    out.trustNote = `This folder is not trusted: ${held.join(', ')} from ${project.path} wait until it is.`;
+    out.trustNote = vscode.l10n.t('This folder is not trusted: {0} from {1} wait until it is.', held.join(', '), project.path);
   }
   overlayValues(out.config, project.values);
   const tokenizer = project.values['tokens.tokenizer'];

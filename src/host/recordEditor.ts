@@ -156,7 +156,7 @@ export class RecordEditorProvider implements vscode.CustomReadonlyEditorProvider
           case 'filterLikeThis': {
             const value = column !== undefined ? scalarAt(e.value, column) : undefined;
             if (column === undefined || value === undefined) {
-              void vscode.window.showInformationMessage(`Shardwise: "${column ?? ''}" of this record is not a single value to filter by.`);
+              void vscode.window.showInformationMessage(vscode.l10n.t('Shardwise: "{0}" of this record is not a single value to filter by.', column ?? ''));
               return;
             }
             await runQuery({ ...(view?.query ?? {}), filter: { kind: 'column', column, value } });
@@ -210,7 +210,7 @@ export class RecordEditorProvider implements vscode.CustomReadonlyEditorProvider
       });
       lastLayout = '';
       sendLayout();
-      if (document.settings?.trustNote) post({ type: 'notice', message: document.settings.trustNote, action: { label: 'Manage Workspace Trust', id: 'manageTrust' } });
+      if (document.settings?.trustNote) post({ type: 'notice', message: document.settings.trustNote, action: { label: vscode.l10n.t('Manage Workspace Trust'), id: 'manageTrust' } });
       // A file that opens broken (no footer, cut short) says so at the top, not only in the panel.
       const broken = now.findings.filter((f) => f.severity === 'error');
       if (broken.length) {
@@ -302,12 +302,12 @@ export class RecordEditorProvider implements vscode.CustomReadonlyEditorProvider
           case 'pickRule': {
             const rules = [...document.tally.byRule.entries()].sort((a, b) => b[1] - a[1]);
             if (!rules.length) {
-              void vscode.window.showInformationMessage(`Shardwise: ${document.fileName} has no findings${document.phase === 'done' ? '' : ' so far'}.`);
+              void vscode.window.showInformationMessage(document.phase === 'done' ? vscode.l10n.t('Shardwise: {0} has no findings.', document.fileName) : vscode.l10n.t('Shardwise: {0} has no findings so far.', document.fileName));
               break;
             }
             const pick = await vscode.window.showQuickPick(
               rules.map(([rule, n]) => ({ label: rule, description: `${n.toLocaleString(vscode.env.language)} ${n === 1 ? 'finding' : 'findings'}` })),
-              { title: 'Show the records with findings of a rule', placeHolder: 'A rule of this shard' },
+              { title: vscode.l10n.t('Show the records with findings of a rule'), placeHolder: vscode.l10n.t('A rule of this shard') },
             );
             if (pick) await runQuery({ ...(view?.query ?? {}), filter: { kind: 'rule', rule: pick.label } });
             break;
@@ -364,7 +364,7 @@ export class RecordEditorProvider implements vscode.CustomReadonlyEditorProvider
       document.error = loadError;
       this.docsChanged.fire(document);
       if (ready) post({ type: 'error', message: loadError });
-      void vscode.window.showErrorMessage(`Shardwise: ${loadError}`);
+      void vscode.window.showErrorMessage(vscode.l10n.t('Shardwise: {0}', loadError));
     }
   }
 

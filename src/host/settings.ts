@@ -88,7 +88,7 @@ export async function settingsFor(uri: vscode.Uri): Promise<HostSettings> {
       const i = s.inspect(k);
       return i?.workspaceValue !== undefined || i?.workspaceFolderValue !== undefined;
     });
-    if (held.length) out.trustNote = `This folder is not trusted: its ${held.map((k) => `shardwise.${k}`).join(', ')} wait until it is; user settings apply meanwhile.`;
+    if (held.length) out.trustNote = vscode.l10n.t('This folder is not trusted: its {0} wait until it is; user settings apply meanwhile.', held.map((k) => `shardwise.${k}`).join(', '));
   }
   await applyProjectFile(out, uri);
   return out;
