@@ -8,6 +8,8 @@ export type { TokenSummary } from './engine/stats/tally.js';
 // The engine's types the webviews need, re-exported: the webviews import only from this file.
 export type { Severity } from './engine/findings.js';
 export type { ColumnInfo, FormatName, GroupInfo } from './engine/sources/source.js';
+export type { FormatTraits } from './engine/sources/traits.js';
+import type { FormatTraits } from './engine/sources/traits.js';
 export type { FilterSpec, SearchSpec, SortSpec, ViewQuery } from './engine/query.js';
 import type { ViewQuery } from './engine/query.js';
 import type { TokenSummary } from './engine/stats/tally.js';
@@ -190,6 +192,8 @@ export type HostToRecordView =
       facts?: Record<string, string>;
       entries: number;
       complete: boolean;
+      /** What the format is, so the view never compares format names. */
+      traits: FormatTraits;
     }
   | { type: 'entries'; entries: number; complete: boolean; progress: number }
   | { type: 'rows'; requestId: number; start: number; rows: RowView[] }

@@ -11,6 +11,7 @@ import { homedir } from 'node:os';
 import { allRules } from '../engine/rules.js';
 import { sniffFormat, supportedEndings } from '../engine/sources/index.js';
 import type { FormatName } from '../engine/sources/source.js';
+import { traitsOf } from '../engine/sources/traits.js';
 import { ShardProfile, type ProfileState } from '../engine/stats/profile.js';
 import { ShardTally } from '../engine/stats/tally.js';
 import { analyzeInThread } from '../node/inThread.js';
@@ -179,7 +180,6 @@ interface FileResult {
   failing: number;
 }
 
-const COLUMNAR: ReadonlySet<string> = new Set(['parquet', 'arrow-file', 'arrow-stream']);
 
 async function checkVerb(parsed: Parsed, out: NodeJS.WritableStream, err: NodeJS.WritableStream): Promise<number> {
   const stats = parsed.verb === 'stats';
@@ -325,7 +325,7 @@ async function checkOne(
     // A schema that does not compile or a file that vanished mid-run is a setup problem.
     throw new InputProblem(`${input.path}: ${(e as Error).message}`);
   }
-  const columnar = COLUMNAR.has(formatName);
+  const columnar = !traitsOf(formatName).textual;
   const findings: ReportFinding[] = tally.sortedFindings().map((f) => ({
     rule: f.rule,
     family: f.family,

@@ -2,6 +2,7 @@
 // a line of a JSON Lines file exactly as it is in the file, any other record as compact JSON.
 
 import { createSource } from '../engine/sources/index.js';
+import { traitsOf } from '../engine/sources/traits.js';
 import type { Entry } from '../engine/sources/source.js';
 import { hash64 } from '../engine/policy.js';
 import { InputProblem, UsageError, type Parsed } from './options.js';
@@ -51,7 +52,7 @@ export async function printRecords(parsed: Parsed, out: NodeJS.WritableStream): 
   }
   try {
     const info = await source.open();
-    const jsonLines = info.format === 'jsonl';
+    const jsonLines = traitsOf(info.format).oneLinePerEntry;
     const lines: string[] = [];
     const write = (s: string) => out.write(`${s}\n`);
     if (parsed.verb === 'sample') {

@@ -1,6 +1,7 @@
 // The read-only custom editor: one webview per open shard, paging records from the shard's worker.
 
 import { openChoice } from './openChoice.js';
+import { traitsOf } from '../engine/sources/traits.js';
 import { SECTION, clamp } from './settings.js';
 import { ViewOrder } from './viewOrder.js';
 import { scalarAt, type ViewQuery } from '../engine/query.js';
@@ -207,6 +208,7 @@ export class RecordEditorProvider implements vscode.CustomReadonlyEditorProvider
         facts: now.facts,
         entries: now.entries,
         complete: now.complete,
+        traits: traitsOf(now.format),
       });
       lastLayout = '';
       sendLayout();

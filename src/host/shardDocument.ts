@@ -14,11 +14,12 @@ import { analyzeFile, defaultWorkerCount } from '../node/pool.js';
 import { SourceSession } from '../node/session.js';
 import type { FindingView, ShardSummary } from '../protocol.js';
 import { settingsFor, type HostSettings } from './settings.js';
+import { traitsOf } from '../engine/sources/traits.js';
 import { ResultsStore } from './resultsStore.js';
 import { formatPlace, targetIndex, type PlaceTarget } from '../engine/places.js';
 import { initialProgress, nextProgress, panelText, windowText, type ProgressEvent, type ProgressState } from '../engine/progress.js';
 
-const TEXT_FORMATS: ReadonlySet<string> = new Set(['jsonl', 'json-array']);
+
 
 /** A finding's place as every presenter shows it (one formatter: engine/places.ts). */
 export function placeOf(f: { line: number | null; column: number | null; record: number | null; entry: number | null }): string {
@@ -320,7 +321,7 @@ export class ShardDocument implements vscode.CustomDocument {
       findingsByRule: Object.fromEntries(this.tally.byRule),
       phase: this.phase,
       progress: this.progress,
-      progressText: `${panelText(this.progressState, this.info && !TEXT_FORMATS.has(this.info.format) ? 'rows' : 'lines').text}${this.kept ? ' (kept from an earlier check)' : ''}`,
+      progressText: `${panelText(this.progressState, this.info ? traitsOf(this.info.format).entries : 'lines').text}${this.kept ? ' (kept from an earlier check)' : ''}`,
       indexed: this.progressState.indexComplete ? 1 : this.progressState.indexed,
       error: this.error,
     };

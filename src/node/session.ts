@@ -4,6 +4,7 @@
 
 import { Worker } from 'node:worker_threads';
 import type { CheckConfig } from '../engine/config.js';
+import { traitsOf } from '../engine/sources/traits.js';
 import type { ScanFacts, ScanNeeds } from '../engine/query.js';
 import type { OpenOptions } from '../engine/sources/index.js';
 import type { Entry, Progress, SourceInfo } from '../engine/sources/source.js';
@@ -235,7 +236,7 @@ export class SourceSession {
   private recycling = false;
   private async maybeRecycle(): Promise<void> {
     // Only sources without a text index are replaced: re-opening them costs a footer read.
-    if (this.recycling || this.disposed || !this.lastInfo || this.lastInfo.format === 'jsonl' || this.lastInfo.format === 'json-array') return;
+    if (this.recycling || this.disposed || !this.lastInfo || !traitsOf(this.lastInfo.format).wasmMemory) return;
     try {
       const ev = await this.request({ id: this.nextId++, op: 'memory' });
       // A decoder that panicked may hold broken state: replace its worker too.

@@ -44,7 +44,8 @@ const REQUEST_DELAY_MS = 40;
 /** Children of one JSON container rendered before a "show more" button. */
 const TREE_BATCH = 500;
 const TREE_MAX_DEPTH = 200;
-const COLUMNAR: ReadonlySet<FormatName> = new Set<FormatName>(['parquet', 'arrow-file', 'arrow-stream']);
+/** Whether the shard's entries are rows of a table (the host sends the format's traits). */
+const isTable = (): boolean => !!info && info.traits?.textual === false;
 
 type InitMessage = Extract<HostToRecordView, { type: 'init' }>;
 type Tab = 'conversation' | 'pair' | 'rendered' | 'json' | 'findings';
@@ -197,7 +198,7 @@ function renderHeader(): void {
   fileNameEl.title = str(info.fileName);
   formatEl.textContent = str(info.format);
   sizeEl.textContent = formatBytes(info.sizeBytes);
-  fileIcon.className = `codicon codicon-${COLUMNAR.has(info.format) ? 'table' : 'json'} sw-file-icon`;
+  fileIcon.className = `codicon codicon-${isTable() ? 'table' : 'json'} sw-file-icon`;
   document.title = str(info.fileName);
 
   factsEl.replaceChildren();
@@ -235,7 +236,7 @@ function fitNumberColumns(): void {
 
 function renderEntriesCount(): void {
   fitNumberColumns();
-  const unit = info && COLUMNAR.has(info.format) ? 'rows' : 'lines';
+  const unit = info?.traits?.entries ?? 'lines';
   entriesEl.textContent = viewOn ? `${formatCount(entries)} of ${formatCount(viewTotal)} ${unit}` : `${formatCount(entries)} ${unit}`;
   indexingEl.hidden = complete;
   const pct = Math.round(Math.max(0, Math.min(1, progress)) * 100);
@@ -249,8 +250,8 @@ function renderEntriesCount(): void {
 function renderStructure(): void {
   structureEl.replaceChildren();
   const groups: GroupInfo[] = info?.groups ?? [];
-  const columnar = info ? COLUMNAR.has(info.format) : false;
-  const groupWord = info?.format === 'parquet' ? 'row groups' : 'batches';
+  const columnar = isTable();
+  const groupWord = info?.traits?.group?.many ?? 'groups';
   const summary = h('summary', 'sw-structure-summary');
   summary.append(icon('symbol-structure'), h('span', '', 'Structure'));
   const parts = [`${formatCount(columns.length)} ${columns.length === 1 ? 'column' : 'columns'}`];
@@ -305,7 +306,7 @@ function renderHeadRow(): void {
   headRow.replaceChildren();
   const fixed: [string, string, string][] = [
     ['record', '#', 'Record number'],
-    info && COLUMNAR.has(info.format) ? ['place', 'Row', 'Row in the file'] : ['place', 'Line', 'Line in the file'],
+    isTable() ? ['place', 'Row', 'Row in the file'] : ['place', 'Line', 'Line in the file'],
     ['tokens', 'Tokens', 'Tokens in the record'],
     ['marker', '', 'Findings'],
   ];
@@ -914,7 +915,7 @@ function showDetailLoading(entry: number): void {
 
 function placeTitle(record: number | null | undefined, place: string): string {
   const rec = record === null || record === undefined ? 'No record' : `Record #${formatCount(record + 1)}`;
-  const columnar = info ? COLUMNAR.has(info.format) : false;
+  const columnar = isTable();
   return place ? `${rec} · ${columnar || /^row\b/i.test(place) ? place : `line ${place}`}` : rec;
 }
 
@@ -933,7 +934,7 @@ function onDetail(d: DetailView): void {
   detailLayout.textContent = typeof d.layout === 'string' ? d.layout : '';
   detailLayout.title = 'The layout this record was read with';
   detailLayout.hidden = typeof d.layout !== 'string' || d.layout === '';
-  openLineButton.hidden = info ? COLUMNAR.has(info.format) : false;
+  openLineButton.hidden = isTable();
 
   const tabs: [Tab, string, string, number | null][] = [];
   const turns = Array.isArray(d.turns) ? d.turns : null;

@@ -14,16 +14,27 @@ export const COLUMNS = [
   { name: 'source', type: 'string' },
 ];
 
+/** The format traits the host sends (src/engine/sources/traits.ts), by format. */
+const TRAITS = {
+  jsonl: { textual: true, oneLinePerEntry: true, entries: 'lines', group: null, wasmMemory: false },
+  'json-array': { textual: true, oneLinePerEntry: false, entries: 'lines', group: null, wasmMemory: false },
+  parquet: { textual: false, oneLinePerEntry: false, entries: 'rows', group: { one: 'row group', many: 'row groups' }, wasmMemory: true },
+  'arrow-file': { textual: false, oneLinePerEntry: false, entries: 'rows', group: { one: 'batch', many: 'batches' }, wasmMemory: false },
+  'arrow-stream': { textual: false, oneLinePerEntry: false, entries: 'rows', group: { one: 'batch', many: 'batches' }, wasmMemory: false },
+};
+
 export function initMessage(entries, overrides = {}) {
+  const format = overrides.format ?? 'jsonl';
   return {
     type: 'init',
     fileName: 'workshop-chats.jsonl',
-    format: 'jsonl',
+    format,
     sizeBytes: entries * 612,
     columns: COLUMNS,
     facts: { compression: 'none', encoding: 'cl100k_base' },
     entries,
     complete: true,
+    traits: TRAITS[format],
     ...overrides,
   };
 }

@@ -1,0 +1,23 @@
+// Every format the sources read has its traits, and the webview fixtures send the same traits.
+import { readFileSync } from 'node:fs';
+import { join } from 'node:path';
+import { expect, it } from 'vitest';
+import { FORMATS } from '../../../../src/engine/sources/index';
+import { KNOWN_FORMATS, traitsOf } from '../../../../src/engine/sources/traits';
+import { projectRoot } from '../../helpers/build';
+
+it('every format of the sources table has traits, and no other', () => {
+  expect([...new Set(FORMATS.map((f) => f.format))].sort()).toEqual([...KNOWN_FORMATS].sort());
+  for (const f of KNOWN_FORMATS) {
+    const t = traitsOf(f);
+    expect(t.entries).toBe(t.textual ? 'lines' : 'rows');
+    if (t.oneLinePerEntry) expect(t.textual).toBe(true);
+  }
+});
+
+it('the webview fixtures send the traits the host sends', async () => {
+  const text = readFileSync(join(projectRoot, 'test/webview/fixtures.mjs'), 'utf8');
+  const block = /const TRAITS = (\{[\s\S]*?\n\});/.exec(text)![1];
+  const fixture = Function(`return (${block});`)() as Record<string, unknown>;
+  for (const f of KNOWN_FORMATS) expect(fixture[f], f).toEqual(traitsOf(f));
+});
