@@ -5,7 +5,7 @@ import { RecordBatchReader, Table, tableToIPC } from 'apache-arrow';
 import type { ByteReader } from './source.js';
 import { readFinding } from './columnarRules.js';
 import { ArrowSourceBase, headerBlock, ipcFinding, type ArrowSourceOptions, type Layout } from './columnar/arrowBase.js';
-import { FILE_MAGIC, MESSAGE_RECORD_BATCH, MESSAGE_SCHEMA, NEWEST_METADATA_VERSION, readFooter, readMessageAt, walkMessages, IpcFormatError, validateSchemaTable } from './columnar/ipc.js';
+import { FILE_MAGIC, MESSAGE_DICTIONARY, MESSAGE_RECORD_BATCH, MESSAGE_SCHEMA, NEWEST_METADATA_VERSION, readFooter, readMessageAt, walkMessages, IpcFormatError, validateSchemaTable } from './columnar/ipc.js';
 import { FbTable } from './columnar/flatbuf.js';
 
 /** The stream inside an Arrow file starts after the 6-byte magic and 2 bytes of padding. */
@@ -78,7 +78,17 @@ export class ArrowFileSource extends ArrowSourceBase {
       layout.refused = 'big-endian';
       return layout;
     }
-    layout.dictionaries = footer.dictionaries;
+    // Each dictionary message is checked as a batch is, before the library reads it.
+    for (let k = 0; k < footer.dictionaries.length; k++) {
+      const block = footer.dictionaries[k];
+      try {
+        const { header } = await readMessageAt(reader, block.offset);
+        if (!header || header.type !== MESSAGE_DICTIONARY) throw new IpcFormatError(`footer dictionary block ${k} does not point at a dictionary batch`, 'corrupt');
+        layout.dictionaries.push({ ...block, bodyLength: header.bodyLength });
+      } catch (e) {
+        layout.findings.push(ipcFinding(e, `dictionary ${k}`));
+      }
+    }
     for (let k = 0; k < footer.batches.length; k++) {
       signal?.throwIfAborted();
       const block = footer.batches[k];

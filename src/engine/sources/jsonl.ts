@@ -358,10 +358,14 @@ export class JsonlSource implements RecordSource {
       let done = 0;
       try {
         for await (const chunk of fileChunks(this.handle!, 0, this.sizeBytes, this.path)) {
-          check();
-          splitter.push(chunk);
-          done += chunk.length;
-          progress(done);
+          // In slices, each reporting progress: a chunk of tiny lines is millions of lines.
+          for (let o = 0; o < chunk.length; o += SCAN_SLICE_BYTES) {
+            check();
+            const slice = chunk.subarray(o, Math.min(chunk.length, o + SCAN_SLICE_BYTES));
+            splitter.push(slice);
+            done += slice.length;
+            progress(done);
+          }
         }
       } catch (e) {
         if (!(e instanceof FileShrankError)) throw e;

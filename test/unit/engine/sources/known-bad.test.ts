@@ -14,7 +14,8 @@ import { requireTestdata } from './testdata';
 /** Files of the folders below that decode cleanly here, each with the reason it is not a failure. */
 const READS_CLEANLY: Record<string, string> = {
   // bad_data/README.md: "dictionary index page uses rle encoding but 0 as rle bit-width"; a bit
-  // width of 0 is legal for a one-entry dictionary (every index is 0), and parquet-wasm reads it.
+  // width of 0 is legal for a one-entry dictionary (every index is 0; from memory of the RLE/bit-packing
+  // hybrid encoding), and parquet-wasm reads it.
   'ARROW-GH-43605.parquet': 'bit width 0 is legal',
   // Decodes to 200 rows of nested lists with apache-arrow; the crash it reproduces is in Arrow
   // C++'s own validation, which this data passes here. Kept visible rather than forced to fail.
