@@ -12,7 +12,23 @@ import { openFileReader, type ReaderFactory } from './columnar/byteReader.js';
 import { EMPTY_FILE_MESSAGE, FileShrankError, compressionOf, decompressedChunks, type Compression } from './jsonl.js';
 import { DecompressError } from './decompress.js';
 import { DiskSpaceError, MIN_FREE_BYTES, freeBytes, makeTempDir } from './tempFiles.js';
-import { MAX_DEPTH, depthBeyond } from '../json/scan.js';
+import { MAX_DEPTH, depthBeyond, parseLine, type ScanNote } from '../json/scan.js';
+
+const NOTE_RULE: Record<ScanNote['kind'], string> = {
+  'duplicate-key': 'key-duplicate',
+  'unsafe-number': 'number-unsafe',
+  'lone-surrogate': 'surrogate-unpaired',
+};
+
+/** The line and column of a 1-based offset into an element's text that starts at `at`. */
+function placeIn<T extends { line: number; column: number }>(text: string, offset: number, at: T): T {
+  const before = text.slice(0, Math.max(0, offset - 1));
+  const nl = before.lastIndexOf('\n');
+  if (nl === -1) return { ...at, column: at.column + offset - 1 };
+  let lines = 0;
+  for (let i = before.indexOf('\n'); i !== -1; i = before.indexOf('\n', i + 1)) lines++;
+  return { ...at, line: at.line + lines, column: offset - 1 - nl };
+}
 
 export interface JsonArraySourceOptions {
   openReader?: ReaderFactory;
@@ -344,11 +360,17 @@ export class JsonArraySource implements RecordSource {
       entry.record = null;
       return entry;
     }
-    try {
-      entry.value = JSON.parse(text);
-    } catch (e) {
-      findings.push(readFinding('array-element-syntax', `the element is not valid JSON: ${(e as Error).message}`, place));
+    // The strict scanner, as for a JSON Lines line: duplicate names and lone surrogates are
+    // findings here too (unsafe integers were already found while the array was indexed).
+    const parsed = parseLine(text);
+    if ('value' in parsed) entry.value = parsed.value;
+    else {
+      findings.push(readFinding('array-element-syntax', `the element is not valid JSON: ${parsed.error.message}`, placeIn(text, parsed.error.column, place)));
       entry.record = null;
+    }
+    for (const note of parsed.notes) {
+      if (note.kind === 'unsafe-number') continue;
+      findings.push(readFinding(NOTE_RULE[note.kind], note.detail, { ...placeIn(text, note.column, place), pointer: note.pointer }));
     }
     return entry;
   }
