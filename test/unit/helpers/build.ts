@@ -1,6 +1,6 @@
 // Builds the bundles once per test file into a temporary folder (never racing on dist/).
 import { execFileSync } from 'node:child_process';
-import { mkdtempSync } from 'node:fs';
+import { mkdtempSync, rmSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join, resolve } from 'node:path';
 
@@ -13,5 +13,7 @@ export function buildBundles(): string {
   const dir = mkdtempSync(join(tmpdir(), 'shardwise-build-'));
   execFileSync(process.execPath, [join(projectRoot, 'scripts/build.mjs'), '--outdir', dir], { cwd: projectRoot, stdio: 'pipe' });
   built = dir;
+  // The bundles go with the test process that built them.
+  process.once('exit', () => rmSync(dir, { recursive: true, force: true }));
   return dir;
 }

@@ -1,11 +1,11 @@
 // Arrow IPC files as apache-arrow itself writes them (the reference implementation, used as an
 // independent writer): its file writer keeps the schema in the footer only, with no schema message
 // after the magic. Our reader must read them the same as the library does.
-import { mkdtempSync, writeFileSync } from 'node:fs';
+import { mkdtempSync, rmSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { Field, Int32, List, Struct, Table, Utf8, tableToIPC, vectorFromArray, makeTable, tableFromIPC } from 'apache-arrow';
-import { describe, expect, it } from 'vitest';
+import { afterAll, describe, expect, it } from 'vitest';
 import { ArrowFileSource } from '../../../../src/engine/sources/arrowFile';
 import { ArrowStreamSource } from '../../../../src/engine/sources/arrowStream';
 
@@ -29,6 +29,7 @@ function sampleTable(): Table {
 
 describe('files written by apache-arrow', () => {
   const dir = mkdtempSync(join(tmpdir(), 'shardwise-arrow-writer-'));
+  afterAll(() => rmSync(dir, { recursive: true, force: true }));
   const table = sampleTable();
   const expected = table.toArray().map((r) => JSON.parse(JSON.stringify(r.toJSON())));
 
