@@ -130,3 +130,28 @@ export class Lru<K, V> {
     return this.map.size;
   }
 }
+
+/**
+ * Characters that would hide or reorder what a record holds — bidirectional controls (the
+ * "Trojan Source" class, Unicode TR #9) and C0/C1 control characters other than line breaks and
+ * tabs — shown as visible marks (⟨U+202E⟩) instead of acting on the text around them.
+ */
+const INVISIBLE = /[\u0000-\u0008\u000B\u000C\u000E-\u001F\u007F-\u009F\u061C\u200E\u200F\u202A-\u202E\u2066-\u2069]/g;
+
+export function visibleText(text: string): Node[] {
+  INVISIBLE.lastIndex = 0;
+  if (!INVISIBLE.test(text)) return [document.createTextNode(text)];
+  INVISIBLE.lastIndex = 0;
+  const out: Node[] = [];
+  let at = 0;
+  for (const m of text.matchAll(INVISIBLE)) {
+    if (m.index! > at) out.push(document.createTextNode(text.slice(at, m.index)));
+    const code = `U+${m[0].charCodeAt(0).toString(16).toUpperCase().padStart(4, '0')}`;
+    const mark = h('span', 'sw-ctl', `⟨${code}⟩`);
+    mark.title = `${code}: a control character, shown instead of applied`;
+    out.push(mark);
+    at = m.index! + 1;
+  }
+  if (at < text.length) out.push(document.createTextNode(text.slice(at)));
+  return out;
+}

@@ -25,6 +25,7 @@ import {
   iconButton,
   isSeverity,
   Lru,
+  visibleText,
   severityIcon,
   str,
 } from './common.js';
@@ -426,23 +427,25 @@ function renderRows(): void {
 /** Text with the search's matches marked (as text nodes and <mark> elements: nothing is parsed). */
 function marked(text: string): Node[] {
   const s = query?.search;
-  if (!s || !s.text || !text) return [document.createTextNode(text)];
+  if (!s || !s.text || !text) return visibleText(text);
   let re: RegExp;
   try {
     re = s.regex ? new RegExp(s.text, s.caseSensitive ? 'gu' : 'giu') : new RegExp(s.text.replace(/[.*+?^${}()|[\]\\]/g, '\\$&'), s.caseSensitive ? 'g' : 'gi');
   } catch {
-    return [document.createTextNode(text)];
+    return visibleText(text);
   }
   const out: Node[] = [];
   let at = 0;
   for (const m of text.matchAll(re)) {
     if (m[0] === '') break;
-    if (m.index! > at) out.push(document.createTextNode(text.slice(at, m.index)));
-    out.push(h('mark', 'sw-match', m[0]));
+    if (m.index! > at) out.push(...visibleText(text.slice(at, m.index)));
+    const mk = h('mark', 'sw-match');
+    mk.append(...visibleText(m[0]));
+    out.push(mk);
     at = m.index! + m[0].length;
     if (out.length > 200) break;
   }
-  if (at < text.length) out.push(document.createTextNode(text.slice(at)));
+  if (at < text.length) out.push(...visibleText(text.slice(at)));
   return out;
 }
 
@@ -1094,7 +1097,7 @@ function renderTurn(t: TurnView, scope: HTMLElement, opts: TurnOptions): HTMLEle
   const body = h('div', 'sw-turn-content');
   if (Array.isArray(t.parts)) {
     for (const p of t.parts) if (p && typeof p === 'object') body.append(renderPart(p));
-  } else body.textContent = str(t.content);
+  } else body.append(...visibleText(str(t.content)));
   turn.append(head, body);
   return turn;
 }
@@ -1128,7 +1131,11 @@ function renderPart(p: PartView): HTMLElement {
 function renderPartBody(p: PartView): HTMLElement {
   switch (p.kind) {
     case 'text':
-      return h('div', 'sw-part sw-part-text', str(p.text));
+    {
+      const d = h('div', 'sw-part sw-part-text');
+      d.append(...visibleText(str(p.text)));
+      return d;
+    }
     case 'reasoning': {
       const box = h('details', 'sw-part sw-part-reasoning');
       const summary = h('summary', 'sw-part-reasoning-head');
@@ -1353,7 +1360,7 @@ function treeNode(key: string | null, value: unknown, pointer: string, depth: nu
     return node;
   }
   const v = h('span', `sw-value sw-t-${value === null ? 'null' : typeof value}`);
-  v.textContent = typeof value === 'string' ? JSON.stringify(value) : value === null ? 'null' : str(value);
+  v.append(...visibleText(typeof value === 'string' ? JSON.stringify(value) : value === null ? 'null' : str(value)));
   line.append(v);
   return node;
 }

@@ -761,6 +761,66 @@ describe('record view', () => {
     }
   });
 
+  test('records that try to run, restyle or reorder: nothing runs, nothing is restyled, every character shows', async () => {
+    const payloads = {
+      script: '<script>window.__pwned = 1</script>',
+      handler: '<b onmouseover="window.__pwned = 2">hover</b>',
+      link: '<a href="javascript:window.__pwned=3">click</a>',
+      css: '</style><style>body { display: none !important }</style><div style="position:fixed;inset:0;background:red">',
+      bidi: 'admin\u202E\u2066 // check later \u2069\u2066',
+      control: 'bell\u0007 null\u0000 escape\u001b[31m end',
+    };
+    const value = { id: 'hostile', ...payloads, messages: [{ role: 'user', content: payloads.bidi }, { role: 'assistant', content: payloads.control }] };
+    const host = scriptedHost({
+      detailFor: (entry) =>
+        chatDetail(entry, {
+          value,
+          turns: [
+            { index: 0, role: 'user', content: payloads.bidi, tokens: 9, pointer: '/messages/0' },
+            { index: 1, role: 'assistant', content: payloads.control, tokens: 9, pointer: '/messages/1' },
+          ],
+        }),
+    });
+    const view = await openView(env.browser, env.server, {
+      kind: 'recordView',
+      onMessage: async (m, v) => {
+        if (m.type === 'requestRows') {
+          const rows = [];
+          for (let e = m.start; e < m.start + m.count; e++) rows.push({ ...rowFor(e), cells: { id: payloads.bidi, messages: payloads.css, source: payloads.control } });
+          await v.send({ type: 'rows', requestId: m.requestId, start: m.start, rows });
+        } else await host(m, v);
+      },
+    });
+    try {
+      await view.send(initMessage(20));
+      await waitLoaded(view.page);
+      await view.page.hover('.sw-rows .sw-row[data-entry="0"]');
+      await view.page.click('.sw-rows .sw-row[data-entry="0"]');
+      await view.page.waitForSelector('.sw-turn');
+      const turns = await view.page.$$eval('.sw-turn-content', (ts) => ts.map((t) => t.textContent));
+      await view.page.click('.sw-tab[data-tab="json"]');
+      await view.page.waitForSelector('.sw-tree');
+      for (const el of await view.page.$$('.sw-tree .sw-value')) await el.hover().catch(() => undefined);
+      await view.page.evaluate(() => new Promise((r) => requestAnimationFrame(() => requestAnimationFrame(r))));
+      // Nothing ran, nothing was blocked because it tried (no element was made to try), nothing restyled the page.
+      assert.equal(await view.page.evaluate(() => window.__pwned), undefined);
+      assert.deepEqual(await view.cspViolations(), []);
+      assert.equal(await view.page.$$eval('script:not([nonce]), style:not([nonce]), a[href^="javascript"], b[onmouseover], [style*="position:fixed"]', (x) => x.length), 0);
+      assert.notEqual(await view.page.evaluate(() => getComputedStyle(document.body).display), 'none');
+      // The text shows as written, the markup as characters; bidi and control characters as visible marks.
+      const tree = await view.page.textContent('.sw-tree');
+      for (const k of ['script', 'handler', 'link', 'css']) assert.ok(tree.includes(JSON.stringify(payloads[k])), k);
+      assert.match(tree, /⟨U\+202E⟩⟨U\+2066⟩ \/\/ check later ⟨U\+2069⟩⟨U\+2066⟩/);
+      assert.equal(turns[0], 'admin⟨U+202E⟩⟨U+2066⟩ // check later ⟨U+2069⟩⟨U+2066⟩');
+      assert.equal(turns[1], 'bell⟨U+0007⟩ null⟨U+0000⟩ escape⟨U+001B⟩[31m end');
+      const cell = await view.page.textContent('.sw-rows .sw-row[data-entry="0"] [data-field="id"]');
+      assert.equal(cell, 'admin⟨U+202E⟩⟨U+2066⟩ // check later ⟨U+2069⟩⟨U+2066⟩');
+      await screenshot(view.page, 'record-view-hostile-characters');
+    } finally {
+      await view.close();
+    }
+  });
+
   test('indexing progress shows while the entry count grows, and new rows become reachable', async () => {
     const view = await openView(env.browser, env.server, { kind: 'recordView', onMessage: scriptedHost() });
     try {
