@@ -1,6 +1,7 @@
 // Workbench tests: the packaged extension in the real VS Code workbench (code-server), driven by
 // Chromium. Each step takes a screenshot into test-output/workbench/. Last line: "N passed, M failed".
-import { cpSync, existsSync, mkdirSync, readdirSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
+import { createHash } from 'node:crypto';
+import { cpSync, existsSync, mkdirSync, readdirSync, readFileSync, rmSync, statSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { basename, join } from 'node:path';
 import { vsixForRun } from '../../scripts/package.mjs';
@@ -220,6 +221,9 @@ async function main() {
 
   const facts = new Map();
   for (const s of shards) facts.set(s, await expectedFacts(join(work, s)));
+  // Every data file's bytes and modification time before any view or command touches them.
+  const fingerprint = (f) => `${createHash('sha256').update(readFileSync(join(work, f))).digest('hex')} ${statSync(join(work, f)).mtimeMs}`;
+  const before = new Map(readdirSync(work).filter((f) => statSync(join(work, f)).isFile()).map((f) => [f, fingerprint(f)]));
   const containerTitle = manifest.contributes?.viewsContainers?.activitybar?.[0]?.title ?? 'Shardwise';
 
   await step('workbench loads with the Shardwise activity bar entry', async () => {
@@ -532,6 +536,13 @@ async function main() {
   await step(`token counts of ${textShard} rows match the ${otherEncoding} reference after the change`, async () => {
     assert(textShard, 'no JSONL demo shard keeps its text in a "text" field');
     await expectRowTokens(textShard, facts.get(textShard), otherEncoding);
+  });
+
+  await step('nothing written: every data file has the bytes and modification time it had before the run', async () => {
+    await wb.runCommand('View: Close All Editors');
+    const changed = [...before].filter(([f, fp]) => !existsSync(join(work, f)) || fingerprint(f) !== fp).map(([f]) => f);
+    assert(changed.length === 0, `changed by the views and commands: ${changed.join(', ')}`);
+    assert(before.size >= shards.length, `only ${before.size} files were fingerprinted`);
   });
 
   const tEnd = Date.now();
