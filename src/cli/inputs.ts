@@ -20,8 +20,6 @@ export interface InputFile {
   path: string;
   /** The split of a saved data set, where the file belongs to one. */
   split?: string;
-  /** The folder of the saved data set holding it. */
-  dataset?: string;
 }
 
 /** Folders never walked into: version control, tool caches, installed packages. */
@@ -161,26 +159,26 @@ export function savedDataset(dir: string): InputFile[] | null {
     const splits = Array.isArray(doc?.splits) ? (doc.splits as unknown[]).filter((s): s is string => typeof s === 'string') : null;
     if (!splits) throw new InputError(`${dict}: a saved data set's split list must name its splits ("splits": [...])`);
     return splits.flatMap((s) => {
-      const files = savedSplit(join(dir, s), s, dir);
+      const files = savedSplit(join(dir, s), s);
       if (!files) throw new InputError(`${join(dir, s)}: split "${s}" named in dataset_dict.json has no state.json`);
       return files;
     });
   }
-  return savedSplit(dir, null, dir);
+  return savedSplit(dir, null);
 }
 
-function savedSplit(dir: string, name: string | null, dataset: string): InputFile[] | null {
+function savedSplit(dir: string, name: string | null): InputFile[] | null {
   const statePath = join(dir, 'state.json');
   if (!existsSync(statePath)) return null;
   const state = readJson(statePath);
   const files = Array.isArray(state?._data_files) ? (state._data_files as { filename?: unknown }[]) : null;
   if (!files) throw new InputError(`${statePath}: a saved data set's state must list its "_data_files"`);
-  const split = name ?? (typeof state?._split === "string" && state._split ? state._split : basename(resolve(dir)));
+  const split = name ?? (typeof state?._split === 'string' && state._split ? state._split : basename(resolve(dir)));
   return files.map((f) => {
     if (typeof f?.filename !== 'string' || f.filename.includes('..')) throw new InputError(`${statePath}: a data file entry has no usable "filename"`);
     const p = join(dir, f.filename);
     if (!existsSync(p)) throw new InputError(`${p}: listed in ${statePath} but missing`);
-    return { path: p, split, dataset };
+    return { path: p, split };
   });
 }
 

@@ -145,7 +145,7 @@ export function parseCommandLine(argv: readonly string[]): Parsed | 'help' | { h
       let v: unknown = def.convert ? def.convert(value as string, prev) : value;
       const spec = settingSpec(def.setting);
       if (spec && !def.convert && (spec.type === 'integer')) v = Number(value);
-      if (spec) v = checkValue(spec, v, (m) => new UsageError(`${def.flag} ${m.replace(/^must/, 'must')}`));
+      if (spec) v = checkValue(spec, v, (m) => new UsageError(`${def.flag} ${m}`));
       parsed.settings[def.setting] = v;
     } else {
       const key = def.flag.replace(/^--/, '');

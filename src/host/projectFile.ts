@@ -18,14 +18,14 @@ async function exists(uri: vscode.Uri): Promise<boolean> {
 }
 
 /** The project file that governs a data file, or null; throws a clear Error for a broken one. */
-export async function findProjectFile(uri: vscode.Uri): Promise<ProjectFile | null> {
+export async function findProjectFile(uri: vscode.Uri): Promise<(ProjectFile & { dirUri: vscode.Uri }) | null> {
   const root = vscode.workspace.getWorkspaceFolder(uri)?.uri;
   let dir = vscode.Uri.joinPath(uri, '..');
   for (let depth = 0; depth < 64; depth++) {
     const candidate = vscode.Uri.joinPath(dir, PROJECT_FILE);
     if (await exists(candidate)) {
       const text = new TextDecoder().decode(await vscode.workspace.fs.readFile(candidate));
-      return parseProjectFile(candidate.fsPath || candidate.toString(), dir.fsPath || dir.path, text);
+      return { ...parseProjectFile(candidate.fsPath || candidate.toString(), dir.fsPath || dir.path, text), dirUri: dir };
     }
     if ((root && dir.toString() === root.toString()) || (await exists(vscode.Uri.joinPath(dir, '.git')))) return null;
     const up = vscode.Uri.joinPath(dir, '..');
@@ -40,7 +40,7 @@ export const HELD_UNTIL_TRUSTED = ['schemas', 'tokens.tokenizer', 'lines.maxMiB'
 
 /** Lays the project file's settings over the VS Code settings of one shard. */
 export async function applyProjectFile(out: HostSettings, uri: vscode.Uri): Promise<void> {
-  let project: ProjectFile | null;
+  let project: (ProjectFile & { dirUri: vscode.Uri }) | null;
   try {
     project = await findProjectFile(uri);
   } catch (err) {
@@ -66,15 +66,14 @@ export async function applyProjectFile(out: HostSettings, uri: vscode.Uri): Prom
       out.tokenizerProblem = `${project.path}: ${(err as Error).message}`;
     }
   }
-  const dirUri = vscode.Uri.joinPath(uri, '..');
   const base = uri.path.split('/').pop() ?? '';
   const rel = relativeTo(project.dir, uri.fsPath || uri.path);
   const layout = matchGlobMap(project.values['layout.byGlob'] as Record<string, string> | undefined, rel, base);
   if (layout) out.config.layout = { ...out.config.layout, id: layout[1] };
   const schema = matchGlobMap(project.values.schemas as Record<string, string> | undefined, rel, base);
   if (schema) {
-    const projectDir = vscode.Uri.file(project.dir);
-    const schemaUri = schema[1].startsWith('/') ? vscode.Uri.file(schema[1]) : vscode.Uri.joinPath(dirUri.scheme === 'file' ? projectDir : dirUri, schema[1].replace(/^\.\//, ''));
+    // Relative to the project file's own folder, on whatever file system it is.
+    const schemaUri = schema[1].startsWith('/') ? vscode.Uri.file(schema[1]) : vscode.Uri.joinPath(project.dirUri, schema[1].replace(/^\.\//, ''));
     try {
       const bytes = await vscode.workspace.fs.readFile(schemaUri);
       out.config.schema = { source: schemaUri.fsPath || schemaUri.toString(), schema: JSON.parse(new TextDecoder().decode(bytes)) };

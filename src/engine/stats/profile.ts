@@ -181,8 +181,6 @@ export class ShardProfile {
         p50: this.sketch.quantile(0.5),
         p90: this.sketch.quantile(0.9),
         p99: this.sketch.quantile(0.99),
-        contextLength: this.contextLength,
-        overContext: this.overContext,
       },
       findings: { total: this.bySeverity.error + this.bySeverity.warning + this.bySeverity.info, bySeverity: { ...this.bySeverity }, byRule },
       fields,
