@@ -1,11 +1,16 @@
-// Parquet shards through parquet-wasm: `open` reads the footer only; a page decodes only the row
-// groups (and columns) it shows; decoded row groups are cached within a byte budget.
+// Parquet shards through parquet-wasm: `open` reads the footer only (once: our own Thrift reader
+// places the column chunks from the same bytes); a page decodes only the rows and the columns it
+// shows (`read({rowGroups, offset, limit, columns})`, which reads only those rows' pages when the
+// writer wrote a page index); a whole-file scan decodes by row group. Before the decoder sees a
+// column chunk, the headers of the pages it will decode are read and their declared sizes compared
+// with the memory cap. Decoded rows are cached within a byte budget.
 
 import { tableFromIPC, type RecordBatch, type Schema } from 'apache-arrow';
 import type { Finding } from '../findings.js';
 import type { ByteReader, Entry, GroupInfo, RecordSource, ScanOptions, SourceInfo } from './source.js';
 import { errorText, readFinding } from './columnarRules.js';
-import { blobOf, openFileReader, type ReaderFactory } from './columnar/byteReader.js';
+import { blobOf, keepRange, openFileReader, type ReaderFactory } from './columnar/byteReader.js';
+import { chunkPlaces, pageLocations, readPageHeader, PAGE_TYPE_NAMES, type ChunkPlace, type PageHeaderFacts, type PageLocation } from './columnar/parquetPages.js';
 import { ByteBudgetCache, batchEntries, groupOf, lostEntries } from './columnar/rows.js';
 import { schemaColumns } from './columnar/toJson.js';
 import { guardWasm } from './columnar/wasmGuard.js';
@@ -36,8 +41,8 @@ export interface ParquetSourceOptions {
   /** Bytes of decoded row groups kept for paging back and forth. */
   cacheBytes?: number;
   /**
-   * A row group whose requested columns decode to more than this is refused, not decoded: wasm
-   * memory is capped at 4 GiB and never shrinks.
+   * The memory cap: a row group whose requested columns decode to more than this, or a page whose
+   * header declares more, is refused, not decoded: wasm memory is capped at 4 GiB and never shrinks.
    */
   maxDecodedBytes?: number;
 }
@@ -72,6 +77,9 @@ interface Decoded {
   starts: number[];
 }
 
+/** A page whose header declares more than the memory cap; its rows are refused, not decoded. */
+class PageLimitError extends Error {}
+
 export class ParquetSource implements RecordSource {
   readonly format = 'parquet' as const;
   private reader: ByteReader | null = null;
@@ -85,6 +93,12 @@ export class ParquetSource implements RecordSource {
   private groupColumnBytes: Map<string, number>[] = [];
   /** Row groups refused at open (their footer-declared size is over the limit): their rows stay empty. */
   private refusedGroups = new Set<number>();
+  /** Column chunk places per row group from our own reading of the footer; null when it does not decode. */
+  private places: ChunkPlace[][] | null = null;
+  /** Offset indexes (page locations) read so far, by the index's byte offset. */
+  private offsetIndexes = new Map<number, PageLocation[] | null>();
+  /** Page headers read so far, by their byte offset. */
+  private headers = new Map<number, PageHeaderFacts | null>();
 
   constructor(
     readonly path: string,
@@ -106,6 +120,7 @@ export class ParquetSource implements RecordSource {
       findings.push(problem);
       return this.info();
     }
+    await this.readFooter(size);
     let pw: ParquetWasm;
     try {
       pw = await loadWasm();
@@ -163,6 +178,26 @@ export class ParquetSource implements RecordSource {
       return structFieldIds(await this.reader!.read(size - 8 - len, len)).includes(8);
     } catch {
       return false;
+    }
+  }
+
+  /**
+   * Reads the footer once: our Thrift reader places the column chunks from it, and the decoder's
+   * own read of the same range is answered from these bytes.
+   */
+  private async readFooter(size: number): Promise<void> {
+    const tail = await this.reader!.read(size - 8, 8);
+    const len = new DataView(tail.buffer, tail.byteOffset, 4).getUint32(0, true);
+    const footer = await this.reader!.read(size - 8 - len, len);
+    const kept = new Uint8Array(len + 8);
+    kept.set(footer, 0);
+    kept.set(tail, len);
+    this.reader = keepRange(this.reader!, size - 8 - len, kept);
+    try {
+      this.places = chunkPlaces(footer);
+    } catch {
+      // The decoder reads the footer too and names what is wrong with it.
+      this.places = null;
     }
   }
 
@@ -257,6 +292,11 @@ export class ParquetSource implements RecordSource {
   }
 
   async read(start: number, end: number, opts: { columns?: string[]; signal?: AbortSignal } = {}): Promise<Entry[]> {
+    return this.readRows(start, end, opts, false);
+  }
+
+  /** Rows [start, end); `whole` decodes each row group at once (the scan), else only the rows asked for. */
+  private async readRows(start: number, end: number, opts: { columns?: string[]; signal?: AbortSignal }, whole: boolean): Promise<Entry[]> {
     if (!this.reader) await this.open(opts.signal);
     const s = Math.max(0, start);
     const e = Math.min(end, this.current.entries);
@@ -269,10 +309,14 @@ export class ParquetSource implements RecordSource {
       const from = Math.max(0, s - g.firstRow);
       const to = Math.min(g.rows, e - g.firstRow);
       if (to <= from) continue;
-      const decoded = await this.decodeGroup(k, columns);
+      const decoded = whole ? await this.decodeRows(k, 0, g.rows, columns) : ((await this.cachedWhole(k, columns)) ?? (await this.decodeRows(k, from, to, columns)));
       if (decoded instanceof RefusedGroupError) {
         // Reported once at open; the rows are still places, without values.
         out.push(...lostEntries(k, g.firstRow, from, to, 'read-unsupported', '').map((x) => ({ ...x, findings: [] })));
+        continue;
+      }
+      if (decoded instanceof PageLimitError) {
+        out.push(...lostEntriesAt(k, g.firstRow, from, to, 'read-limit', decoded.message));
         continue;
       }
       if (decoded instanceof Error) {
@@ -298,32 +342,50 @@ export class ParquetSource implements RecordSource {
     return out;
   }
 
-  /** Decodes the requested columns of one row group, refusing what would blow the memory budget. */
-  private async decodeGroup(k: number, columns: string[] | undefined): Promise<Decoded | Error> {
-    const key = `${k}|${columns ? columns.join('\u0000') : '*'}`;
+  private cacheKey(k: number, from: number, to: number, columns: string[] | undefined): string {
+    return `${k}|${from}-${to}|${columns ? columns.join('\u0000') : '*'}`;
+  }
+
+  /** A whole row group already decoded (by a scan) with these columns, if the cache still holds it. */
+  private async cachedWhole(k: number, columns: string[] | undefined): Promise<Decoded | Error | null> {
+    const key = this.cacheKey(k, 0, this.groups[k].rows, columns);
+    const hit = this.cache.get(hashKey(key));
+    return hit && (hit as Decoded & { key?: string }).key === key ? hit : null;
+  }
+
+  /** Decodes rows [from, to) of one row group (rows counted in the group), refusing what would blow the memory cap. */
+  private async decodeRows(k: number, from: number, to: number, columns: string[] | undefined): Promise<Decoded | Error> {
+    const key = this.cacheKey(k, from, to, columns);
     const cacheKey = hashKey(key);
     const hit = this.cache.get(cacheKey);
     if (hit && (hit as Decoded & { key?: string }).key === key) return hit;
-    const needs = columns
+    const g = this.groups[k];
+    const groupNeeds = columns
       ? columns.reduce((a, c) => a + (this.groupColumnBytes[k].get(c) ?? 0), 0)
       : [...this.groupColumnBytes[k].values()].reduce((a, b) => a + b, 0);
+    const whole = from === 0 && to === g.rows;
+    const needs = whole ? groupNeeds : Math.ceil((groupNeeds * (to - from)) / Math.max(1, g.rows));
     const budget = this.opts.maxDecodedBytes ?? DEFAULT_MAX_DECODED_BYTES;
     let result: Decoded | Error;
     if (this.refusedGroups.has(k)) {
       result = new RefusedGroupError(`its footer-declared size is over the ${formatSize(budget)} limit for one row group`);
-    } else if (needs > budget) {
+    } else if (whole && needs > budget) {
       result = new Error(`its columns decode to ${needs} bytes, beyond the ${budget}-byte budget for one row group`);
     } else {
       try {
-        const table = await guardWasm(() => this.file!.read({ rowGroups: [k], ...(columns ? { columns } : {}) }));
+        const refused = await this.checkPages(k, from, to, columns, budget);
+        if (refused) throw new PageLimitError(refused);
+        const table = await guardWasm(() =>
+          this.file!.read({ rowGroups: [k], ...(whole ? {} : { offset: from, limit: to - from }), ...(columns ? { columns } : {}) }),
+        );
         const arrow = tableFromIPC(table.intoIPCStream());
         const starts: number[] = [];
-        let at = 0;
+        let at = from;
         for (const b of arrow.batches) {
           starts.push(at);
           at += b.numRows;
         }
-        if (at !== this.groups[k].rows) throw new Error(`it holds ${at} rows where the footer says ${this.groups[k].rows}`);
+        if (at !== to) throw new Error(`it holds ${at - from} rows where the footer says ${to - from}`);
         result = Object.assign({ batches: arrow.batches, starts }, { key });
       } catch (e) {
         result = e instanceof Error ? e : new Error(String(e));
@@ -331,6 +393,75 @@ export class ParquetSource implements RecordSource {
     }
     this.cache.set(cacheKey, result, Math.max(needs, 1024));
     return result;
+  }
+
+  /**
+   * Reads the headers of the pages that decoding rows [from, to) of row group k touches (only those
+   * rows' pages when the chunk has an offset index, else every page of the chunk) and returns why
+   * they are refused when one declares more than the cap, or all of them together do; null when
+   * they fit. A header that does not decode is left to the decoder, which names the damage.
+   */
+  private async checkPages(k: number, from: number, to: number, columns: string[] | undefined, cap: number): Promise<string | null> {
+    const chunks = this.places?.[k];
+    if (!chunks) return null;
+    let total = 0;
+    for (const chunk of chunks) {
+      if (columns && !columns.includes(chunk.top)) continue;
+      const end = chunk.start + chunk.length;
+      const offsets: number[] = [];
+      const locations = chunk.offsetIndex && !(from === 0 && to === this.groups[k].rows) ? await this.offsetIndex(chunk) : null;
+      if (locations && locations.length) {
+        if (chunk.start < locations[0].offset) offsets.push(chunk.start); // the dictionary page
+        for (let p = 0; p < locations.length; p++) {
+          const next = p + 1 < locations.length ? locations[p + 1].firstRow : Infinity;
+          if (locations[p].firstRow < to && next > from) offsets.push(locations[p].offset);
+        }
+        for (const at of offsets) {
+          const h = await this.header(at, end);
+          if (!h) return null;
+          const why = overCap(h, at, chunk, k, cap);
+          if (why) return why;
+          total += h.uncompressedSize;
+        }
+      } else {
+        let at = chunk.start;
+        for (let pages = 0; at < end && pages < 1_000_000; pages++) {
+          const h = await this.header(at, end);
+          if (!h || h.compressedSize < 0 || h.uncompressedSize < 0) return null;
+          const why = overCap(h, at, chunk, k, cap);
+          if (why) return why;
+          total += h.uncompressedSize;
+          at += h.headerBytes + h.compressedSize;
+        }
+      }
+      if (total > cap) {
+        return `row group ${k}: the pages these rows need declare ${formatSize(total)} uncompressed together, over the ${formatSize(cap)} memory cap; the rows are not read`;
+      }
+    }
+    return null;
+  }
+
+  private async header(at: number, end: number): Promise<PageHeaderFacts | null> {
+    if (this.headers.has(at)) return this.headers.get(at)!;
+    if (this.headers.size > 100_000) this.headers.clear();
+    const h = at >= 0 && at < end ? await readPageHeader(this.reader!, at, end - at) : null;
+    this.headers.set(at, h);
+    return h;
+  }
+
+  private async offsetIndex(chunk: ChunkPlace): Promise<PageLocation[] | null> {
+    const { offset, length } = chunk.offsetIndex!;
+    if (this.offsetIndexes.has(offset)) return this.offsetIndexes.get(offset)!;
+    let locations: PageLocation[] | null = null;
+    if (offset + length <= this.current.sizeBytes && length <= 64 * 1024 * 1024) {
+      try {
+        locations = pageLocations(await this.reader!.read(offset, length));
+      } catch {
+        locations = null;
+      }
+    }
+    this.offsetIndexes.set(offset, locations);
+    return locations;
   }
 
   async *scan(opts: ScanOptions = {}): AsyncIterable<Entry> {
@@ -343,15 +474,15 @@ export class ParquetSource implements RecordSource {
       opts.signal?.throwIfAborted();
       const g = this.groups[k];
       const end = Math.min(to, g.firstRow + g.rows);
-      if ((await this.decodeGroup(k, undefined)) instanceof Error) {
+      if ((await this.decodeRows(k, 0, g.rows, undefined)) instanceof Error) {
         // One finding for a row group that does not decode; its claimed rows are not walked one by one.
-        if (from <= g.firstRow) for (const e of await this.read(g.firstRow, Math.min(end, g.firstRow + 1), { signal: opts.signal })) yield e;
+        if (from <= g.firstRow) for (const e of await this.readRows(g.firstRow, Math.min(end, g.firstRow + 1), { signal: opts.signal }, true)) yield e;
         opts.onProgress?.({ done: end - from, total: to - from, entries: total });
         continue;
       }
       for (let lo = Math.max(from, g.firstRow); lo < end; lo += SCAN_SLICE_ROWS) {
         opts.signal?.throwIfAborted();
-        const entries = await this.read(lo, Math.min(end, lo + SCAN_SLICE_ROWS), { signal: opts.signal });
+        const entries = await this.readRows(lo, Math.min(end, lo + SCAN_SLICE_ROWS), { signal: opts.signal }, true);
         for (const e of entries) yield e;
       }
       opts.onProgress?.({ done: Math.min(to, g.firstRow + g.rows) - from, total: to - from, entries: total });
@@ -378,9 +509,25 @@ class FooterLimitError extends Error {}
 /** A row group refused at open; its finding was raised then. */
 class RefusedGroupError extends Error {}
 
+/** Why a page is refused when its header declares more than the cap; null when it fits. */
+function overCap(h: PageHeaderFacts, at: number, chunk: ChunkPlace, k: number, cap: number): string | null {
+  const declared = Math.max(h.uncompressedSize, h.compressedSize);
+  if (declared <= cap) return null;
+  const kind = PAGE_TYPE_NAMES[h.type] ?? 'page';
+  return `column "${chunk.path}", row group ${k}: the ${kind} at byte ${at} declares ${formatSize(declared)} (${h.values} values), over the ${formatSize(cap)} memory cap; its rows are not read`;
+}
+
+/** Rows refused by a page check: one finding on the first row asked for, as the view and a scan both show it. */
+function lostEntriesAt(group: number, firstRow: number, from: number, to: number, rule: string, message: string): Entry[] {
+  const out = lostEntries(group, firstRow, from, to, rule, '').map((x) => ({ ...x, findings: [] as Finding[] }));
+  if (out.length) out[0].findings.push(readFinding(rule, message, { record: firstRow + from, entry: firstRow + from, group, rowInGroup: from }));
+  return out;
+}
+
 function formatSize(n: number): string {
   if (n >= 1024 ** 3) return `${(n / 1024 ** 3).toFixed(1)} GiB`;
   if (n >= 1024 ** 2) return `${(n / 1024 ** 2).toFixed(1)} MiB`;
+  if (n >= 1024 && n % 1024 === 0) return `${n / 1024} KiB`;
   return `${n} bytes`;
 }
 

@@ -81,3 +81,21 @@ export function blobOf(reader: ByteReader, start = 0, end = reader.size): BlobLi
     },
   };
 }
+
+/**
+ * A reader that answers reads inside [offset, offset + bytes.length) from `bytes` already read
+ * (the footer, read once for our own checks and again asked for by the decoder).
+ */
+export function keepRange(inner: ByteReader, offset: number, bytes: Uint8Array): ByteReader {
+  const end = offset + bytes.length;
+  return {
+    size: inner.size,
+    async read(at: number, length: number): Promise<Uint8Array> {
+      const lo = Math.max(0, Math.min(at, inner.size));
+      const hi = Math.max(lo, Math.min(at + length, inner.size));
+      if (lo >= offset && hi <= end) return bytes.slice(lo - offset, hi - offset);
+      return inner.read(at, length);
+    },
+    close: () => inner.close(),
+  };
+}

@@ -1,5 +1,7 @@
-// Just enough of Thrift's compact protocol (the encoding of Parquet's footer) to list a struct's
-// top-level field ids: used to name what a footer holds when the Parquet reader refuses it.
+// Just enough of Thrift's compact protocol (the encoding of Parquet's footer and page headers):
+// list a struct's top-level field ids (to name what a footer holds when the Parquet reader refuses
+// it) and decode a struct into plain values (to read column chunk places and page headers before
+// anything reaches the decoder).
 
 const STOP = 0;
 const TRUE = 1;
@@ -109,4 +111,90 @@ export function structFieldIds(bytes: Uint8Array): number[] {
   const ids: number[] = [];
   fields(new Cursor(bytes), 0, ids);
   return ids;
+}
+
+/** A decoded compact-protocol value: structs become field-id maps, binary stays bytes. */
+export type ThriftValue = boolean | number | Uint8Array | ThriftValue[] | ThriftStruct;
+export interface ThriftStruct {
+  [id: number]: ThriftValue;
+}
+
+function readValue(c: Cursor, type: number, depth: number, inList: boolean): ThriftValue {
+  if (depth > 64) throw new RangeError('nested too deep');
+  switch (type) {
+    case TRUE:
+      return inList ? c.byte() === 1 : true;
+    case FALSE:
+      return inList ? c.byte() === 1 : false;
+    case BYTE:
+      return c.byte();
+    case I16:
+    case I32:
+    case I64: {
+      // Zigzag varint; values past 2^53 lose precision, which no offset or size of a real file reaches.
+      const z = c.varint();
+      return z % 2 ? -(z + 1) / 2 : z / 2;
+    }
+    case DOUBLE: {
+      c.skip(8);
+      return new DataView(c.b.buffer, c.b.byteOffset + c.at - 8, 8).getFloat64(0, true);
+    }
+    case BINARY: {
+      const n = c.varint();
+      const from = c.at;
+      c.skip(n);
+      return c.b.subarray(from, from + n);
+    }
+    case LIST:
+    case SET: {
+      const h = c.byte();
+      const n = h >> 4 === 15 ? c.varint() : h >> 4;
+      const elem = h & 0x0f;
+      const out: ThriftValue[] = [];
+      // Every element takes at least one byte, so a forged count ends at the buffer's end.
+      for (let k = 0; k < n; k++) out.push(readValue(c, elem, depth + 1, true));
+      return out;
+    }
+    case MAP: {
+      const n = c.varint();
+      const out: ThriftValue[] = [];
+      if (n === 0) return out;
+      const kv = c.byte();
+      for (let k = 0; k < n; k++) out.push([readValue(c, kv >> 4, depth + 1, true), readValue(c, kv & 0x0f, depth + 1, true)]);
+      return out;
+    }
+    case STRUCT:
+      return readStruct(c, depth + 1);
+    default:
+      throw new RangeError(`unknown compact type ${type}`);
+  }
+}
+
+function readStruct(c: Cursor, depth: number): ThriftStruct {
+  const out: ThriftStruct = {};
+  let last = 0;
+  for (;;) {
+    const h = c.byte();
+    const type = h & 0x0f;
+    if (type === STOP) return out;
+    const delta = h >> 4;
+    let id: number;
+    if (delta) id = last + delta;
+    else {
+      const z = c.varint();
+      id = z % 2 ? -(z + 1) / 2 : z / 2;
+    }
+    last = id;
+    out[id] = readValue(c, type, depth, false);
+  }
+}
+
+/**
+ * Decodes the struct at the start of `bytes` and says how many bytes it took; throws RangeError
+ * when it is malformed or cut short (a caller with more bytes may read further and try again).
+ */
+export function decodeStruct(bytes: Uint8Array): { value: ThriftStruct; length: number } {
+  const c = new Cursor(bytes);
+  const value = readStruct(c, 0);
+  return { value, length: c.at };
 }
