@@ -270,14 +270,14 @@ export class RecordEditorProvider implements vscode.CustomReadonlyEditorProvider
               // The view speaks in positions: each row goes where the view shows it.
               const at = end > start ? await readPositions(document, view, start, end) : [];
               const rows = at.flatMap((e, i) =>
-                e ? [{ ...rowOf(e, columns, document.byEntry.get(e.entry), e.record !== null ? document.tally.tokensOf(e.record) : null), entry: start + i }] : [],
+                e ? [{ ...rowOf(e, columns, document.byEntry.get(e.entry), e.record !== null ? document.tokensOfEntry(e) : null), entry: start + i }] : [],
               );
               post({ type: 'rows', requestId: msg.requestId, start, rows });
               break;
             }
             const entries = end > start ? await document.session!.read(start, end) : [];
             const rows = entries.map((e) =>
-              rowOf(e, columns, document.byEntry.get(e.entry), e.record !== null ? document.tally.tokensOf(e.record) : null),
+              rowOf(e, columns, document.byEntry.get(e.entry), e.record !== null ? document.tokensOfEntry(e) : null),
             );
             post({ type: 'rows', requestId: msg.requestId, start, rows });
             break;
@@ -381,7 +381,7 @@ export class RecordEditorProvider implements vscode.CustomReadonlyEditorProvider
       record: e.record,
       place,
       truncated: false,
-      tokens: e.record !== null ? document.tally.tokensOf(e.record) : null,
+      tokens: e.record !== null ? document.tokensOfEntry(e) : null,
       findings,
       reveal,
     };

@@ -19,6 +19,9 @@ import { ResultsStore } from './resultsStore.js';
 import { formatPlace, targetIndex, type PlaceTarget } from '../engine/places.js';
 import { initialProgress, nextProgress, panelText, windowText, type ProgressEvent, type ProgressState } from '../engine/progress.js';
 
+/** Past this many entries without a record, the reading worker is not taught them (numbers stay as it counts). */
+const MAX_TAUGHT = 5_000_000;
+
 
 
 /** A finding's place as every presenter shows it (one formatter: engine/places.ts). */
@@ -171,6 +174,7 @@ export class ShardDocument implements vscode.CustomDocument {
       if (gen !== this.generation) return;
       this.phase = 'done';
       this.progress = 1;
+      this.teachRecords();
       this.step({ kind: 'checked', records: this.tally.records });
       void this.keep();
     } catch (err) {
@@ -210,6 +214,7 @@ export class ShardDocument implements vscode.CustomDocument {
     this.phase = 'done';
     this.progress = 1;
     this.kept = true;
+    this.teachRecords();
     this.step({ kind: 'checked', records: this.tally.records });
     this.fire();
     return true;
@@ -273,6 +278,35 @@ export class ShardDocument implements vscode.CustomDocument {
         resolve();
       }
     });
+  }
+
+  /**
+   * Hands the reading worker the entries the complete analysis found to hold no record, so that
+   * the record numbers of the pages it reads are exact (its index does not parse lines itself).
+   */
+  private teachRecords(): void {
+    const entries = this.info?.complete ? this.info.entries : -1;
+    if (entries < 0 || !this.session) return;
+    const gaps: number[] = [];
+    let next = 0;
+    for (let r = 0; r < this.recordEntry.length; r++) {
+      const e = this.recordEntry[r];
+      if (e < 0) return;
+      for (; next < e && gaps.length <= MAX_TAUGHT; next++) gaps.push(next);
+      next = e + 1;
+    }
+    for (; next < entries && gaps.length <= MAX_TAUGHT; next++) gaps.push(next);
+    if (gaps.length > MAX_TAUGHT) return;
+    this.session.learnNonRecords(gaps, entries);
+  }
+
+  /**
+   * The token count of a page's record, when the analysis has counted that very entry: a record
+   * number the reading worker could not make exact yet never shows another record's count.
+   */
+  tokensOfEntry(e: { entry: number; record: number | null }): number | null {
+    if (e.record === null || e.record >= this.recordEntry.length || this.recordEntry[e.record] !== e.entry) return null;
+    return this.tally.tokensOf(e.record);
   }
 
   /** The entry holding a record: exact once the analysis passed it, else the record number itself. */

@@ -15,6 +15,7 @@ export type WorkerRequest =
   | { id: number; op: 'rendered'; value: unknown; config: CheckConfig }
   | { id: number; op: 'query'; needs: ScanNeeds; config: CheckConfig; entries: number }
   | { id: number; op: 'cancel'; target: number }
+  | { id: number; op: 'learn'; entries: number[]; through: number }
   | { id: number; op: 'memory' };
 
 export type WorkerEvent =

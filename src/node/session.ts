@@ -127,6 +127,11 @@ export class SourceSession {
     return this.indexed;
   }
 
+  /** Tells the reading worker which entries below `through` hold no record (from the analysis). */
+  learnNonRecords(entries: number[], through: number): void {
+    if (this.worker) this.post({ id: this.nextId++, op: 'learn', entries, through });
+  }
+
   cancelIndexing(): void {
     if (this.openId) this.post({ id: this.nextId++, op: 'cancel', target: this.openId });
   }

@@ -153,6 +153,10 @@ async function handle(req: WorkerRequest): Promise<void> {
       running.get(req.target)?.abort();
       return;
     }
+    case 'learn': {
+      session?.learnNonRecords?.(req.entries, req.through);
+      return;
+    }
     case 'memory': {
       post({ id: req.id, kind: 'memory', rss: process.memoryUsage().rss, wasm: wasmMemoryBytes(), faults: wasmFaults() });
       return;

@@ -1,11 +1,13 @@
 // JSONL shards (plain, gzip, zstd): a streaming line index for random access, and entries with the
 // source's own findings (syntax, blank lines, encoding, over-long lines) already located.
 
+import { readSync } from 'node:fs';
 import { open, rm, stat, type FileHandle } from 'node:fs/promises';
 import { join } from 'node:path';
 import type { Finding } from '../findings.js';
 import { MAX_DEPTH, parseLine, scanJson, type ScanNote } from '../json/scan.js';
 import { LineSplitter } from '../text/lines.js';
+import { LineFinder, LineIndex } from './lineIndex.js';
 import { decodeLine, hasBom } from '../text/utf8.js';
 import { jsonlRule, type JsonlRuleId } from './jsonlRules.js';
 import type { Entry, Progress, RecordSource, ScanOptions, SourceInfo } from './source.js';
@@ -21,6 +23,8 @@ export interface JsonlOptions {
   maxInflateRatio?: number;
   /** Free bytes a temporary copy always leaves on its disk (default MIN_FREE_BYTES). */
   minFreeBytes?: number;
+  /** A read parses up to this many bytes of unparsed lines before it to number records exactly (default 64 MiB). */
+  exactCatchUpBytes?: number;
 }
 
 export type Compression = 'none' | 'gzip' | 'zstd';
@@ -36,14 +40,19 @@ const SCAN_SLICE_BYTES = 64 * 1024;
 const DISK_CHECK_BYTES = 64 * 1024 * 1024;
 /** A read() groups neighbouring lines into one positional read up to this size. */
 const READ_SEGMENT_BYTES = 8 * 1024 * 1024;
+/** A read parses up to this many bytes of not yet parsed lines before it, to number its records exactly. */
+const EXACT_CATCH_UP_BYTES = 64 * 1024 * 1024;
 
-// Line kinds kept in the index; the high bit marks the final line without a `\n`.
-const KIND_RECORD = 0;
-const KIND_BLANK = 1;
-const KIND_INVALID = 2;
-const KIND_TOO_LONG = 3;
-const UNTERMINATED = 0x80;
-
+// The line index is sparse: one start offset every BLOCK_LINES lines; a read scans within a block.
+// Lines are classified lazily: the index finds line ends and blank lines only (no decoding, no
+// parse); a line that is not JSON is learnt when a page, a scan or the analysis parses it.
+const BLOCK_LINES = 32;
+/** Lines longer than this are kept in the index with their start and length, and read on their own. */
+const LONG_LINE_BYTES = 1024 * 1024;
+/** The index reads the file through a reused buffer of this size (measured faster than larger ones). */
+const INDEX_CHUNK_BYTES = 1024 * 1024;
+/** The index gives the event loop a turn (progress, cancelling, page reads) every this many bytes. */
+const INDEX_YIELD_BYTES = 16 * 1024 * 1024;
 const strictDecoder = new TextDecoder('utf-8', { fatal: true, ignoreBOM: true });
 const lenientDecoder = new TextDecoder('utf-8', { fatal: false, ignoreBOM: true });
 
@@ -84,17 +93,19 @@ function typeName(v: unknown): string {
   return typeof v;
 }
 
+export type LineKind = 'record' | 'blank' | 'invalid';
+
 /**
  * Whether a line's bytes hold a record, decided the same way `buildEntry` decides it but without
  * building findings: native JSON.parse first, the strict scan only where the depth cap could matter.
  */
-export function classifyLine(bytes: Uint8Array): number {
+export function classifyLine(bytes: Uint8Array): LineKind {
   let body = hasBom(bytes) ? bytes.subarray(3) : bytes;
   let end = body.length;
   while (end > 0 && (body[end - 1] === 0x20 || body[end - 1] === 0x09 || body[end - 1] === 0x0d)) end--;
   let start = 0;
   while (start < end && (body[start] === 0x20 || body[start] === 0x09 || body[start] === 0x0d)) start++;
-  if (start === end) return KIND_BLANK;
+  if (start === end) return 'blank';
   body = body.subarray(start, end);
   let text: string;
   try {
@@ -105,11 +116,11 @@ export function classifyLine(bytes: Uint8Array): number {
   try {
     JSON.parse(text);
   } catch {
-    return KIND_INVALID;
+    return 'invalid';
   }
   // Nesting beyond the cap needs more characters than the cap; only then is the scan needed.
-  if (text.length > MAX_DEPTH && !scanJson(text).ok) return KIND_INVALID;
-  return KIND_RECORD;
+  if (text.length > MAX_DEPTH && !scanJson(text).ok) return 'invalid';
+  return 'record';
 }
 
 interface Located {
@@ -199,8 +210,8 @@ export class FileShrankError extends Error {
 }
 
 /** Plain-file chunks from `offset` on, read positionally through a shared handle. */
-async function* fileChunks(handle: FileHandle, offset: number, size: number, path = ''): AsyncGenerator<Uint8Array> {
-  const buf = new Uint8Array(CHUNK_BYTES);
+async function* fileChunks(handle: FileHandle, offset: number, size: number, path = '', chunkBytes = CHUNK_BYTES): AsyncGenerator<Uint8Array> {
+  const buf = new Uint8Array(chunkBytes);
   let pos = offset;
   while (pos < size) {
     const { bytesRead } = await handle.read(buf, 0, Math.min(buf.length, size - pos), pos);
@@ -225,12 +236,8 @@ export class JsonlSource implements RecordSource {
   private tempDir: string | null = null;
   private indexing: Promise<SourceInfo> | null = null;
 
-  // The line index: start of each line (plus one slot past the last), kind, and records before it.
-  private starts = new Float64Array(1024);
-  private kinds = new Uint8Array(1024);
-  private recordsBefore = new Uint32Array(1024);
-  private count = 0;
-  private records = 0;
+  /** The sparse line index (see lineIndex.ts). */
+  private readonly idx: LineIndex;
   private complete = false;
   private readonly findings: Finding[] = [];
 
@@ -239,10 +246,14 @@ export class JsonlSource implements RecordSource {
     opts: JsonlOptions = {},
   ) {
     this.maxLineBytes = opts.maxLineBytes ?? DEFAULT_MAX_LINE_BYTES;
+    this.idx = new LineIndex(this.maxLineBytes, Math.min(LONG_LINE_BYTES, this.maxLineBytes));
     this.compression = opts.compression ?? compressionOf(path);
     this.maxInflateRatio = opts.maxInflateRatio;
     this.minFreeBytes = opts.minFreeBytes ?? MIN_FREE_BYTES;
+    this.exactCatchUpBytes = opts.exactCatchUpBytes ?? EXACT_CATCH_UP_BYTES;
   }
+
+  private readonly exactCatchUpBytes: number;
 
   private readonly maxInflateRatio: number | undefined;
   private readonly minFreeBytes: number;
@@ -276,7 +287,7 @@ export class JsonlSource implements RecordSource {
   }
 
   info(): SourceInfo {
-    const facts: Record<string, string> = { compression: this.compression, records: String(this.records) };
+    const facts: Record<string, string> = { compression: this.compression, records: String(this.idx.records) };
     if (this.compression !== 'none' && this.complete) facts.decompressedBytes = String(this.decompressedSize);
     const findings = [...this.findings];
     // One verdict for an empty shard, whatever its format (see EMPTY_FILE_MESSAGE).
@@ -285,16 +296,38 @@ export class JsonlSource implements RecordSource {
       format: 'jsonl',
       path: this.path,
       sizeBytes: this.sizeBytes,
-      entries: this.count,
+      entries: this.idx.lines,
       complete: this.complete,
       facts,
       findings,
     };
   }
 
-  /** Records among the entries indexed so far. */
+  /**
+   * Records among the entries indexed so far: lines that are neither blank, over the limit nor
+   * learnt to hold no JSON value. Exact once every line has been parsed (`recordsExact`).
+   */
   get recordCount(): number {
-    return this.records;
+    return this.idx.records;
+  }
+
+  /** Whether every indexed line has been classified, so record numbers are exact. */
+  get recordsExact(): boolean {
+    return this.complete && this.idx.exactThrough >= this.idx.lines;
+  }
+
+  /** Bytes the line index holds. */
+  get indexBytes(): number {
+    return this.idx.bytes;
+  }
+
+  /**
+   * What a whole-file pass elsewhere (the analysis) found: `entries` are the lines below `through`
+   * that hold no record. Record numbers of later reads are exact below `through`.
+   */
+  learnNonRecords(entries: Iterable<number>, through: number): void {
+    for (const e of entries) this.idx.learnInvalid(e);
+    if (this.complete) this.idx.exactThrough = Math.max(this.idx.exactThrough, Math.min(through, this.idx.lines));
   }
 
   index(opts: ScanOptions = {}): Promise<SourceInfo> {
@@ -308,47 +341,17 @@ export class JsonlSource implements RecordSource {
   }
 
   private resetIndex(): void {
-    this.count = 0;
-    this.records = 0;
+    this.idx.reset();
     this.complete = false;
-    this.starts[0] = 0;
     this.findings.length = 0;
-  }
-
-  private grow(need: number): void {
-    if (need <= this.starts.length) return;
-    let cap = this.starts.length;
-    while (cap < need) cap *= 2;
-    const s = new Float64Array(cap);
-    s.set(this.starts);
-    this.starts = s;
-    const k = new Uint8Array(cap);
-    k.set(this.kinds);
-    this.kinds = k;
-    const r = new Uint32Array(cap);
-    r.set(this.recordsBefore);
-    this.recordsBefore = r;
-  }
-
-  private addLine(start: number, bytes: Uint8Array | null, length: number, terminated: boolean): void {
-    const i = this.count;
-    this.grow(i + 2);
-    const kind = bytes === null ? KIND_TOO_LONG : classifyLine(bytes);
-    this.starts[i] = start;
-    this.starts[i + 1] = start + length + (terminated ? 1 : 0);
-    this.kinds[i] = kind | (terminated ? 0 : UNTERMINATED);
-    this.recordsBefore[i] = this.records;
-    if (kind === KIND_RECORD) this.records++;
-    // Published last, so a concurrent read never sees a half-written slot.
-    this.count = i + 1;
   }
 
   private async buildIndex(opts: ScanOptions): Promise<SourceInfo> {
     await this.open();
     this.resetIndex();
     const { signal, onProgress } = opts;
-    const splitter = new LineSplitter(this.maxLineBytes, (s, b, l, t) => this.addLine(s, b, l, t));
-    const progress = (done: number) => onProgress?.({ done, total: this.sizeBytes, entries: this.count } satisfies Progress);
+    const finder = new LineFinder(this.idx);
+    const progress = (done: number) => onProgress?.({ done, total: this.sizeBytes, entries: this.idx.lines } satisfies Progress);
     const check = () => {
       if (signal?.aborted) throw abortError('indexing');
       if (this.closed) throw new Error(`${this.path}: the source was closed while indexing`);
@@ -357,21 +360,29 @@ export class JsonlSource implements RecordSource {
     if (this.compression === 'none') {
       let done = 0;
       try {
-        for await (const chunk of fileChunks(this.handle!, 0, this.sizeBytes, this.path)) {
-          // In slices, each reporting progress: a chunk of tiny lines is millions of lines.
-          for (let o = 0; o < chunk.length; o += SCAN_SLICE_BYTES) {
-            check();
-            const slice = chunk.subarray(o, Math.min(chunk.length, o + SCAN_SLICE_BYTES));
-            splitter.push(slice);
-            done += slice.length;
+        // Synchronous reads into one reused buffer (the fastest plain way to find line ends), with
+        // a turn of the event loop every few MiB so that cancelling and page reads get through.
+        const buf = new Uint8Array(INDEX_CHUNK_BYTES);
+        const fd = this.handle!.fd;
+        let sinceYield = 0;
+        while (done < this.sizeBytes) {
+          const n = readSync(fd, buf, 0, Math.min(buf.length, this.sizeBytes - done), done);
+          if (n === 0) throw new FileShrankError(this.path, done, this.sizeBytes);
+          finder.push(buf.subarray(0, n));
+          done += n;
+          if ((sinceYield += n) >= INDEX_YIELD_BYTES) {
+            sinceYield = 0;
             progress(done);
+            await new Promise<void>((resolve) => setImmediate(resolve));
+            check();
           }
         }
+        progress(done);
       } catch (e) {
         if (!(e instanceof FileShrankError)) throw e;
         this.findings.push(this.fileFinding('read-corrupt', e.message));
       }
-      splitter.end();
+      finder.end();
       this.decompressedSize = done;
     } else {
       await this.prepareTempFile();
@@ -400,7 +411,7 @@ export class JsonlSource implements RecordSource {
           }
           written += chunk.length;
           this.decompressedSize = written;
-          splitter.push(chunk);
+          finder.push(chunk);
           progress(consumed);
         }
       } catch (e) {
@@ -408,7 +419,7 @@ export class JsonlSource implements RecordSource {
         if ((e as Error)?.name === 'AbortError') throw e;
         this.findings.push(this.corruptFinding(e, written));
       }
-      splitter.end();
+      finder.end();
       this.decompressedSize = written;
       if (written === 0 && this.sizeBytes > 0 && !this.findings.some((f) => f.family === 'read')) {
         this.findings.push(this.fileFinding('read-empty', `the ${this.compression} file decompresses to 0 bytes: it holds no records`));
@@ -442,54 +453,111 @@ export class JsonlSource implements RecordSource {
     this.handle = await open(join(this.tempDir, 'decompressed.jsonl'), 'w+');
   }
 
-  private lineSpan(i: number): { start: number; length: number; kind: number } {
-    const k = this.kinds[i];
-    const start = this.starts[i];
-    const length = this.starts[i + 1] - start - (k & UNTERMINATED ? 0 : 1);
-    return { start, length, kind: k & 0x7f };
+  /** Builds a line's entry; a line that turns out to hold no JSON value is learnt by the index. */
+  private built(line: number, start: number, bytes: Uint8Array | null, length: number): Entry {
+    const e = buildEntry(line, start, bytes, length, this.idx.recordsBefore(line), this.maxLineBytes);
+    if (e.record === null) this.idx.learnInvalid(line);
+    return e;
+  }
+
+  private async readExact(handle: FileHandle, offset: number, length: number): Promise<Uint8Array> {
+    const buf = new Uint8Array(length);
+    let got = 0;
+    while (got < length) {
+      const { bytesRead } = await handle.read(buf, got, length - got, offset + got);
+      if (bytesRead === 0) throw this.changedError();
+      got += bytesRead;
+    }
+    return buf;
+  }
+
+  private changedError(): Error {
+    return new Error(`${this.path}: the file is shorter than its index (was it changed while open?)`);
   }
 
   async read(start: number, end: number, opts: { signal?: AbortSignal } = {}): Promise<Entry[]> {
     if (!Number.isInteger(start) || !Number.isInteger(end) || start < 0 || end < start) {
       throw new RangeError(`${this.path}: bad entry range ${start}..${end}`);
     }
-    if (end > this.count) {
-      throw new RangeError(`${this.path}: entries ${start}..${end} are not indexed yet (${this.count} known${this.complete ? ', index complete' : ''})`);
+    const idx = this.idx;
+    if (end > idx.lines) {
+      throw new RangeError(`${this.path}: entries ${start}..${end} are not indexed yet (${idx.lines} known${this.complete ? ', index complete' : ''})`);
     }
-    const handle = this.handle;
-    if (!handle) throw new Error(`${this.path}: not open`);
+    if (!this.handle) throw new Error(`${this.path}: not open`);
+    if (start === end) return [];
+    // Record numbers count the lines before that hold JSON; where those lines have not been parsed
+    // yet and are few enough, parse them now. Further on, numbers count every unparsed non-blank
+    // line as a record until the analysis (or a scan) has passed them: `recordsExact` says when.
+    const from = idx.exactThrough;
+    if (from < start && idx.blockOf(start).offset - idx.blockOf(from).offset <= this.exactCatchUpBytes) {
+      await this.walk(from, start, false, opts.signal);
+    }
+    return this.walk(start, end, true, opts.signal);
+  }
+
+  /** Entries [start, end) (built, or only classified); parsing them in order extends `exactThrough`. */
+  private async walk(start: number, end: number, build: boolean, signal?: AbortSignal): Promise<Entry[]> {
+    const idx = this.idx;
+    const handle = this.handle!;
+    const learning = idx.exactThrough >= start;
     const out: Entry[] = [];
-    let i = start;
-    while (i < end) {
-      if (opts.signal?.aborted) throw abortError('reading');
-      const first = this.lineSpan(i);
-      if (first.kind === KIND_TOO_LONG) {
-        out.push(buildEntry(i, first.start, null, first.length, this.recordsBefore[i], this.maxLineBytes));
-        i++;
+    const take = (line: number, at: number, bytes: Uint8Array | null, length: number) => {
+      if (line < start) return;
+      if (build) out.push(this.built(line, at, bytes, length));
+      else if (bytes !== null && classifyLine(bytes) !== 'record') idx.learnInvalid(line);
+      if (learning) idx.exactThrough = Math.max(idx.exactThrough, line + 1);
+    };
+    // From the start of the block holding `start`: at most BLOCK_LINES - 1 lines are read for nothing.
+    const block = idx.blockOf(start);
+    let line = block.line;
+    let pos = block.offset;
+    let long = idx.longFrom(line);
+    const average = idx.end / Math.max(1, idx.lines);
+    let least = 64 * 1024;
+    while (line < end) {
+      if (signal?.aborted) throw abortError('reading');
+      const nextLong = long < idx.longEntries.length ? idx.longEntries.get(long) : Number.POSITIVE_INFINITY;
+      if (line === nextLong) {
+        // A very long line is read on its own (or, over the limit, not at all).
+        const at = idx.longStarts.get(long);
+        const length = idx.longLengths.get(long);
+        if (line >= start) take(line, at, length > this.maxLineBytes ? null : await this.readExact(handle, at, length), length);
+        pos = at + length + (line === idx.lines - 1 && idx.lastUnterminated ? 0 : 1);
+        line++;
+        long++;
         continue;
       }
-      // One positional read for a run of neighbouring lines.
-      let j = i + 1;
-      while (j < end) {
-        const s = this.lineSpan(j);
-        if (s.kind === KIND_TOO_LONG || this.starts[j + 1] - first.start > READ_SEGMENT_BYTES) break;
-        j++;
+      // One positional read for a run of neighbouring lines, sized from the average line.
+      const stopAt = nextLong === Number.POSITIVE_INFINITY ? idx.end : idx.longStarts.get(long);
+      const want = Math.max(least, Math.ceil((Math.min(end, nextLong) - line) * average * 1.25) + 4096);
+      const segEnd = Math.min(stopAt, pos + Math.min(READ_SEGMENT_BYTES, want));
+      const buf = Buffer.from(await this.readExact(handle, pos, segEnd - pos));
+      let i = 0;
+      while (line < end && line < nextLong) {
+        const nl = buf.indexOf(10, i);
+        if (nl < 0) {
+          // The file's final line has no `\n`.
+          if (segEnd === idx.end && line === idx.lines - 1 && idx.lastUnterminated && i < buf.length) {
+            take(line, pos + i, buf.subarray(i), buf.length - i);
+            line++;
+            i = buf.length;
+          }
+          break;
+        }
+        take(line, pos + i, buf.subarray(i, nl), nl - i);
+        line++;
+        i = nl + 1;
       }
-      const segStart = first.start;
-      const segLen = this.starts[j] - segStart;
-      const buf = new Uint8Array(segLen);
-      let got = 0;
-      while (got < segLen) {
-        const { bytesRead } = await handle.read(buf, got, segLen - got, segStart + got);
-        if (bytesRead === 0) throw new Error(`${this.path}: the file is shorter than its index (was it changed while open?)`);
-        got += bytesRead;
+      if (i === 0 && line < end) {
+        // A line longer than the estimate: read again with room for any line under the long-line size.
+        if (segEnd < stopAt && least < READ_SEGMENT_BYTES) {
+          least = READ_SEGMENT_BYTES;
+          continue;
+        }
+        throw this.changedError();
       }
-      for (let k = i; k < j; k++) {
-        const s = this.lineSpan(k);
-        const rel = s.start - segStart;
-        out.push(buildEntry(k, s.start, buf.subarray(rel, rel + s.length), s.length, this.recordsBefore[k], this.maxLineBytes));
-      }
-      i = j;
+      least = 64 * 1024;
+      pos += i;
     }
     return out;
   }
@@ -504,22 +572,32 @@ export class JsonlSource implements RecordSource {
     let entry = 0;
     let records = 0;
     let byteStart = 0;
-    // With a finished index, start right at the first wanted line.
+    // With a finished index whose record numbers are exact up to there, start at the block of the
+    // first wanted line; else from the top, counting records on the way.
     if (this.complete && this.handle && from > 0) {
-      if (from >= this.count) return;
-      entry = from;
-      records = this.recordsBefore[from];
-      byteStart = this.starts[from];
+      if (from >= this.idx.lines) return;
+      const block = this.idx.blockOf(from);
+      if (this.idx.exactThrough >= block.line) {
+        entry = block.line;
+        records = this.idx.recordsBefore(block.line);
+        byteStart = block.offset;
+      }
     }
+    // A pass over the lines in order teaches the index which lines hold no JSON value.
+    const learning = this.complete && this.idx.exactThrough >= entry;
     const onLine = (s: number, b: Uint8Array | null, l: number) => {
       const e = entry++;
       if (e >= to) return;
       if (e < from || (opts.want && !opts.want(e))) {
-        if (b !== null && classifyLine(b) === KIND_RECORD) records++;
+        if (b !== null && classifyLine(b) === 'record') records++;
+        else if (learning) this.idx.learnInvalid(e);
+        if (learning) this.idx.exactThrough = Math.max(this.idx.exactThrough, e + 1);
         return;
       }
       const built = buildEntry(e, s, b, l, records, this.maxLineBytes);
       if (built.record !== null) records++;
+      else if (learning) this.idx.learnInvalid(e);
+      if (learning) this.idx.exactThrough = Math.max(this.idx.exactThrough, e + 1);
       pending.push(built);
     };
     const splitter = new LineSplitter(this.maxLineBytes, onLine, byteStart);

@@ -104,6 +104,11 @@ export interface RecordSource {
   read(start: number, end: number, opts?: { columns?: string[]; signal?: AbortSignal }): Promise<Entry[]>;
   /** Streams every entry in order, for whole-file checks; needs no index. */
   scan(opts?: ScanOptions): AsyncIterable<Entry>;
+  /**
+   * A source whose index numbers records lazily learns from a whole-file pass elsewhere (the
+   * analysis): `entries` are the entries below `through` that hold no record.
+   */
+  learnNonRecords?(entries: Iterable<number>, through: number): void;
   close(): Promise<void>;
 }
 

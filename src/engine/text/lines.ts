@@ -33,8 +33,10 @@ export class LineSplitter {
   push(chunk: Uint8Array): void {
     let i = 0;
     const len = chunk.length;
+    // Buffer's indexOf is several times faster than Uint8Array's on the same memory.
+    const bytes = Buffer.from(chunk.buffer, chunk.byteOffset, chunk.byteLength);
     while (i <= len) {
-      const nl = chunk.indexOf(0x0a, i);
+      const nl = bytes.indexOf(0x0a, i);
       if (nl < 0) {
         const rest = len - i;
         if (rest === 0) break;
