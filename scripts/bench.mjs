@@ -8,7 +8,7 @@
 //                          [--columnar-gb 1] [--runs 3] [--only id,id...] [--quick] [--json PATH]
 //                          [--model qwen3|llama3|gemma3] [--second-open-big] [--dist DIR] [--keep]
 import { existsSync, mkdirSync, mkdtempSync, readFileSync, rmSync, statSync, writeFileSync } from 'node:fs';
-import { availableParallelism, cpus, tmpdir, totalmem } from 'node:os';
+import { availableParallelism, cpus, loadavg, tmpdir, totalmem } from 'node:os';
 import { dirname, join } from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { build } from 'esbuild';
@@ -223,11 +223,16 @@ async function tokenRows(ctx, encoding) {
     () => runChild('tokens', { texts: t.path, tokenizer: encoding, impl: 'ours' }, ctx),
     () => runChild('tokens', { texts: t.path, tokenizer: encoding, impl: 'tiktoken' }, ctx),
   );
-  const two = await repeat(opts.runs, () => runChild('tokens', { texts: t.path, tokenizer: encoding, impl: 'ours', workers: 2 }, ctx));
+  const [two, oneThread] = await paired(
+    opts.runs,
+    () => runChild('tokens', { texts: t.path, tokenizer: encoding, impl: 'ours', workers: 2 }, ctx),
+    () => runChild('tokens', { texts: t.path, tokenizer: encoding, impl: 'ours', workers: 1, inWorkers: true }, ctx),
+  );
+  const oneThreadMs = median(oneThread.map((o) => o.ms));
   const oursMs = median(ours.map((o) => o.ms));
   const refMs = median(ref.map((o) => o.ms));
   const twoMs = median(two.map((o) => o.ms));
-  const equal = ours.every((o) => o.tokens === ref[0].tokens) && two.every((o) => o.tokens === ref[0].tokens);
+  const equal = [...ours, ...two, ...oneThread].every((o) => o.tokens === ref[0].tokens);
   const ratio = refMs / oursMs;
   const ratio2 = oursMs / twoMs;
   const countNote = equal ? `totals equal the reference (${ref[0].tokens} tokens)` : `TOTALS DIFFER: ours ${ours[0].tokens}, 2 workers ${two[0].tokens}, tiktoken ${ref[0].tokens}`;
@@ -245,7 +250,7 @@ async function tokenRows(ctx, encoding) {
       reference: `ours, one thread ${fmt(t.bytes / oursMs / 1e3, 2)} MB/s`,
       ratio: ratio2,
       met: equal && ratio2 >= 1.7,
-      note: `the tokenizer counting in 2 worker_threads (blocks of 64 records each), timed from both loaded to both done; ${fmt(t.bytes / twoMs / (t.bytes / refMs), 2)}× tiktoken`,
+      note: `the tokenizer counting in 2 worker_threads (blocks of 64 records each, a cache each), timed from both loaded to both done; ${fmt(refMs / twoMs, 2)}× tiktoken; the same harness with 1 worker thread: ${fmt(t.bytes / oneThreadMs / 1e3, 2)} MB/s (2 workers ${fmt(oneThreadMs / twoMs, 2)}× it)`,
       raw: { twoMs: two.map((o) => o.ms) },
     }),
   ];
@@ -278,7 +283,7 @@ const ROWS = [
       const long = await sessionRows(ctx, 'long');
       const short = await sessionRows(ctx, 'short');
       const size = (s) => `${fmt(s.f.bytes / GB, 2)} GB, ${s.ours[0].entries} lines`;
-      const how = 'a SourceSession (the record view\'s reading worker, dist/worker.js) driven as the host drives it';
+      const how = 'a SourceSession (the record view\'s reading worker, dist/worker.js) driven as the host drives it, starting the worker included';
       return [
         row('first-page-5g', 'first page of a 5 GB JSONL (open → 100 records)', '< 150 ms', {
           measured: `${fmt(long.first, 0)} ms`,
@@ -579,6 +584,8 @@ function table(rows) {
 
 async function main() {
   const t0 = Date.now();
+  // Other work on the machine skews every row: the load before and after is recorded beside the results.
+  const loadBefore = loadavg();
   const ctx = await prepareBuild();
   const wanted = ROWS.filter((r) => !opts.only || opts.only.some((id) => (r.ids ?? [r.id]).includes(id)));
   if (opts.only && !wanted.length) {
@@ -603,10 +610,12 @@ async function main() {
   console.log('\nnotes:');
   for (const r of shown) if (r.note) console.log(`  ${r.id}: ${r.path} — ${r.note}`);
   const seconds = (Date.now() - t0) / 1000;
+  const loadAfter = loadavg();
   console.log(`\n${shown.length} rows in ${fmt(seconds, 0)} s; medians of ${opts.runs} run(s); ratio = reference ÷ measured time (or RSS), so above 1 is better`);
+  console.log(`machine: ${cpus()[0]?.model ?? 'unknown CPU'}, ${availableParallelism()} cores, ${fmt(totalmem() / 2 ** 30, 0)} GiB, Node ${process.version}; 1-minute load average ${fmt(loadBefore[0], 2)} at the start, ${fmt(loadAfter[0], 2)} at the end (other work on the cores skews the rows)`);
   const doc = {
     date: new Date().toISOString(),
-    machine: { cpu: cpus()[0]?.model ?? null, cores: availableParallelism(), memoryGiB: totalmem() / 2 ** 30, node: process.version, platform: process.platform },
+    machine: { cpu: cpus()[0]?.model ?? null, cores: availableParallelism(), memoryGiB: totalmem() / 2 ** 30, node: process.version, platform: process.platform, loadBefore, loadAfter },
     options: opts,
     seconds,
     inputs: Object.fromEntries(Object.entries(inputs).map(([k, v]) => [k, { bytes: v.bytes ?? null, lines: v.lines ?? null, rows: v.rows ?? null, texts: v.texts ?? null, generatedSeconds: v.seconds }])),

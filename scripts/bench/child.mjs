@@ -209,11 +209,11 @@ const modes = {
     return { firstPageMs, indexMs, jumpMedianMs: median(times), entries: lines, maxRSSKiB: process.resourceUsage().maxRSS };
   },
 
-  /** Token counting of the texts in a JSON file: Shardwise's tokenizer, tiktoken (WASM) or tokenizers (Rust), one thread, or ours in `workers` threads. */
-  async tokens({ texts: file, tokenizer, impl, workers = 1 }) {
+  /** Token counting of the texts in a JSON file: Shardwise's tokenizer, tiktoken (WASM) or tokenizers (Rust), in this thread, or ours in `workers` worker threads. */
+  async tokens({ texts: file, tokenizer, impl, workers = 1, inWorkers = workers > 1 }) {
     const texts = JSON.parse(readFileSync(file, 'utf8'));
     const bytes = texts.reduce((n, t) => n + Buffer.byteLength(t), 0);
-    if (impl === 'ours' && workers > 1) return { ...(await oursInWorkers(file, tokenizer, workers)), bytes };
+    if (impl === 'ours' && inWorkers) return { ...(await oursInWorkers(file, tokenizer, workers)), bytes };
     let count;
     if (impl === 'ours') {
       const t = await api().loadTokenizer(tokenizer);

@@ -159,6 +159,7 @@ export const CHAT_SCHEMA = {
 };
 
 const ID_DIGITS = 10;
+const TICKET = 'ticket ';
 
 /**
  * Pools of serialised pieces for chat lines: user turns, assistant turns and tool exchanges (an
@@ -167,8 +168,12 @@ const ID_DIGITS = 10;
 export function chatPools({ seed = 3, users = 6000, assistants = 6000, tools = 1500, userBytes = 260, assistantBytes = 700 } = {}) {
   const rand = prng(seed);
   const text = textMaker(seed + 1);
-  const user = Array.from({ length: users }, () => Buffer.from(JSON.stringify({ role: 'user', content: text(userBytes * (0.4 + rand() * 1.2)) })));
-  const assistant = Array.from({ length: assistants }, () => Buffer.from(JSON.stringify({ role: 'assistant', content: text(assistantBytes * (0.4 + rand() * 1.2)) })));
+  // Each turn's text starts with a ticket number rewritten on every line, so no two records repeat a
+  // turn's whole text (a cache of whole strings would flatter the counts); the words still repeat as
+  // a vocabulary does.
+  const turn = (role, bytes) => Buffer.from(JSON.stringify({ role, content: `${TICKET}${'0'.repeat(ID_DIGITS)}: ${text(bytes)}` }));
+  const user = Array.from({ length: users }, () => turn('user', userBytes * (0.4 + rand() * 1.2)));
+  const assistant = Array.from({ length: assistants }, () => turn('assistant', assistantBytes * (0.4 + rand() * 1.2)));
   const tool = Array.from({ length: tools }, (_, i) => {
     const id = `call_${i.toString(36)}${Math.floor(rand() * 1e6)}`;
     const sku = `HGR-${100 + Math.floor(rand() * 900)}`;
@@ -179,7 +184,15 @@ export function chatPools({ seed = 3, users = 6000, assistants = 6000, tools = 1
   return { user, assistant, tool, system: Buffer.from(JSON.stringify({ role: 'system', content: SYSTEM_PROMPT })), rand };
 }
 
-/** Writes `lines` into a buffer at `at`, a chat line with the given id; returns the new offset. */
+/** Where a turn fragment's ticket digits start: after `{"role":"user","content":"ticket ` (the role's length differs). */
+function turnDigitsAt(role) {
+  return `{"role":"${role}","content":"${TICKET}`.length;
+}
+
+const USER_DIGITS_AT = turnDigitsAt('user');
+const ASSISTANT_DIGITS_AT = turnDigitsAt('assistant');
+
+/** Writes into a buffer at `at` a chat line with the given id; returns the new offset. */
 function putChatLine(buf, at, id, pools, targetBytes) {
   const { user, assistant, tool, system, rand } = pools;
   const start = at;
@@ -188,16 +201,23 @@ function putChatLine(buf, at, id, pools, targetBytes) {
   at += buf.write('","messages":[', at, 'latin1');
   at += system.copy(buf, at);
   let first = true;
+  let turnNo = 0;
+  const putTurn = (pool, digitsAt) => {
+    const piece = pool[Math.floor(rand() * pool.length)];
+    piece.copy(buf, at);
+    buf.write(String((id * 8 + turnNo++) % 10 ** ID_DIGITS).padStart(ID_DIGITS, '0'), at + digitsAt, 'latin1');
+    at += piece.length;
+  };
   do {
     buf[at++] = 44; // ,
-    at += user[Math.floor(rand() * user.length)].copy(buf, at);
+    putTurn(user, USER_DIGITS_AT);
     if (first && rand() < 0.25) {
       buf[at++] = 44;
       at += tool[Math.floor(rand() * tool.length)].copy(buf, at);
     }
     first = false;
     buf[at++] = 44;
-    at += assistant[Math.floor(rand() * assistant.length)].copy(buf, at);
+    putTurn(assistant, ASSISTANT_DIGITS_AT);
   } while (at - start < targetBytes * (0.5 + rand()));
   at += buf.write(']}\n', at, 'latin1');
   return at;
