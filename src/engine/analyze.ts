@@ -98,7 +98,8 @@ export async function analyzeSource(source: RecordSource, options: AnalyzeOption
   try {
     const opts = { ...options, config: await settleConfig(source, options.config, options.signal) };
     await prepareChecks(opts.checks, opts.config);
-    for await (const entry of source.scan({ signal: opts.signal, onProgress: opts.onProgress, want })) {
+    // Entries of other shares are not parsed here: the pool renumbers records in entry order.
+    for await (const entry of source.scan({ signal: opts.signal, onProgress: opts.onProgress, want, exactRecords: want === undefined })) {
       if (opts.signal?.aborted) throw abortError();
       // Sources may deliver entries outside the share; they belong to another worker.
       if (!inShare(entry.entry, share)) continue;

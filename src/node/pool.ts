@@ -15,6 +15,7 @@ import { applyPolicyAll } from '../engine/policy.js';
 import { DEFAULT_STALL_SECONDS } from '../engine/sources/index.js';
 import { jsonlRule } from '../engine/sources/jsonlRules.js';
 import { installTempCleanup } from '../engine/sources/tempFiles.js';
+import { OutcomeSequencer } from './sequencer.js';
 
 /** The finding a stopped read leaves: the message names how long it waited and how far it got. */
 export function stalledFinding(seconds: number, entries: number): Finding {
@@ -85,6 +86,8 @@ export async function analyzeFile(path: string, options: AnalyzeFileOptions): Pr
   const block = opts.block ?? 256;
   const shares: Share[] = Array.from({ length: workers }, (_, i) => ({ index: i, count: workers, block }));
   const progress = new Array<Progress | null>(workers).fill(null);
+  // Record numbers are set here, in entry order, from every share's outcomes.
+  const sequencer = new OutcomeSequencer(workers, block, (os) => opts.onOutcomes(os));
   const threads: Worker[] = [];
   const cleanup = () => {
     for (const t of threads) void t.terminate();
@@ -109,6 +112,7 @@ export async function analyzeFile(path: string, options: AnalyzeFileOptions): Pr
                     if (Date.now() - lastMove < stallSeconds * 1000) return;
                     clearInterval(timer);
                     void w.terminate();
+                    sequencer.finish(i);
                     if (!stalled) {
                       stalled = true;
                       opts.onFileFindings?.(applyPolicyAll([stalledFinding(stallSeconds, Math.max(seen, lastEntries))], opts.config.rules));
@@ -144,9 +148,10 @@ export async function analyzeFile(path: string, options: AnalyzeFileOptions): Pr
                   break;
                 }
                 case 'outcomes':
-                  opts.onOutcomes(ev.outcomes);
+                  sequencer.push(i, ev.outcomes);
                   break;
                 case 'done':
+                  sequencer.finish(i);
                   settle();
                   opts.signal?.removeEventListener('abort', onAbort);
                   resolve();

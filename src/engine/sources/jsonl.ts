@@ -584,11 +584,18 @@ export class JsonlSource implements RecordSource {
       }
     }
     // A pass over the lines in order teaches the index which lines hold no JSON value.
-    const learning = this.complete && this.idx.exactThrough >= entry;
+    let learning = this.complete && this.idx.exactThrough >= entry;
+    const skipParse = opts.exactRecords === false;
     const onLine = (s: number, b: Uint8Array | null, l: number) => {
       const e = entry++;
       if (e >= to) return;
       if (e < from || (opts.want && !opts.want(e))) {
+        if (skipParse && e >= from) {
+          // Counted as a record if it may hold one; the caller renumbers.
+          if (b !== null) records++;
+          learning = false;
+          return;
+        }
         if (b !== null && classifyLine(b) === 'record') records++;
         else if (learning) this.idx.learnInvalid(e);
         if (learning) this.idx.exactThrough = Math.max(this.idx.exactThrough, e + 1);

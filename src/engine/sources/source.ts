@@ -86,6 +86,12 @@ export interface ScanOptions {
    * it still counts them, so record numbers stay right — and callers ignore any it does yield.
    */
   want?: (entry: number) => boolean;
+  /**
+   * False: entries skipped by `want` are not parsed, so record numbers after them count every
+   * skipped entry that may hold a record as one; the caller renumbers (the worker pool does, in
+   * entry order, from every share's outcomes). Default true.
+   */
+  exactRecords?: boolean;
 }
 
 export interface RecordSource {
