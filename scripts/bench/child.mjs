@@ -235,6 +235,14 @@ const modes = {
     return { ms: now() - t0, tokens, bytes };
   },
 
+  /** Plain parsing: every line through readSync + Buffer.indexOf + JSON.parse, nothing else. */
+  async 'ref-parse'({ path }) {
+    const t0 = now();
+    let records = 0;
+    refEachLine(path, () => void records++);
+    return { ms: now() - t0, records };
+  },
+
   /** The hand-written peer: per line JSON.parse, ajv validate, tiktoken count of the content; one thread. */
   async peer({ path, schema, encoding = 'cl100k_base' }) {
     const Ajv = require('ajv/dist/2020').default;
