@@ -302,7 +302,7 @@ async function checkOne(
     const analyze = workers === 0 ? analyzeInThread : analyzeFile;
     await analyze(input.path, {
       config,
-      open: { maxLineBytes: config.maxLineBytes, stallSeconds },
+      open: { maxLineBytes: config.maxLineBytes, stallSeconds, maxReaderBytes: config.maxReaderBytes },
       workers: Math.max(1, workers),
       onInfo: (info) => {
         formatName = info.format;

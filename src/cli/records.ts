@@ -5,6 +5,7 @@ import { createSource } from '../engine/sources/index.js';
 import { traitsOf } from '../engine/sources/traits.js';
 import type { Entry } from '../engine/sources/source.js';
 import { hash64 } from '../engine/policy.js';
+import { configFromValues } from '../engine/project.js';
 import { InputProblem, UsageError, type Parsed } from './options.js';
 
 function count(v: unknown, flag: string, fallback: number, min = 1): number {
@@ -46,7 +47,7 @@ export async function printRecords(parsed: Parsed, out: NodeJS.WritableStream): 
   try {
     const mib = parsed.settings['lines.maxMiB'] as number | undefined;
     const exact = parsed.settings['lines.maxBytes'] as number | undefined;
-    source = createSource(path, { maxLineBytes: exact ?? (mib !== undefined ? mib * 1024 * 1024 : 64 * 1024 * 1024) });
+    source = createSource(path, { maxLineBytes: exact ?? (mib !== undefined ? mib * 1024 * 1024 : 64 * 1024 * 1024), maxReaderBytes: configFromValues(parsed.settings).maxReaderBytes });
   } catch (e) {
     throw new InputProblem((e as Error).message);
   }

@@ -47,6 +47,8 @@ export interface CheckConfig {
   schema: SchemaConfig | null;
   /** A line longer than this many bytes is a finding and is not parsed. */
   maxLineBytes: number;
+  /** The memory cap per reader: a page, row group or batch declaring more is refused with a finding. */
+  maxReaderBytes: number;
   /** Per-rule severity overrides and rules turned off (a project's policy). */
   rules?: RulePolicy;
   /** Also report each record's content hash and field types (for `shardwise stats`). */
@@ -61,6 +63,7 @@ export const DEFAULT_CONFIG: CheckConfig = {
   chat: { roles: ['system', 'user', 'assistant', 'tool'], allowRepeatedRoles: false, requireConversation: 'auto' },
   schema: null,
   maxLineBytes: 64 * 1024 * 1024,
+  maxReaderBytes: 1024 * 1024 * 1024,
 };
 
 export function withDefaults(partial: Partial<CheckConfig> = {}): CheckConfig {

@@ -43,6 +43,7 @@ export const SETTINGS: readonly SettingSpec[] = [
   { key: 'chat.requireConversation', type: 'enum', values: () => ['auto', 'always', 'never'], summary: 'whether a record without a conversation is reported' },
   { key: 'schemas', type: 'map', summary: 'file glob → JSON Schema file every record must match' },
   { key: 'lines.maxMiB', type: 'integer', min: 1, max: 2047, summary: 'lines longer than this many MiB are findings and are not parsed' },
+  { key: 'reading.memoryMiB', type: 'integer', min: 16, max: 3072, summary: 'memory cap per reader in MiB: a Parquet page or row group, or an Arrow batch, declaring more is a read-limit finding, not decoded' },
   { key: 'rules', type: 'map', values: () => RULE_LEVELS, summary: 'rule id → error, warning, info or off' },
   { key: 'check.failOn', type: 'enum', values: () => FAIL_LEVELS, summary: 'the severity that fails a CI run (error, warning or never)' },
   { key: 'check.maxFindings', type: 'integer', min: 1, max: 100_000_000, summary: 'most findings listed per file (all are counted)' },
@@ -261,6 +262,7 @@ export function overlayValues(config: CheckConfig, v: SettingValues): CheckConfi
   if (v['lines.maxMiB'] !== undefined) config.maxLineBytes = (v['lines.maxMiB'] as number) * MIB;
   // The command line's exact byte limit (--max-line-bytes), for tests and special cases.
   if (v['lines.maxBytes'] !== undefined) config.maxLineBytes = v['lines.maxBytes'] as number;
+  if (v['reading.memoryMiB'] !== undefined) config.maxReaderBytes = (v['reading.memoryMiB'] as number) * MIB;
   if (v['layout.default'] !== undefined) config.layout = { ...config.layout, id: v['layout.default'] as string };
   if (v['layout.fields'] !== undefined) config.layout = { ...config.layout, fields: { ...(v['layout.fields'] as LayoutFields) } };
   if (v['chat.roles'] !== undefined) config.chat.roles = [...(v['chat.roles'] as string[])];

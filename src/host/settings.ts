@@ -50,6 +50,7 @@ export async function settingsFor(uri: vscode.Uri): Promise<HostSettings> {
     contextLength: clamp(s.get<number>('tokens.contextLength', 8192), 1, 100_000_000, 8192),
     textFields: s.get<string[]>('text.fields', withDefaults().textFields),
     maxLineBytes: clamp(s.get<number>('lines.maxMiB', 64), 1, 2047, 64) * MIB,
+    maxReaderBytes: clamp(s.get<number>('reading.memoryMiB', 1024), 16, 3072, 1024) * MIB,
   });
   config.layout = layoutFor(s, uri);
   config.chat.roles = s.get<string[]>('chat.roles', config.chat.roles);

@@ -71,7 +71,7 @@ export class ShardDocument implements vscode.CustomDocument {
   async load(): Promise<void> {
     this.settings = await settingsFor(this.uri);
     this.localPath = await this.materialize();
-    const session = new SourceSession(this.localPath, { maxLineBytes: this.settings.config.maxLineBytes, stallSeconds: this.settings.stallSeconds }, {
+    const session = new SourceSession(this.localPath, { maxLineBytes: this.settings.config.maxLineBytes, stallSeconds: this.settings.stallSeconds, maxReaderBytes: this.settings.config.maxReaderBytes }, {
       onInfo: (info) => {
         this.info = info;
         this.fire();
@@ -145,7 +145,7 @@ export class ShardDocument implements vscode.CustomDocument {
           let lastPct = 0;
           await analyzeFile(this.localPath, {
             config: this.settings.config,
-            open: { maxLineBytes: this.settings.config.maxLineBytes, stallSeconds: this.settings.stallSeconds },
+            open: { maxLineBytes: this.settings.config.maxLineBytes, stallSeconds: this.settings.stallSeconds, maxReaderBytes: this.settings.config.maxReaderBytes },
             workers,
             signal: ac.signal,
             onFileFindings: (fs) => {

@@ -17,6 +17,8 @@ export interface OpenOptions {
    * stopped, with a `read-stalled` finding (default DEFAULT_STALL_SECONDS; 0 turns the watchdog off).
    */
   stallSeconds?: number;
+  /** The memory cap per reader: a page, row group or batch declaring more is refused with a finding. */
+  maxReaderBytes?: number;
 }
 
 /** How long a read may make no progress before its worker is stopped. */
@@ -45,7 +47,7 @@ export const FORMATS: readonly FormatEntry[] = [
     endings: ['.json', '.json.gz', '.json.zst'],
     create: (p, o, compression) => new JsonArraySource(p, { maxElementBytes: o.maxLineBytes, compression }),
   },
-  { format: 'parquet', title: 'Parquet', endings: ['.parquet'], create: (p) => new ParquetSource(p) },
+  { format: 'parquet', title: 'Parquet', endings: ['.parquet'], create: (p, o) => new ParquetSource(p, { maxDecodedBytes: o.maxReaderBytes }) },
   { format: 'arrow-file', title: 'an Arrow IPC file', endings: ['.arrow', '.feather'], create: (p) => new ArrowFileSource(p) },
   { format: 'arrow-stream', title: 'an Arrow IPC stream', endings: ['.arrows', '.stream'], create: (p) => new ArrowStreamSource(p) },
 ];
