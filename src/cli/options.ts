@@ -72,7 +72,7 @@ export const OPTIONS: readonly OptionDef[] = [
   { flag: '--write-baseline', value: 'FILE', help: 'write the findings of this run as a baseline file', verbs: ['check'] },
   { flag: '--stall-seconds', value: 'N', help: 'stop reading a file that makes no progress (no record, no byte) for N seconds, with a read-stalled error (default 10; 0 never stops)', verbs: [...CHECKING] },
   { flag: '--workers', value: 'auto|N', help: 'worker threads (default auto: one per core, up to 4)', verbs: [...CHECKING] },
-  { flag: '--in-thread', help: 'check in this thread, without worker threads (small files, debugging)', verbs: [...CHECKING] },
+  { flag: '--in-thread', help: 'check in this thread, without worker threads (small files, debugging); a reader that stops making progress ends the process with a message instead of a report', verbs: [...CHECKING] },
   { flag: '--format', value: 'FORMAT', help: 'output: text or json (check also sarif)', verbs: [...CHECKING, 'merge', 'rules'] },
   { flag: '--output', alias: ['-o'], value: 'FILE', help: 'write the report to FILE instead of standard output (never over the data)', verbs: [...CHECKING, 'merge', ...RECORDS] },
   { flag: '--quiet', alias: ['-q'], help: 'no progress bar on standard error', verbs: [...CHECKING] },

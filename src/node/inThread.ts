@@ -5,10 +5,14 @@ import { analyzeSource, type EntryOutcome } from '../engine/analyze.js';
 import { ALL_CHECKS } from '../engine/checks/index.js';
 import { createSource } from '../engine/sources/index.js';
 import { withFileFindingsOnce, type AnalyzeFileOptions } from './pool.js';
+import { DEFAULT_STALL_SECONDS } from '../engine/sources/index.js';
+import { watchThisThread } from './threadWatchdog.js';
 
 export async function analyzeInThread(path: string, options: AnalyzeFileOptions): Promise<void> {
   const opts = withFileFindingsOnce(options);
   const source = createSource(path, opts.open ?? {});
+  // A reader that spins here blocks this thread: a watcher thread ends the process instead of a hang.
+  const watchdog = watchThisThread(opts.open?.stallSeconds ?? DEFAULT_STALL_SECONDS, path);
   try {
     opts.onInfo?.(await source.open(opts.signal));
     let batch: EntryOutcome[] = [];
@@ -16,8 +20,12 @@ export async function analyzeInThread(path: string, options: AnalyzeFileOptions)
       config: opts.config,
       checks: ALL_CHECKS,
       signal: opts.signal,
-      onProgress: opts.onProgress,
+      onProgress: (p) => {
+        watchdog.beat();
+        opts.onProgress?.(p);
+      },
       onOutcome: (o) => {
+        watchdog.beat();
         batch.push(o);
         if (batch.length >= 500) {
           opts.onOutcomes(batch);
@@ -29,6 +37,7 @@ export async function analyzeInThread(path: string, options: AnalyzeFileOptions)
     const after = source.info();
     opts.onInfo?.(broke ? { ...after, findings: [...after.findings, broke] } : after);
   } finally {
+    watchdog.stop();
     await source.close().catch(() => undefined);
   }
 }

@@ -8,7 +8,9 @@ import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { isMainThread } from 'node:worker_threads';
 
-const PREFIX = 'shardwise-';
+/** Every temporary folder's name starts with this, then the process id. */
+export const TEMP_PREFIX = 'shardwise-';
+const PREFIX = TEMP_PREFIX;
 
 /** Free space a temporary copy always leaves on its disk. */
 export const MIN_FREE_BYTES = 512 * 1024 * 1024;
