@@ -7,6 +7,7 @@ import { readFinding } from './columnarRules.js';
 import { ArrowSourceBase, headerBlock, ipcFinding, type ArrowSourceOptions, type Layout } from './columnar/arrowBase.js';
 import { FILE_MAGIC, MESSAGE_DICTIONARY, MESSAGE_RECORD_BATCH, MESSAGE_SCHEMA, NEWEST_METADATA_VERSION, readFooter, readMessageAt, walkMessages, IpcFormatError, validateSchemaTable } from './columnar/ipc.js';
 import { FbTable } from './columnar/flatbuf.js';
+import { prefetchRanges } from './columnar/byteReader.js';
 
 /** The stream inside an Arrow file starts after the 6-byte magic and 2 bytes of padding. */
 const STREAM_START = 8;
@@ -78,11 +79,13 @@ export class ArrowFileSource extends ArrowSourceBase {
       layout.refused = 'big-endian';
       return layout;
     }
+    // Every dictionary and batch header at once: the footer says where each lies and how long it is.
+    const headers = await prefetchRanges(reader, [...footer.dictionaries, ...footer.batches].map((b) => ({ offset: b.offset, length: b.metaLength })));
     // Each dictionary message is checked as a batch is, before the library reads it.
     for (let k = 0; k < footer.dictionaries.length; k++) {
       const block = footer.dictionaries[k];
       try {
-        const { header } = await readMessageAt(reader, block.offset);
+        const { header } = await readMessageAt(headers, block.offset);
         if (!header || header.type !== MESSAGE_DICTIONARY) throw new IpcFormatError(`footer dictionary block ${k} does not point at a dictionary batch`, 'corrupt');
         layout.dictionaries.push({ ...block, bodyLength: header.bodyLength });
       } catch (e) {
@@ -93,7 +96,7 @@ export class ArrowFileSource extends ArrowSourceBase {
       signal?.throwIfAborted();
       const block = footer.batches[k];
       try {
-        const { header } = await readMessageAt(reader, block.offset);
+        const { header } = await readMessageAt(headers, block.offset);
         if (!header || header.type !== MESSAGE_RECORD_BATCH) throw new IpcFormatError(`footer block ${k} does not point at a record batch`, 'corrupt');
         layout.batches.push({ ...block, bodyLength: header.bodyLength, rows: header.rows, codec: header.codec });
       } catch (e) {

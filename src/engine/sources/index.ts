@@ -48,8 +48,8 @@ export const FORMATS: readonly FormatEntry[] = [
     create: (p, o, compression) => new JsonArraySource(p, { maxElementBytes: o.maxLineBytes, compression }),
   },
   { format: 'parquet', title: 'Parquet', endings: ['.parquet'], create: (p, o) => new ParquetSource(p, { maxDecodedBytes: o.maxReaderBytes }) },
-  { format: 'arrow-file', title: 'an Arrow IPC file', endings: ['.arrow', '.feather'], create: (p) => new ArrowFileSource(p) },
-  { format: 'arrow-stream', title: 'an Arrow IPC stream', endings: ['.arrows', '.stream'], create: (p) => new ArrowStreamSource(p) },
+  { format: 'arrow-file', title: 'an Arrow IPC file', endings: ['.arrow', '.feather'], create: (p, o) => new ArrowFileSource(p, { maxBatchBytes: o.maxReaderBytes }) },
+  { format: 'arrow-stream', title: 'an Arrow IPC stream', endings: ['.arrows', '.stream'], create: (p, o) => new ArrowStreamSource(p, { maxBatchBytes: o.maxReaderBytes }) },
 ];
 
 /** The format a file's name suggests (the longest matching ending), or null. Only a hint: see `sniffFormat`. */

@@ -13,6 +13,7 @@ import { openFileReader, type ReaderFactory } from './byteReader.js';
 import { registerIpcCodecs } from './codecs.js';
 import { END_OF_STREAM, IpcFormatError, MESSAGE_DICTIONARY, unreadableColumns, validateSchemaMessage, type MessageHeader } from './ipc.js';
 import { ByteBudgetCache, batchEntries, groupOf, lostEntries } from './rows.js';
+import { readRowSlice, sliceable } from './rowSlice.js';
 import { schemaColumns } from './toJson.js';
 import { EMPTY_FILE_MESSAGE } from '../jsonl.js';
 
@@ -21,7 +22,15 @@ export interface ArrowSourceOptions {
   openReader?: ReaderFactory;
   /** Bytes of decoded batches kept for paging back and forth. */
   cacheBytes?: number;
+  /** The memory cap: a batch whose body is larger is refused with a read-limit finding, not decoded. */
+  maxBatchBytes?: number;
 }
+
+/** What one batch may hold unless the caller says otherwise (the same default as the Parquet reader's cap). */
+export const DEFAULT_MAX_BATCH_BYTES = 1024 * 1024 * 1024;
+
+/** A batch (or the rows of one) over the memory cap. */
+class BatchLimitError extends Error {}
 
 export interface Block {
   offset: number;
@@ -58,6 +67,8 @@ export abstract class ArrowSourceBase implements RecordSource {
   private firstRows: number[] = [];
   private current: SourceInfo;
   private cache: ByteBudgetCache<RecordBatch | Error>;
+  /** Row ranges of batches read by byte range (a page), by a hash of batch and rows. */
+  private slices: ByteBudgetCache<{ key: string; batch: RecordBatch; base: number }>;
   private schemaBytes: Uint8Array | null = null;
   private dictBytes = new Map<number, Uint8Array>();
 
@@ -67,6 +78,7 @@ export abstract class ArrowSourceBase implements RecordSource {
   ) {
     registerIpcCodecs();
     this.cache = new ByteBudgetCache(opts.cacheBytes ?? 64 * 1024 * 1024);
+    this.slices = new ByteBudgetCache(Math.max(1024 * 1024, (opts.cacheBytes ?? 64 * 1024 * 1024) / 4));
     this.current = { format: 'arrow-file', path, sizeBytes: 0, entries: 0, complete: false, findings: [] };
   }
 
@@ -183,7 +195,9 @@ export abstract class ArrowSourceBase implements RecordSource {
     const layout = this.layout!;
     const b = layout.batches[k];
     let result: RecordBatch | Error;
+    const cap = this.opts.maxBatchBytes ?? DEFAULT_MAX_BATCH_BYTES;
     try {
+      if (b.bodyLength > cap) throw new BatchLimitError(`its body is ${b.bodyLength} bytes, over the ${cap}-byte memory cap; its ${b.rows} rows are not read`);
       const parts: Uint8Array[] = [this.schemaBytes!];
       for (const d of layout.dictionaries) {
         // A stream's dictionaries apply from where they appear; a file's all precede its batches.
@@ -213,7 +227,31 @@ export abstract class ArrowSourceBase implements RecordSource {
     return result;
   }
 
-  async read(start: number, end: number, opts: { columns?: string[]; signal?: AbortSignal } = {}): Promise<Entry[]> {
+  /**
+   * Rows [from, to) of batch k read by byte range, when the batch is not decoded whole already, its
+   * body is uncompressed (a compressed buffer decompresses only from its start) and every column
+   * has a flat layout; null sends the caller to the whole batch.
+   */
+  private async sliceRows(k: number, from: number, to: number): Promise<{ batch: RecordBatch; base: number } | null> {
+    const b = this.layout!.batches[k];
+    if (this.cache.get(k) || b.codec || !this.arrowSchema || !this.schemaBytes || !sliceable(this.arrowSchema) || to - from >= b.rows) return null;
+    const key = `${k}|${from}|${to}`;
+    const hash = hashKey(key);
+    const hit = this.slices.get(hash);
+    if (hit && hit.key === key) return hit;
+    try {
+      const got = await readRowSlice(this.reader!, this.arrowSchema, b, from, to, this.opts.maxBatchBytes ?? DEFAULT_MAX_BATCH_BYTES);
+      if (!got) return null;
+      const value = { key, ...got };
+      this.slices.set(hash, value, (to - from) * 64 + 1024);
+      return value;
+    } catch {
+      // Over the cap (SliceLimitError) or damaged: the whole-batch path refuses or names it.
+      return null;
+    }
+  }
+
+  async read(start: number, end: number, opts: { columns?: string[]; signal?: AbortSignal; whole?: boolean } = {}): Promise<Entry[]> {
     if (!this.layout) await this.index({ signal: opts.signal });
     const total = this.current.entries;
     const s = Math.max(0, start);
@@ -226,8 +264,21 @@ export abstract class ArrowSourceBase implements RecordSource {
       const rows = this.layout!.batches[k].rows;
       const from = Math.max(0, s - first);
       const to = Math.min(rows, e - first);
+      const slice = opts.whole ? null : await this.sliceRows(k, from, to);
+      if (slice) {
+        const rows = batchEntries(slice.batch, k, first + slice.base, from - slice.base, to - slice.base, opts.columns);
+        // batchEntries counts rows inside the slice; the view wants them inside the batch.
+        for (const r of rows) {
+          r.rowInGroup = r.entry - first;
+          for (const f of r.findings) f.rowInGroup = r.rowInGroup;
+        }
+        out.push(...rows);
+        continue;
+      }
       const batch = await this.decodeBatch(k);
-      if (batch instanceof Error) {
+      if (batch instanceof BatchLimitError) {
+        out.push(...lostEntries(k, first, from, to, 'read-limit', `batch ${k}: ${batch.message}`));
+      } else if (batch instanceof Error) {
         out.push(...lostEntries(k, first, from, to, unsupportedOrCorrupt(batch), `batch ${k} does not decode: ${describeArrowError(batch, this.arrowSchema)}`));
       } else {
         out.push(...batchEntries(batch, k, first, from, to, opts.columns));
@@ -249,12 +300,12 @@ export abstract class ArrowSourceBase implements RecordSource {
       const batch = await this.decodeBatch(k);
       if (batch instanceof Error) {
         // One finding for a batch that does not decode; its claimed rows are not walked one by one.
-        if (from <= first) for (const e of await this.read(first, Math.min(end, first + 1), { signal: opts.signal })) yield e;
+        if (from <= first) for (const e of await this.read(first, Math.min(end, first + 1), { signal: opts.signal, whole: true })) yield e;
       } else {
         // In slices: a batch of millions of rows never becomes millions of entries at once.
         for (let lo = Math.max(from, first); lo < end; lo += SCAN_SLICE_ROWS) {
           opts.signal?.throwIfAborted();
-          for (const e of await this.read(lo, Math.min(end, lo + SCAN_SLICE_ROWS), { signal: opts.signal, columns: undefined })) yield e;
+          for (const e of await this.read(lo, Math.min(end, lo + SCAN_SLICE_ROWS), { signal: opts.signal, columns: undefined, whole: true })) yield e;
         }
       }
       // Scans pass once; keep the cache for paging.
@@ -270,6 +321,13 @@ export abstract class ArrowSourceBase implements RecordSource {
     this.reader = null;
     await r?.close();
   }
+}
+
+/** Cache keys are numbers; collisions are caught by comparing the stored key string. */
+function hashKey(s: string): number {
+  let h = 2166136261;
+  for (let i = 0; i < s.length; i++) h = Math.imul(h ^ s.charCodeAt(i), 16777619);
+  return h >>> 0;
 }
 
 function decodeSchema(schemaMessage: Uint8Array): Schema {

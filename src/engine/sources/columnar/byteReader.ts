@@ -99,3 +99,49 @@ export function keepRange(inner: ByteReader, offset: number, bytes: Uint8Array):
     close: () => inner.close(),
   };
 }
+
+/** Gaps up to this many bytes are read through when ranges are coalesced. */
+const COALESCE_GAP = 64 * 1024;
+/** No coalesced read grows past this, so many small neighbours never become one huge read. */
+const COALESCE_MAX = 8 * 1024 * 1024;
+
+/**
+ * Reads the given ranges in as few reads as their neighbourhood allows (neighbours closer than
+ * `gap` bytes are merged) and returns a reader answering reads inside them from memory; other
+ * reads go to `inner`. Used to read every batch header of an Arrow file at once on open.
+ */
+export async function prefetchRanges(inner: ByteReader, ranges: { offset: number; length: number }[], gap = COALESCE_GAP): Promise<ByteReader> {
+  const sorted = ranges.filter((r) => r.length > 0).sort((a, b) => a.offset - b.offset);
+  const merged: { offset: number; end: number }[] = [];
+  for (const r of sorted) {
+    const last = merged[merged.length - 1];
+    const end = Math.min(inner.size, r.offset + r.length);
+    if (last && r.offset - last.end <= gap && end - last.offset <= COALESCE_MAX) last.end = Math.max(last.end, end);
+    else merged.push({ offset: r.offset, end });
+  }
+  const kept: { offset: number; bytes: Uint8Array }[] = [];
+  for (let k = 0; k < merged.length; k += 16) {
+    const part = merged.slice(k, k + 16);
+    const got = await Promise.all(part.map((m) => inner.read(m.offset, m.end - m.offset)));
+    got.forEach((bytes, i) => kept.push({ offset: part[i].offset, bytes }));
+  }
+  return {
+    size: inner.size,
+    async read(at: number, length: number): Promise<Uint8Array> {
+      const lo = Math.max(0, Math.min(at, inner.size));
+      const hi = Math.max(lo, Math.min(at + length, inner.size));
+      // Binary search for the last kept range starting at or before `lo`.
+      let a = 0;
+      let b = kept.length - 1;
+      while (a < b) {
+        const m = (a + b + 1) >> 1;
+        if (kept[m].offset <= lo) a = m;
+        else b = m - 1;
+      }
+      const k = kept[a];
+      if (k && k.offset <= lo && hi <= k.offset + k.bytes.length) return k.bytes.subarray(lo - k.offset, hi - k.offset);
+      return inner.read(at, length);
+    },
+    close: () => inner.close(),
+  };
+}

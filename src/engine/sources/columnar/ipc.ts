@@ -412,3 +412,41 @@ function validateField(f: FbTable, where: string, depth: number, count: { fields
   keyValues(f, 6, label);
   children.forEach((c, k) => validateField(c, `${label}, child ${k + 1}`, depth + 1, count));
 }
+
+/** A record batch's field nodes and body buffers (Message.fbs: RecordBatch.nodes, .buffers). */
+export interface BatchBuffers {
+  nodes: { length: number; nulls: number }[];
+  buffers: { offset: number; length: number }[];
+}
+
+/**
+ * The field nodes and buffers of the record batch message whose prefix + metadata are `meta`
+ * (as the file's block places them); buffer offsets are inside the body. Throws IpcFormatError.
+ */
+export function batchBuffers(meta: Uint8Array, offset: number): BatchBuffers {
+  const dv = new DataView(meta.buffer, meta.byteOffset, meta.byteLength);
+  if (meta.length < 8) throw new IpcFormatError(`message prefix at byte ${offset} is cut short`, 'truncated');
+  const prefix = dv.getInt32(0, true) === -1 ? 8 : 4;
+  const len = dv.getInt32(prefix - 4, true);
+  if (len <= 0 || prefix + len > meta.length) throw new IpcFormatError(`message at byte ${offset} declares ${len} bytes of metadata`, 'corrupt');
+  try {
+    const msg = FbTable.root(meta.subarray(prefix, prefix + len));
+    const batch = msg.uint8(1) === MESSAGE_RECORD_BATCH ? msg.table(2) : null;
+    if (!batch) throw new IpcFormatError(`message at byte ${offset} is not a record batch`, 'corrupt');
+    const out: BatchBuffers = { nodes: [], buffers: [] };
+    const nodes = batch.structVector(1, 16);
+    for (let k = 0; nodes && k < nodes.length; k++) {
+      const p = nodes.start + 16 * k;
+      out.nodes.push({ length: Number(batch.view.getBigInt64(p, true)), nulls: Number(batch.view.getBigInt64(p + 8, true)) });
+    }
+    const buffers = batch.structVector(2, 16);
+    for (let k = 0; buffers && k < buffers.length; k++) {
+      const p = buffers.start + 16 * k;
+      out.buffers.push({ offset: Number(batch.view.getBigInt64(p, true)), length: Number(batch.view.getBigInt64(p + 8, true)) });
+    }
+    return out;
+  } catch (e) {
+    if (e instanceof FlatbufError) throw new IpcFormatError(`message at byte ${offset} has corrupt metadata (${e.message})`, 'corrupt');
+    throw e;
+  }
+}
