@@ -8,7 +8,7 @@ import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { mkdtempSync, readdirSync, readFileSync, rmSync, statSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
-import { Binary, Bool, DateDay, Float64, Int32, Int64, RecordBatchFileWriter, Table, Utf8, tableFromIPC, vectorFromArray } from 'apache-arrow';
+import { Binary, Bool, DateDay, Field, Float64, Int32, Int64, List, RecordBatchFileWriter, Struct, Table, Utf8, tableFromIPC, vectorFromArray } from 'apache-arrow';
 import { ArrowFileSource } from '../../../../src/engine/sources/arrowFile.js';
 import { ArrowStreamSource } from '../../../../src/engine/sources/arrowStream.js';
 import { countingReader, openFileReader } from '../../../../src/engine/sources/columnar/byteReader.js';
@@ -20,7 +20,7 @@ beforeAll(() => {
 });
 afterAll(() => rmSync(dir, { recursive: true, force: true }));
 
-/** Our own repair-desk rows: every flat layout (fixed width, bits, offsets + data), with nulls. */
+/** Our own repair-desk rows: fixed width, bits, offsets + data, and turns as list<struct>, with nulls. */
 function deskTable(rows: number, start: number): Table {
   const ids = Array.from({ length: rows }, (_, i) => start + i);
   return new Table({
@@ -31,6 +31,10 @@ function deskTable(rows: number, start: number): Table {
     note: vectorFromArray(ids.map((i) => (i % 7 === 3 ? null : `spoke ${i}: ${'true the wheel '.repeat(i % 11)}`)), new Utf8()),
     raw: vectorFromArray(ids.map((i) => (i % 4 === 1 ? null : new Uint8Array([i & 255, (i >> 8) & 255, 7]))), new Binary()),
     day: vectorFromArray(ids.map((i) => new Date(Date.UTC(2024, 0, 1 + (i % 400)))), new DateDay()),
+    turns: vectorFromArray(
+      ids.map((i) => (i % 13 === 5 ? null : Array.from({ length: 1 + (i % 3) }, (_, t) => ({ role: t % 2 ? 'assistant' : 'user', content: t === 1 && i % 4 === 0 ? null : `gear ${i}.${t}` })))),
+      new List(new Field('item', new Struct([new Field('role', new Utf8(), true), new Field('content', new Utf8(), true)]), true)),
+    ),
   });
 }
 
@@ -49,14 +53,15 @@ function oracle(p: string, from: number, to: number): unknown[] {
   for (let i = from; i < to; i++) {
     const r = table.get(i)!;
     const big = r.big as bigint;
-    out.push({ id: r.id, big: big > 2n ** 53n - 1n ? big.toString() : Number(big), score: r.score, fixed: r.fixed, note: r.note });
+    const turns = r.turns ? [...r.turns].map((t) => ({ role: t!.role, content: t!.content })) : null;
+    out.push({ id: r.id, big: big > 2n ** 53n - 1n ? big.toString() : Number(big), score: r.score, fixed: r.fixed, note: r.note, turns });
   }
   return out;
 }
 
 const pick = (v: unknown) => {
   const o = v as Record<string, unknown>;
-  return { id: o.id, big: o.big, score: o.score, fixed: o.fixed, note: o.note };
+  return { id: o.id, big: o.big, score: o.score, fixed: o.fixed, note: o.note, turns: o.turns };
 };
 
 describe('a page of an uncompressed Arrow file reads only its rows', () => {
