@@ -36,6 +36,16 @@ const nodeEntries = [
   { in: 'src/node/worker.ts', out: 'worker' },
 ].filter((e) => existsSync(join(root, e.in)));
 
+// The encodings' rank tables (3.3 MB of source) are files of their own beside the bundles, loaded on
+// first use: a worker that never counts tokens does not parse them, and every worker starts faster.
+const RANKS = ['cl100k_base', 'o200k_base'];
+const ranksBeside = {
+  name: 'ranks-beside',
+  setup(b) {
+    b.onResolve({ filter: /^js-tiktoken\/ranks\// }, (a) => (a.kind === 'entry-point' ? undefined : { path: `./ranks/${a.path.split('/').pop()}.js`, external: true }));
+  },
+};
+
 await build({
   ...common,
   entryPoints: nodeEntries.map((e) => ({ in: join(root, e.in), out: e.out })),
@@ -43,9 +53,21 @@ await build({
   platform: 'node',
   format: 'cjs',
   external: ['vscode'],
+  plugins: [ranksBeside],
   // parquet-wasm's node build loads its .wasm from beside the bundle.
   loader: { '.wasm': 'file' },
 });
+for (const n of RANKS) {
+  await build({
+    ...common,
+    sourcemap: false,
+    // module.exports is the table itself, so `(await import(...)).default` is the table in the bundles.
+    stdin: { contents: `const m = require('js-tiktoken/ranks/${n}'); module.exports = m.default ?? m;`, resolveDir: root, loader: 'js' },
+    outfile: join(dist, 'ranks', `${n}.js`),
+    platform: 'node',
+    format: 'cjs',
+  });
+}
 if (existsSync(join(dist, 'cli.js'))) {
   const { readFileSync, writeFileSync } = await import('node:fs');
   const p = join(dist, 'cli.js');
