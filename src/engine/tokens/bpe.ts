@@ -90,7 +90,7 @@ export class BytePairEncoder {
     this.ranks = ranks;
     this.pattern = new RegExp(patternSource, 'gu');
     this.pieceEnd = options.pretokenizer === 'pattern' ? null : (SCANNERS.get(patternSource) ?? null);
-    this.heapThreshold = options.heapThreshold ?? 128;
+    this.heapThreshold = options.heapThreshold ?? 24;
     this.memoLimit = Math.max(1, options.memoLimit ?? 200_000);
     this.counts = new PieceCounts(this.memoLimit);
     this.pairs = new PairRanks(1 << 18);
@@ -196,9 +196,8 @@ export class BytePairEncoder {
     const hash = hashOf(text, start, end);
     const known = counts.get(text, start, end, hash);
     if (known >= 0) return known;
-    const piece = text.slice(start, end);
-    const n = this.mergeCount(piece);
-    counts.set(piece, hash, n);
+    const n = this.mergeCount(text.slice(start, end));
+    counts.set(text, start, end, hash, n);
     return n;
   }
 
@@ -220,8 +219,7 @@ export class BytePairEncoder {
   private mergeCount(piece: string): number {
     const bytes = bytesKey(piece);
     if (this.ranks.has(bytes)) return 1;
-    if (bytes.length >= this.heapThreshold) return this.mergeWithHeap(bytes).length - 1;
-    return this.mergeByPairs(bytes);
+    return bytes.length >= this.heapThreshold ? this.mergeWithHeap(bytes) : this.mergeByPairs(bytes);
   }
 
   /** Token ids of one pre-tokenized piece. */
@@ -229,23 +227,8 @@ export class BytePairEncoder {
     const bytes = bytesKey(piece);
     const whole = this.ranks.get(bytes);
     if (whole !== undefined) return [whole];
-    if (bytes.length < this.heapThreshold) {
-      const parts = this.mergeByPairs(bytes);
-      return Array.from(this.partIds.subarray(0, parts));
-    }
-    const bounds = this.mergeWithHeap(bytes);
-    const ids: number[] = [];
-    for (let i = 0; i + 1 < bounds.length; i++) {
-      const id = this.ranks.get(bytes.slice(bounds[i], bounds[i + 1]));
-      // Every single byte has a rank in the published tables, so a merged part always has one.
-      if (id === undefined) throw new Error('rank table has no entry for a byte sequence');
-      ids.push(id);
-    }
-    return ids;
-  }
-
-  private pairRank(bytes: string, start: number, end: number): number {
-    return this.ranks.get(bytes.slice(start, end)) ?? Infinity;
+    const parts = bytes.length >= this.heapThreshold ? this.mergeWithHeap(bytes) : this.mergeByPairs(bytes);
+    return Array.from(this.partIds.subarray(0, parts));
   }
 
   /** Rank of the token spelled by token a then token b, or NO_RANK; remembered by the id pair. */
@@ -294,98 +277,98 @@ export class BytePairEncoder {
     return m;
   }
 
-  /** Same merge order (lowest rank, then leftmost) with a binary heap and a linked list of parts. */
-  private mergeWithHeap(bytes: string): number[] {
+  /**
+   * Same merge order (lowest rank, then leftmost) with a binary heap and a linked list of parts,
+   * over token id pairs like mergeByPairs. Leaves the ids in `partIds` and returns how many there are.
+   */
+  private mergeWithHeap(bytes: string): number {
     const n = bytes.length;
     const next = new Int32Array(n + 1);
     const prev = new Int32Array(n + 1);
-    const alive = new Uint8Array(n + 1).fill(1);
+    const idAt = new Int32Array(n);
     for (let i = 0; i <= n; i++) {
       next[i] = i + 1;
       prev[i] = i - 1;
     }
-    const heap = new PairHeap();
-    for (let i = 0; i + 2 <= n; i++) {
-      const r = this.pairRank(bytes, i, i + 2);
-      if (r !== Infinity) heap.push(r, i);
+    for (let i = 0; i < n; i++) idAt[i] = this.byteIds[bytes.charCodeAt(i)]!;
+    // Each entry is rank · 2^32 + start: ordered by rank, then by start (exact in a double).
+    const heap = new MinHeap(3 * n + 8);
+    for (let i = 0; i + 1 < n; i++) {
+      const r = this.pairOf(idAt[i]!, idAt[i + 1]!);
+      if (r !== NO_RANK) heap.push(r * 4294967296 + i);
     }
     while (heap.size > 0) {
-      const [r, i] = heap.pop();
-      if (!alive[i] || next[i]! >= n) continue;
+      const top = heap.pop();
+      const i = top % 4294967296;
+      const r = (top - i) / 4294967296;
+      // A part merged into its left neighbour (prev = -2), or a part now at the end.
+      if (prev[i] === -2 || next[i]! >= n) continue;
       const j = next[i]!;
-      // Stale entry: the pair at i changed since it was pushed (equal rank means equal bytes).
-      if (this.pairRank(bytes, i, next[j]!) !== r) continue;
+      // Stale entry: the pair at i changed since it was pushed (equal rank means the same token).
+      if (this.pairOf(idAt[i]!, idAt[j]!) !== r) continue;
+      idAt[i] = r;
       next[i] = next[j]!;
       prev[next[j]!] = i;
-      alive[j] = 0;
+      prev[j] = -2;
       if (next[i]! < n) {
-        const right = this.pairRank(bytes, i, next[next[i]!]!);
-        if (right !== Infinity) heap.push(right, i);
+        const right = this.pairOf(r, idAt[next[i]!]!);
+        if (right !== NO_RANK) heap.push(right * 4294967296 + i);
       }
       if (i > 0) {
         const p = prev[i]!;
-        const left = this.pairRank(bytes, p, next[i]!);
-        if (left !== Infinity) heap.push(left, p);
+        const left = this.pairOf(idAt[p]!, r);
+        if (left !== NO_RANK) heap.push(left * 4294967296 + p);
       }
     }
-    const starts: number[] = [];
-    for (let i = 0; i < n; i = next[i]!) starts.push(i);
-    starts.push(n);
-    return starts;
+    let m = 0;
+    for (let i = 0; i < n; i = next[i]!) m++;
+    if (this.partIds.length < m) {
+      this.partIds = new Int32Array(m);
+      this.partRanks = new Int32Array(m);
+    }
+    let k = 0;
+    for (let i = 0; i < n; i = next[i]!) this.partIds[k++] = idAt[i]!;
+    return m;
   }
 }
 
-/** Min-heap of (rank, start) pairs ordered by rank, then start. */
-class PairHeap {
-  private ranks: number[] = [];
-  private starts: number[] = [];
+/** Min-heap of numbers in a typed array of fixed capacity. */
+class MinHeap {
+  private readonly items: Float64Array;
+  size = 0;
 
-  get size(): number {
-    return this.ranks.length;
+  constructor(capacity: number) {
+    this.items = new Float64Array(capacity);
   }
 
-  private less(a: number, b: number): boolean {
-    const ra = this.ranks[a]!;
-    const rb = this.ranks[b]!;
-    return ra < rb || (ra === rb && this.starts[a]! < this.starts[b]!);
-  }
-
-  private swap(a: number, b: number): void {
-    [this.ranks[a], this.ranks[b]] = [this.ranks[b]!, this.ranks[a]!];
-    [this.starts[a], this.starts[b]] = [this.starts[b]!, this.starts[a]!];
-  }
-
-  push(rank: number, start: number): void {
-    this.ranks.push(rank);
-    this.starts.push(start);
-    let i = this.ranks.length - 1;
+  push(value: number): void {
+    const items = this.items;
+    let i = this.size++;
     while (i > 0) {
       const parent = (i - 1) >> 1;
-      if (!this.less(i, parent)) break;
-      this.swap(i, parent);
+      if (items[parent]! <= value) break;
+      items[i] = items[parent]!;
       i = parent;
     }
+    items[i] = value;
   }
 
-  pop(): [number, number] {
-    const top: [number, number] = [this.ranks[0]!, this.starts[0]!];
-    const lastRank = this.ranks.pop()!;
-    const lastStart = this.starts.pop()!;
-    if (this.ranks.length > 0) {
-      this.ranks[0] = lastRank;
-      this.starts[0] = lastStart;
-      let i = 0;
-      for (;;) {
-        const l = 2 * i + 1;
-        const r = l + 1;
-        let m = i;
-        if (l < this.ranks.length && this.less(l, m)) m = l;
-        if (r < this.ranks.length && this.less(r, m)) m = r;
-        if (m === i) break;
-        this.swap(i, m);
-        i = m;
-      }
+  pop(): number {
+    const items = this.items;
+    const top = items[0]!;
+    const last = items[--this.size]!;
+    const size = this.size;
+    let i = 0;
+    for (;;) {
+      const l = 2 * i + 1;
+      if (l >= size) break;
+      const r = l + 1;
+      const c = r < size && items[r]! < items[l]! ? r : l;
+      if (items[c]! >= last) break;
+      items[i] = items[c]!;
+      i = c;
     }
+    if (size > 0) items[i] = last;
     return top;
   }
 }
@@ -404,16 +387,17 @@ function hashOf(text: string, start: number, end: number): number {
 
 /**
  * Token counts of short pieces in an open-addressing table: a piece is found by its hash and
- * compared in place in the text it came from, so a known piece costs no string. When the table
- * holds `limit` pieces it is emptied (the frequent pieces come back at once).
+ * compared in place with its chars, which the table keeps in one char pool, so a known piece costs
+ * no string and the table holds no objects for the collector. When it holds `limit` pieces it is
+ * emptied (the frequent pieces come back at once).
  */
 class PieceCounts {
   private readonly mask: number;
   private readonly limit: number;
-  private readonly hashes: Int32Array;
-  /** count + 1 per slot; 0 marks an empty slot. */
-  private readonly values: Int32Array;
-  private readonly keys: (string | undefined)[];
+  /** Per slot: hash, count + 1 (0 marks an empty slot), offset in the pool, length. */
+  private readonly slots: Int32Array;
+  private pool = new Uint16Array(1 << 16);
+  private used = 0;
   private size = 0;
 
   constructor(limit: number) {
@@ -421,35 +405,54 @@ class PieceCounts {
     while (capacity < limit * 2) capacity *= 2;
     this.mask = capacity - 1;
     this.limit = limit;
-    this.hashes = new Int32Array(capacity);
-    this.values = new Int32Array(capacity);
-    this.keys = new Array<string | undefined>(capacity).fill(undefined);
+    this.slots = new Int32Array(capacity * 4);
   }
 
   /** The count of text[start, end) or -1. */
   get(text: string, start: number, end: number, hash: number): number {
+    const slots = this.slots;
     const length = end - start;
     for (let slot = hash & this.mask; ; slot = (slot + 1) & this.mask) {
-      const v = this.values[slot]!;
+      const at = slot * 4;
+      const v = slots[at + 1]!;
       if (v === 0) return -1;
-      if (this.hashes[slot] === hash) {
-        const key = this.keys[slot]!;
-        if (key.length === length && text.startsWith(key, start)) return v - 1;
+      if (slots[at] === hash && slots[at + 3] === length) {
+        const pool = this.pool;
+        let k = slots[at + 2]!;
+        let i = start;
+        while (i < end && pool[k] === text.charCodeAt(i)) {
+          k++;
+          i++;
+        }
+        if (i === end) return v - 1;
       }
     }
   }
 
-  set(piece: string, hash: number, count: number): void {
+  /** Remembers the count of text[start, end), which `get` has just not found. */
+  set(text: string, start: number, end: number, hash: number, count: number): void {
+    const length = end - start;
     if (this.size >= this.limit) {
-      this.values.fill(0);
-      this.keys.fill(undefined);
+      this.slots.fill(0);
       this.size = 0;
+      this.used = 0;
     }
+    if (this.used + length > this.pool.length) {
+      const grown = new Uint16Array(Math.max(this.pool.length * 2, this.used + length));
+      grown.set(this.pool.subarray(0, this.used));
+      this.pool = grown;
+    }
+    const pool = this.pool;
+    const offset = this.used;
+    for (let i = 0; i < length; i++) pool[offset + i] = text.charCodeAt(start + i);
+    this.used += length;
     let slot = hash & this.mask;
-    while (this.values[slot] !== 0) slot = (slot + 1) & this.mask;
-    this.hashes[slot] = hash;
-    this.values[slot] = count + 1;
-    this.keys[slot] = piece;
+    while (this.slots[slot * 4 + 1] !== 0) slot = (slot + 1) & this.mask;
+    const at = slot * 4;
+    this.slots[at] = hash;
+    this.slots[at + 1] = count + 1;
+    this.slots[at + 2] = offset;
+    this.slots[at + 3] = length;
     this.size++;
   }
 }
