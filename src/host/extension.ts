@@ -7,7 +7,8 @@ import { PROJECT_FILE } from '../engine/project.js';
 import { PLACE_HINT, parsePlace } from '../engine/places.js';
 import { tokenizerLabel, tokenizerOf } from '../engine/tokens/tokenizer.js';
 import { chooseTokenizer } from './tokenizerPicker.js';
-import { ShardDiagnostics } from './diagnostics.js';
+import { FINDINGS_SCHEME, ShardDiagnostics } from './diagnostics.js';
+import { ProblemsReveal } from './problemsReveal.js';
 import { RECORD_TEXT_SCHEME, recordTexts } from './openText.js';
 import { PANEL_VIEW_ID, PanelViewProvider } from './panelView.js';
 import { RECORD_VIEW_TYPE, RecordEditorProvider, noSuchPlace } from './recordEditor.js';
@@ -20,6 +21,7 @@ export function activate(context: vscode.ExtensionContext): void {
   const editors = new RecordEditorProvider(context);
   const panel = new PanelViewProvider(context, editors);
   const diagnostics = new ShardDiagnostics();
+  const reveal = new ProblemsReveal(diagnostics, editors);
   const docs = new Set<ShardDocument>();
 
   context.subscriptions.push(
@@ -34,6 +36,7 @@ export function activate(context: vscode.ExtensionContext): void {
     vscode.window.registerWebviewViewProvider(PANEL_VIEW_ID, panel, { webviewOptions: { retainContextWhenHidden: true } }),
     vscode.workspace.registerTextDocumentContentProvider(RECORD_TEXT_SCHEME, recordTexts),
     diagnostics,
+    reveal,
   );
 
   // While any shard is being checked, Stop shows (a context key for the menus' when clauses).
@@ -146,7 +149,8 @@ export function activate(context: vscode.ExtensionContext): void {
     }),
     vscode.commands.registerCommand('shardwise.showReport', () => vscode.commands.executeCommand(`${PANEL_VIEW_ID}.focus`)),
     vscode.workspace.onDidCloseTextDocument((t) => {
-      if (![...docs].some((d) => d.uri.toString() === t.uri.toString())) diagnostics.collection.delete(t.uri);
+      if (t.uri.scheme === FINDINGS_SCHEME) return;
+      if (![...docs].some((d) => d.uri.toString() === t.uri.toString())) diagnostics.clearFile(t.uri);
     }),
     // Trust granted: the settings held back apply now.
     vscode.workspace.onDidGrantWorkspaceTrust(() => {
@@ -154,7 +158,7 @@ export function activate(context: vscode.ExtensionContext): void {
     }),
     vscode.workspace.onDidChangeConfiguration((e) => {
       if (!e.affectsConfiguration(SECTION)) return;
-      for (const d of docs) if (e.affectsConfiguration(SECTION, d.uri)) void d.analyze();
+      for (const d of docs) if (e.affectsConfiguration(SECTION, d.uri)) void d.settingsChanged();
     }),
     // A project file (shardwise.json) that appears, changes or goes away re-checks the shards below it.
     ...(() => {

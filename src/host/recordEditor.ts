@@ -49,9 +49,20 @@ export class RecordEditorProvider implements vscode.CustomReadonlyEditorProvider
     return this.current;
   }
 
+  /** Open shards by URI, including those lingering after their last record view closed. */
+  private readonly shards = new Map<string, ShardDocument>();
+
   async openCustomDocument(uri: vscode.Uri): Promise<ShardDocument> {
+    const key = uri.toString();
+    // A record view replaced for a moment (a preview tab taken by a Problems entry) comes back to its shard as it was.
+    const kept = this.shards.get(key);
+    if (kept?.revive()) return kept;
     const doc = new ShardDocument(uri);
+    this.shards.set(key, doc);
     doc.onDidChange(() => this.docsChanged.fire(doc));
+    doc.onDidDispose(() => {
+      if (this.shards.get(key) === doc) this.shards.delete(key);
+    });
     return doc;
   }
 
@@ -120,8 +131,14 @@ export class RecordEditorProvider implements vscode.CustomReadonlyEditorProvider
         postView({ error: (err as Error).message });
       }
     };
+    /** A selection asked for while the webview is hidden or reloading: made once it is ready again. */
+    let pendingSelect: { entry: number; pointer?: string } | null = null;
     /** Selects an entry, leaving the view first when it does not show it. */
     const selectEntry = (entry: number, pointer?: string) => {
+      if (!ready || !panel.visible) {
+        pendingSelect = { entry, pointer };
+        return;
+      }
       if (view && view.positionOf(entry) < 0) {
         view = null;
         viewGen++;
@@ -179,7 +196,11 @@ export class RecordEditorProvider implements vscode.CustomReadonlyEditorProvider
         // Keep the last shard in the panel while another editor has focus.
       }
     };
-    panel.onDidChangeViewState(setActive);
+    panel.onDidChangeViewState(() => {
+      // A hidden webview is not kept: it reloads when shown again and says so with a new 'ready'.
+      if (!panel.visible) ready = false;
+      setActive();
+    });
 
     let lastEntries = -1;
     let lastComplete = false;
@@ -212,6 +233,10 @@ export class RecordEditorProvider implements vscode.CustomReadonlyEditorProvider
       });
       lastLayout = '';
       sendLayout();
+      const pending = pendingSelect ?? this.pendingReveal.get(key);
+      pendingSelect = null;
+      this.pendingReveal.delete(key);
+      if (pending) selectEntry(pending.entry, pending.pointer);
       if (document.settings?.trustNote) post({ type: 'notice', message: document.settings.trustNote, action: { label: vscode.l10n.t('Manage Workspace Trust'), id: 'manageTrust' } });
       // A file that opens broken (no footer, cut short) says so at the top, not only in the panel.
       const broken = now.findings.filter((f) => f.severity === 'error');
@@ -224,6 +249,7 @@ export class RecordEditorProvider implements vscode.CustomReadonlyEditorProvider
     // Token counts and markers arrive with the analysis: refresh the rows on screen now and then.
     let lastRefresh = 0;
     let lastPhase = document.phase;
+    let lastTally = document.tally;
     let lastLayout = '';
     const sendLayout = () => {
       const l = document.tally.layout();
@@ -237,8 +263,10 @@ export class RecordEditorProvider implements vscode.CustomReadonlyEditorProvider
       if (!ready || !document.info) return;
       sendLayout();
       const now = Date.now();
-      if (columns.length && (document.phase !== lastPhase || (document.phase === 'analysing' && now - lastRefresh > 1500))) {
+      // A new tally (a new context length answered from the kept counts) changes the markers too.
+      if (columns.length && (document.phase !== lastPhase || document.tally !== lastTally || (document.phase === 'analysing' && now - lastRefresh > 1500))) {
         lastPhase = document.phase;
+        lastTally = document.tally;
         lastRefresh = now;
         post({ type: 'refresh' });
       }
@@ -435,6 +463,22 @@ export class RecordEditorProvider implements vscode.CustomReadonlyEditorProvider
   revealInActive(document: ShardDocument, entry: number, pointer?: string): boolean {
     return this.withEditorOf(document, (ed) => ed.select(entry, pointer));
   }
+
+  /** Brings the document's record view forward without changing its selection. */
+  revealEditorOf(document: ShardDocument): boolean {
+    return this.withEditorOf(document, () => undefined);
+  }
+
+  /** The open shard of a file, if a record view shows it. */
+  documentOf(uri: vscode.Uri): ShardDocument | undefined {
+    return [...this.editors].find((e) => e.document.uri.toString() === uri.toString())?.document;
+  }
+
+  /** Selects an entry in the record view of `uri` that is about to open, once it shows its first page. */
+  revealWhenOpen(uri: vscode.Uri, entry: number, pointer?: string): void {
+    this.pendingReveal.set(uri.toString(), { entry, pointer });
+  }
+  private readonly pendingReveal = new Map<string, { entry: number; pointer?: string }>();
 }
 
 function safe<T>(f: () => T): T | null {

@@ -16,6 +16,8 @@ import type { FindingView, ShardSummary } from '../protocol.js';
 import { settingsFor, type HostSettings } from './settings.js';
 import { traitsOf } from '../engine/sources/traits.js';
 import { ResultsStore } from './resultsStore.js';
+import { onlyContextLengthChanged, recontext, recordsNeedingPlaces, type RecordPlace } from './recontext.js';
+import { locatePointer } from '../engine/json/scan.js';
 import { formatPlace, targetIndex, type PlaceTarget } from '../engine/places.js';
 import { initialProgress, nextProgress, panelText, windowText, type ProgressEvent, type ProgressState } from '../engine/progress.js';
 
@@ -114,8 +116,62 @@ export class ShardDocument implements vscode.CustomDocument {
     return local;
   }
 
+  /** Whole-file checks started by any shard (each one tokenises every record); read by the tests. */
+  static checksStarted = 0;
+  /** True when the report shown follows a new context length from the kept counts (no check ran for it). */
+  recontexted = false;
+
+  /**
+   * The settings changed: a new context length alone is answered from the per-record token counts
+   * already kept (no record is tokenised again); any other change checks the shard again.
+   */
+  async settingsChanged(): Promise<void> {
+    const before = this.settings;
+    const after = await settingsFor(this.uri);
+    if (this.phase === 'done' && before && onlyContextLengthChanged(before.config, after.config) && (await this.recontext(after))) return;
+    this.settings = after;
+    await this.analyze(false);
+  }
+
+  private async recontext(after: HostSettings): Promise<boolean> {
+    const snap = this.tally.snapshot();
+    const length = after.config.contextLength;
+    const places = new Map<number, RecordPlace>();
+    const want = recordsNeedingPlaces(snap, length);
+    // A record's place, as the analysis gives it: its entry, line and the column where its value starts.
+    const entries = want.map((r) => this.recordEntry[r] ?? -1);
+    if (entries.some((e) => e < 0) || !this.session) return false;
+    for (const [i, e] of entries.entries()) {
+      const [x] = await this.session.read(e, e + 1);
+      if (!x) return false;
+      const column = x.line !== null && x.text !== undefined ? (locatePointer(x.text, '')?.column ?? 1) : null;
+      places.set(want[i], { entry: e, line: x.line, column });
+    }
+    const next = recontext(snap, length, places, { tokenizer: tokenizerLabel(tokenizerOf(after.config)), rendered: snap.renderedTotal !== null, rules: after.config.rules });
+    if (!next) return false;
+    ++this.generation;
+    this.analysis?.abort();
+    this.settings = after;
+    this.tally = ShardTally.restore(next);
+    this.byEntry = new Map();
+    this.byId = new Map();
+    this.ids = new WeakMap();
+    for (const f of this.tally.findings) {
+      if (f.entry === null) continue;
+      const list = this.byEntry.get(f.entry) ?? [];
+      list.push(f);
+      this.byEntry.set(f.entry, list);
+    }
+    this.recontexted = true;
+    this.fire();
+    void this.keep();
+    return true;
+  }
+
   /** Runs (or re-runs, after a settings change) the whole-file analysis with progress. */
   async analyze(rereadSettings = true): Promise<void> {
+    ShardDocument.checksStarted++;
+    this.recontexted = false;
     this.analysis?.abort();
     const ac = new AbortController();
     this.analysis = ac;
@@ -355,7 +411,7 @@ export class ShardDocument implements vscode.CustomDocument {
       findingsByRule: Object.fromEntries(this.tally.byRule),
       phase: this.phase,
       progress: this.progress,
-      progressText: `${panelText(this.progressState, this.info ? traitsOf(this.info.format).entries : 'lines').text}${this.kept ? ' (kept from an earlier check)' : ''}`,
+      progressText: `${panelText(this.progressState, this.info ? traitsOf(this.info.format).entries : 'lines').text}${this.kept ? ' (kept from an earlier check)' : ''}${this.recontexted ? ' (context length changed: the kept token counts were used)' : ''}`,
       indexed: this.progressState.indexComplete ? 1 : this.progressState.indexed,
       error: this.error,
     };
@@ -390,7 +446,34 @@ export class ShardDocument implements vscode.CustomDocument {
     this.changed.fire();
   }
 
+  /** How long a shard whose last record view closed stays ready to come back (see `revive`). */
+  static lingerMs = 5000;
+  private lingerTimer: NodeJS.Timeout | null = null;
+  private disposed = false;
+
+  /**
+   * VS Code calls this when the shard's last record view closes. The shard stays `lingerMs` longer:
+   * a record view that a moment's preview replaced (a Problems entry opening in its preview tab)
+   * comes back without indexing and checking again.
+   */
   dispose(): void {
+    if (this.disposed || this.lingerTimer) return;
+    if (ShardDocument.lingerMs <= 0) return this.disposeNow();
+    this.lingerTimer = setTimeout(() => this.disposeNow(), ShardDocument.lingerMs);
+  }
+
+  /** Takes back a lingering shard for a new record view; false when it is gone (or was never closed). */
+  revive(): boolean {
+    if (this.disposed || !this.lingerTimer) return false;
+    clearTimeout(this.lingerTimer);
+    this.lingerTimer = null;
+    return true;
+  }
+
+  private disposeNow(): void {
+    if (this.disposed) return;
+    this.disposed = true;
+    this.lingerTimer = null;
     this.analysis?.abort();
     this.session?.dispose();
     if (this.tempDir) void rm(this.tempDir, { recursive: true, force: true });

@@ -127,6 +127,34 @@ function readPanel(frame) {
   });
 }
 
+/** The Problems panel's group of a data file (its entries are filed under "<name> (Shardwise)") and its count. */
+async function problemsGroup(name, timeoutMs = 20000) {
+  await wb.runCommand('View: Focus Problems');
+  const row = wb.page.locator('.markers-panel .monaco-list-row').filter({ hasText: `${name} (Shardwise)` }).first();
+  await row.waitFor({ timeout: timeoutMs });
+  return { row, count: countOf(await row.locator('.monaco-count-badge').first().innerText()) };
+}
+
+/** Sets the Problems panel's filter text (what its messages must hold; '' shows all). */
+async function filterProblems(text) {
+  await wb.runCommand('View: Focus Problems');
+  const box = wb.page.locator('.part.panel input[placeholder^="Filter (e.g. text"]').first();
+  await box.waitFor({ timeout: 10000 });
+  await box.fill(text);
+}
+
+/** Activates (double-clicks) the first Problems entry whose text matches `re` (among those the filter text shows); returns its message and [Ln, Col]. */
+async function activateProblem(re, filterText) {
+  await filterProblems(filterText);
+  const entry = wb.page.locator('.markers-panel .monaco-list-row').filter({ hasText: re }).first();
+  await entry.waitFor({ timeout: 20000 });
+  const text = (await entry.innerText()).replace(/\s+/g, ' ');
+  const m = /\[Ln (\d+), Col (\d+)\]/.exec(text);
+  assert(m, `the Problems entry "${text}" names no place`);
+  await entry.dblclick();
+  return { text, line: Number(m[1]), column: Number(m[2]), pointer: /\(at (\/[^)]*)\)/.exec(text)?.[1] ?? null };
+}
+
 /** Folds white space the way the record view's cells do, for comparing a value with its cell. */
 const fold = (s) => String(s).replace(/\s+/g, ' ');
 
@@ -339,7 +367,14 @@ async function main() {
     assert(schemaFinding, 'no schema finding from the previous step');
     const { frame } = await panelFor(chat);
     await frame.locator('.sw-filter-text').fill('schema-violation');
-    await frame.locator('.sw-finding[data-rule="schema-violation"] .sw-open-text').first().click();
+    // The shard's entries in Problems before the text opens (they must stay: the record view stays open).
+    const before = await waitFor(`${chat}'s entries in Problems`, async () => {
+      const g = await problemsGroup(chat);
+      return g.count > 0 ? g.count : null;
+    }, 20000);
+    const { frame: panelAgain } = await panelFor(chat);
+    await panelAgain.locator('.sw-filter-text').fill('schema-violation');
+    await panelAgain.locator('.sw-finding[data-rule="schema-violation"] .sw-open-text').first().click();
     let seen = '';
     const at = await waitFor('the text editor with its cursor placed', async () => {
       const tab = await wb.activeTab().catch((e) => `(no tab: ${e.message.split('\n')[0]})`);
@@ -354,9 +389,73 @@ async function main() {
     assert(ch !== undefined && /["{[\-0-9tfn]/.test(ch), `the cursor is not at the start of a JSON value or name (found ${JSON.stringify(ch)})`);
     // The record view is still open beside the text (its tab is not replaced), and its findings still count.
     await wb.recordView(chat, 10000);
+    const after = (await problemsGroup(chat)).count;
+    assert(after === before, `Problems counted ${before} entries for ${chat} before the text opened, ${after} after`);
+    await wb.recordView(chat, 10000);
     // Leave the panel unfiltered for the next shards' screenshots.
-    await frame.locator('.sw-filter-text').fill('');
+    await (await panelFor(chat)).frame.locator('.sw-filter-text').fill('');
   });
+
+  /**
+   * Closes every editor and waits until Problems lists no other shard's entries (but those of
+   * the chat shard, whose text document the workbench may keep open a while after "open at line").
+   */
+  const onlyShard = async (name) => {
+    await wb.runCommand('View: Close All Editors');
+    await waitFor('Problems to list no other shard', async () => {
+      await wb.runCommand('View: Focus Problems');
+      const groups = await wb.page.locator('.markers-panel .monaco-list-row').filter({ hasText: '(Shardwise)' }).allInnerTexts();
+      return groups.every((g) => g.startsWith(`${name} (Shardwise)`) || g.startsWith(`${chat} (Shardwise)`));
+    }, 30000);
+    await wb.openFromExplorer(name);
+    const frame = await wb.recordView(name, 60000);
+    await panelFor(name);
+    return frame;
+  };
+
+  /** Waits for the record view of `name` (found afresh each time: a hidden view reloads) to select the row shown as `place`. */
+  const selectedIn = (name, place) =>
+    waitFor(`the record view of ${name} to select ${place}`, async () => {
+      const frame = await wb.recordView(name, 5000);
+      const v = await readRecordView(frame);
+      const s = v.rows.find((r) => r.selected && !r.loading);
+      return s && s.place.trim() === place && v.detailTitle !== null ? { v, frame } : null;
+    }, 20000).catch(async (e) => {
+      const v = await readRecordView(await wb.recordView(name, 5000)).catch(() => null);
+      throw new Error(`${e.message}; selected: ${v?.rows.find((r) => r.selected)?.place ?? 'none'}`);
+    });
+
+  await step(`a Problems entry of ${chat} selects its record in the record view and reveals the field`, async () => {
+    await onlyShard(chat);
+    try {
+      const hit = await activateProblem(/\(at \/[^)]+\)/, '(at ');
+      const { v, frame } = await selectedIn(chat, String(hit.line));
+      assert(v.detailTitle.includes(String(hit.line)), `detail title "${v.detailTitle}" does not name line ${hit.line}`);
+      // RFC 6901: the revealed node's pointer is the finding's pointer or its nearest shown parent.
+      const revealed = await waitFor('the revealed field', () => frame.evaluate(() => document.querySelector('.sw-node-revealed')?.dataset.pointer ?? null), 10000);
+      assert(hit.pointer.startsWith(revealed), `the detail reveals ${revealed}, the entry names ${hit.pointer}`);
+      // Still the record view: no text editor took its place.
+      const tab = (await wb.activeTab()).replace(/\s+/g, '');
+      assert(tab.includes(chat) && (await wb.activeEditorKind()) === 'other', `the active editor is ${tab} (${await wb.activeEditorKind()})`);
+    } finally {
+      await filterProblems('');
+    }
+  });
+
+  const columnar = shards.find((s) => s.endsWith('.parquet'));
+  if (columnar) {
+    await step(`a Problems entry of a row of ${columnar} selects that row in the record view`, async () => {
+      await onlyShard(columnar);
+      try {
+        const hit = await activateProblem(/row \d+: /, 'row ');
+        const row = /row (\d+):/.exec(hit.text)[1];
+        assert(Number(row) === hit.line, `the entry names row ${row} at Ln ${hit.line}`);
+        await selectedIn(columnar, `row ${row}`);
+      } finally {
+        await filterProblems('');
+      }
+    });
+  }
 
   await step(`Problems panel counts the findings of ${broken}`, async () => {
     assert(broken && facts.get(broken).invalid + facts.get(broken).blank > 0, 'no JSONL demo shard has a broken line');
@@ -365,10 +464,7 @@ async function main() {
     const { p } = await panelFor(broken);
     const panelTotal = Object.values(p.severities).reduce((a, b) => a + (countOf(b) || 0), 0);
     const max = manifest.contributes?.configuration?.properties?.['shardwise.problems.max']?.default ?? Infinity;
-    await wb.runCommand('View: Focus Problems');
-    const fileRow = wb.page.locator('.markers-panel .monaco-list-row').filter({ hasText: broken }).first();
-    await fileRow.waitFor({ timeout: 20000 });
-    const shown = countOf(await fileRow.locator('.monaco-count-badge').first().innerText());
+    const shown = (await problemsGroup(broken)).count;
     assert(shown === Math.min(panelTotal, max), `Problems shows ${shown} for ${broken}, the side panel ${panelTotal}`);
     const f = facts.get(broken);
     // JSON Lines: every blank line and every line JSON.parse rejects is at least one finding.
@@ -497,6 +593,9 @@ async function main() {
 
   await step(`reopening a checked shard (${chat}) shows its report at once, without a new check`, async () => {
     await wb.runCommand('View: Close All Editors');
+    // A shard stays ready for 5 s after its last record view closes (a view replaced by a moment's
+    // preview comes back as it was, src/host/shardDocument.ts): past that, reopening reads the store.
+    await new Promise((r) => setTimeout(r, 6000));
     await wb.openFromExplorer(chat);
     await wb.recordView(chat);
     const { frame } = await panelFor(chat, { done: false });
@@ -536,6 +635,38 @@ async function main() {
   await step(`token counts of ${textShard} rows match the ${otherEncoding} reference after the change`, async () => {
     assert(textShard, 'no JSONL demo shard keeps its text in a "text" field');
     await expectRowTokens(textShard, facts.get(textShard), otherEncoding);
+  });
+
+  await step(`a new context length for ${chat} is answered from the kept token counts, as a new check answers it`, async () => {
+    await wb.openFromExplorer(chat);
+    await wb.recordView(chat);
+    const { frame } = await panelFor(chat);
+    const p50 = countOf(await frame.locator('[data-stat="p50"] .sw-stat-value').innerText());
+    assert(p50 > 0, 'the panel shows no p50');
+    const overOf = async () => {
+      const m = /Over ([\d.,\s\u202f]+) tokens: ([\d.,\s\u202f]+) record/.exec(await frame.locator('[data-stat="overContext"]').innerText());
+      return m ? { length: countOf(m[1]), records: countOf(m[2]) } : null;
+    };
+    const title = (id) => { const c = manifest.contributes.commands.find((x) => x.command === id); assert(c, `package.json contributes no ${id}`); return `${c.category}: ${c.title}`; };
+    // The user's settings file changes, as when the setting is edited by hand (the workbench tells the extension).
+    const userSettings = join(server.workDir, 'user-data', 'User', 'settings.json');
+    writeFileSync(userSettings, JSON.stringify({ ...JSON.parse(readFileSync(userSettings, 'utf8')), 'shardwise.tokens.contextLength': p50 }, null, 2));
+    const fromKept = await waitFor(`the over-context count at ${p50} tokens from the kept counts`, async () => {
+      const t = await frame.locator('.sw-progress-text').innerText().catch(() => '');
+      const o = await overOf();
+      return /kept token counts were used/.test(t) && o && o.length === p50 ? o : null;
+    }, 30000);
+    // Nearest-rank p50: at most half the records are longer than it, and some are (the demo's lengths vary).
+    assert(fromKept.records > 0, `no record is over the shard's p50 (${p50})`);
+    // The reference: the whole shard checked again at that length, every record tokenised anew.
+    await wb.runCommand(title('shardwise.checkAgain'));
+    const fresh = await waitFor('the new check at the same length', async () => {
+      const t = await frame.locator('.sw-progress-text').innerText().catch(() => '');
+      const p = await readPanel(frame);
+      const o = await overOf();
+      return p.phase === 'done' && !/kept token counts/.test(t) && o ? o : null;
+    }, 120000);
+    assert(fresh.records === fromKept.records && fresh.length === p50, `from the kept counts ${fromKept.records} records over ${p50}, a new check says ${fresh.records} over ${fresh.length}`);
   });
 
   await step('nothing written: every data file has the bytes and modification time it had before the run', async () => {
