@@ -87,7 +87,10 @@ export function getTokenCounter(encoding: EncodingName): TokenCounter {
 }
 
 /** What a rank table and a pattern family give, before the table is named as one of ours. */
-export type BpeCounter = Pick<TokenCounter, 'count' | 'encode' | 'encodeWithSpecial' | 'specialTokens'>;
+export type BpeCounter = Pick<TokenCounter, 'count' | 'encode' | 'encodeWithSpecial' | 'specialTokens'> & {
+  /** Number of ids `encodeWithSpecial` gives, counted without building them. */
+  countWithSpecial(text: string): number;
+};
 
 /** Builds a counter from any rank table and the pattern family it uses (gpt2, cl100k_base, o200k_base). */
 export function createBpeCounter(table: RankTable, pattern: PatternName, options?: EncoderOptions): BpeCounter {
@@ -112,6 +115,15 @@ export function createBpeCounter(table: RankTable, pattern: PatternName, options
       append(bpe.encodeOrdinary(text.slice(from)));
       return out;
     },
+    countWithSpecial(text) {
+      let n = 0;
+      let from = 0;
+      for (const hit of findSpellings(text, specialTokens)) {
+        n += bpe.countOrdinary(text.slice(from, hit.index)) + 1;
+        from = hit.index + hit.token.length;
+      }
+      return n + bpe.countOrdinary(from === 0 ? text : text.slice(from));
+    },
   };
 }
 
@@ -126,7 +138,7 @@ export function createTokenCounter(encoding: EncodingName, table: RankTable, opt
     specialsInContent: 'text',
     chatTemplate: null,
     ...bpe,
-    countRendered: (text) => bpe.encodeWithSpecial(text).length,
+    countRendered: (text) => bpe.countWithSpecial(text),
     encodeRendered: (text) => bpe.encodeWithSpecial(text),
   };
 }

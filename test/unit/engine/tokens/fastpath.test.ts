@@ -123,6 +123,22 @@ describe.each(['o200k_base', 'cl100k_base'] as const)('%s fast counting path aga
     expect(records.reduce((n, r) => n + fresh.count(r), 0)).toBe(theirs);
   });
 
+  it('counts a rendered sequence with special tokens as the reference encodes it with all specials allowed', () => {
+    const rand = prng(seed + 2);
+    const spellings = Object.keys(TABLES[encoding].special_tokens);
+    for (let i = 0; i < 500; i++) {
+      let text = corpusText(rand);
+      for (let k = Math.floor(rand() * 4); k > 0; k--) {
+        const at = Math.floor(rand() * (text.length + 1));
+        text = text.slice(0, at) + spellings[Math.floor(rand() * spellings.length)]! + text.slice(at);
+      }
+      // Oracle: tiktoken (WASM) encode with allowed_special = 'all'.
+      const expected = reference.encode(text, 'all');
+      expect(counter.countRendered(text), escapeText(text)).toBe(expected.length);
+      expect(sameIds(counter.encodeRendered(text), expected), escapeText(text)).toBe(true);
+    }
+  });
+
   it('counts long runs of each white-space character and of spaces and newlines as the reference does', () => {
     for (const ch of [...WHITE_SPACE_AND_KIN, ' \n', '\r\n', '\n\n ']) {
       for (const length of [1, 2, 3, 47, 48, 49, 130, 1000]) {
