@@ -15,6 +15,8 @@ export interface KeptResults {
   tally: TallySnapshot;
   /** Record index → entry. */
   recordEntry: number[];
+  /** The source's finished line index (text shards), so reopening does not read the file to index it. */
+  index?: unknown;
 }
 
 /** Bytes of kept results at most (common practice for caches: a bound, least recently used out). */

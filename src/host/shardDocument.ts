@@ -15,7 +15,7 @@ import { SourceSession } from '../node/session.js';
 import type { FindingView, ShardSummary } from '../protocol.js';
 import { settingsFor, type HostSettings } from './settings.js';
 import { traitsOf } from '../engine/sources/traits.js';
-import { ResultsStore } from './resultsStore.js';
+import { ResultsStore, type KeptResults } from './resultsStore.js';
 import { onlyContextLengthChanged, recontext, recordsNeedingPlaces, type RecordPlace } from './recontext.js';
 import { locatePointer } from '../engine/json/scan.js';
 import { formatPlace, targetIndex, type PlaceTarget } from '../engine/places.js';
@@ -95,8 +95,11 @@ export class ShardDocument implements vscode.CustomDocument {
       },
     });
     this.session = session;
-    await session.start();
-    if (!(await this.restoreKept())) void this.analyze(false);
+    // Results kept from an earlier check of the same bytes and settings: the line index too, so the
+    // file is not read again to be indexed.
+    const kept = await this.fetchKept();
+    await session.start(kept?.index);
+    if (!(kept && this.restoreKept(kept))) void this.analyze(false);
   }
 
   /** Copies a file from a non-file scheme into a temporary folder (never written back). */
@@ -247,13 +250,16 @@ export class ShardDocument implements vscode.CustomDocument {
     this.fire();
   }
 
-  /** Shows the results kept from an earlier check of the same bytes and settings; false when there are none. */
-  private async restoreKept(): Promise<boolean> {
+  /** The results kept from an earlier check of the same bytes and settings, if any. */
+  private async fetchKept(): Promise<KeptResults | null> {
     const store = ShardDocument.store;
-    if (!store || this.uri.scheme !== 'file') return false;
+    if (!store || this.uri.scheme !== 'file') return null;
     const key = await ResultsStore.keyFor(this.localPath, this.settings.config);
-    const kept = key ? await store.get(key) : null;
-    if (!kept) return false;
+    return key ? store.get(key) : null;
+  }
+
+  /** Shows results kept from an earlier check; false when they cannot be used. */
+  private restoreKept(kept: KeptResults): boolean {
     try {
       this.tally = ShardTally.restore(kept.tally);
     } catch {
@@ -283,7 +289,8 @@ export class ShardDocument implements vscode.CustomDocument {
     if (!key) return;
     let last = this.recordEntry.length;
     while (last > 0 && this.recordEntry[last - 1] < 0) last--;
-    await store.put({ key, tally: this.tally.snapshot(), recordEntry: Array.from(this.recordEntry.subarray(0, last)) }).catch(() => undefined);
+    const index = await this.session?.exportIndex().catch(() => null);
+    await store.put({ key, tally: this.tally.snapshot(), recordEntry: Array.from(this.recordEntry.subarray(0, last)), ...(index ? { index } : {}) }).catch(() => undefined);
   }
 
   cancel(): void {

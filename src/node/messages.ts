@@ -9,7 +9,8 @@ import type { Entry, Progress, SourceInfo } from '../engine/sources/source.js';
 
 export type WorkerRequest =
   | { id: number; op: 'analyze'; path: string; config: CheckConfig; share: Share; open: OpenOptions }
-  | { id: number; op: 'open'; path: string; open: OpenOptions }
+  | { id: number; op: 'open'; path: string; open: OpenOptions; kept?: unknown }
+  | { id: number; op: 'exportIndex' }
   | { id: number; op: 'read'; start: number; end: number; columns?: string[] }
   | { id: number; op: 'turnTokens'; value: unknown; config: CheckConfig }
   | { id: number; op: 'rendered'; value: unknown; config: CheckConfig }
@@ -26,6 +27,7 @@ export type WorkerEvent =
   | { id: number; kind: 'turnTokens'; turns: { pointer: string; role: string | null; tokens: number }[] }
   | { id: number; kind: 'rendered'; rendered: RenderedRecord | null }
   | { id: number; kind: 'memory'; rss: number; wasm: number; faults: number }
+  | { id: number; kind: 'index'; index: unknown }
   | { id: number; kind: 'facts'; facts: ScanFacts }
   | { id: number; kind: 'done' }
   | { id: number; kind: 'error'; message: string; name: string };

@@ -74,8 +74,12 @@ export class SourceSession {
     this.watchdog.unref?.();
   }
 
-  /** Opens the shard and starts indexing; resolves with the first description. */
-  start(): Promise<SourceInfo> {
+  /** A kept index of the same bytes, offered to the worker instead of indexing. */
+  private kept: unknown = undefined;
+
+  /** Opens the shard and starts indexing (or takes `kept`, an index kept earlier); resolves with the first description. */
+  start(kept?: unknown): Promise<SourceInfo> {
+    this.kept = kept;
     installTempCleanup();
     this.spawn();
     this.watch();
@@ -119,8 +123,14 @@ export class SourceSession {
             break;
         }
       });
-      this.post({ id, op: 'open', path: this.path, open: this.open });
+      this.post({ id, op: 'open', path: this.path, open: this.open, kept: this.kept });
     });
+  }
+
+  /** The worker's finished index as plain JSON, to keep (null when there is none worth keeping). */
+  async exportIndex(): Promise<unknown> {
+    const ev = await this.request({ id: this.nextId++, op: 'exportIndex' });
+    return ev.kind === 'index' ? ev.index : null;
   }
 
   get isIndexed(): boolean {
@@ -262,7 +272,7 @@ export class SourceSession {
             reject(new Error(e.message));
           }
         });
-        this.post({ id, op: 'open', path: this.path, open: this.open });
+        this.post({ id, op: 'open', path: this.path, open: this.open, kept: this.kept });
       });
     } catch {
       // A failed recycle leaves the old behaviour: reads go on in whatever worker exists.

@@ -111,7 +111,9 @@ async function handle(req: WorkerRequest): Promise<void> {
       running.set(req.id, ac);
       sessionPath = { path: req.path, open: req.open };
       session = createSource(req.path, req.open);
-      const info = await session.open(ac.signal);
+      let info = await session.open(ac.signal);
+      // An index kept from an earlier session of the same bytes spares reading the file again.
+      if (req.kept !== undefined && session.importIndex?.(req.kept)) info = session.info();
       post({ id: req.id, kind: 'info', info });
       let lastPost = 0;
       void session
@@ -151,6 +153,10 @@ async function handle(req: WorkerRequest): Promise<void> {
     }
     case 'cancel': {
       running.get(req.target)?.abort();
+      return;
+    }
+    case 'exportIndex': {
+      post({ id: req.id, kind: 'index', index: session?.exportIndex?.() ?? null });
       return;
     }
     case 'learn': {

@@ -7,7 +7,7 @@ import { join } from 'node:path';
 import type { Finding } from '../findings.js';
 import { MAX_DEPTH, parseLine, scanJson, type ScanNote } from '../json/scan.js';
 import { LineSplitter } from '../text/lines.js';
-import { LineFinder, LineIndex } from './lineIndex.js';
+import { LineFinder, LineIndex, type LineIndexSnapshot } from './lineIndex.js';
 import { decodeLine, hasBom } from '../text/utf8.js';
 import { jsonlRule, type JsonlRuleId } from './jsonlRules.js';
 import type { Entry, Progress, RecordSource, ScanOptions, SourceInfo } from './source.js';
@@ -28,6 +28,15 @@ export interface JsonlOptions {
 }
 
 export type Compression = 'none' | 'gzip' | 'zstd';
+
+/** A finished JSONL line index kept between sessions. */
+export interface JsonlIndexSnapshot {
+  kind: 'jsonl-lines';
+  v: 1;
+  sizeBytes: number;
+  maxLineBytes: number;
+  index: LineIndexSnapshot;
+}
 
 export const DEFAULT_MAX_LINE_BYTES = 64 * 1024 * 1024;
 
@@ -319,6 +328,30 @@ export class JsonlSource implements RecordSource {
   /** Bytes the line index holds. */
   get indexBytes(): number {
     return this.idx.bytes;
+  }
+
+  /** The finished index of a plain file, to keep between sessions (null before it is finished). */
+  exportIndex(): JsonlIndexSnapshot | null {
+    if (!this.complete || this.compression !== 'none' || this.findings.length) return null;
+    return { kind: 'jsonl-lines', v: 1, sizeBytes: this.sizeBytes, maxLineBytes: this.maxLineBytes, index: this.idx.snapshot() };
+  }
+
+  /**
+   * Takes an index kept from an earlier session of the same bytes (the caller keys it by size and
+   * modification time; the size and the line limit are checked again here). True when taken: the
+   * source is then indexed without reading the file.
+   */
+  importIndex(kept: unknown): boolean {
+    const k = kept as JsonlIndexSnapshot | null;
+    if (!this.opened || this.complete || this.indexing || this.compression !== 'none') return false;
+    if (k?.kind !== 'jsonl-lines' || k.v !== 1 || k.sizeBytes !== this.sizeBytes || k.maxLineBytes !== this.maxLineBytes) return false;
+    if (!this.idx.restore(k.index) || this.idx.end !== this.sizeBytes) {
+      this.idx.reset();
+      return false;
+    }
+    this.decompressedSize = this.sizeBytes;
+    this.complete = true;
+    return true;
   }
 
   /**

@@ -55,6 +55,23 @@ export class NumberList {
     this.length = 0;
   }
 
+  toArray(): number[] {
+    return Array.from(this.a.subarray(0, this.length));
+  }
+
+  /** Replaces the contents; false unless `xs` is a sorted list of finite non-negative numbers. */
+  fill(xs: unknown, sorted = true): boolean {
+    if (!Array.isArray(xs)) return false;
+    this.clear();
+    let prev = -1;
+    for (const x of xs) {
+      if (typeof x !== 'number' || !Number.isFinite(x) || x < 0 || (sorted && x <= prev)) return false;
+      this.push(x);
+      prev = x;
+    }
+    return true;
+  }
+
   /** Bytes held (for the benchmark and tests of the index's size). */
   get bytes(): number {
     return this.a.byteLength;
@@ -62,6 +79,21 @@ export class NumberList {
 }
 
 export type IndexedKind = 'line' | 'blank' | 'too-long' | 'invalid';
+
+/** A line index as plain JSON (see `LineIndex.snapshot`). */
+export interface LineIndexSnapshot {
+  lines: number;
+  end: number;
+  lastUnterminated: boolean;
+  exactThrough: number;
+  blockStarts: number[];
+  blanks: number[];
+  tooLong: number[];
+  longEntries: number[];
+  longStarts: number[];
+  longLengths: number[];
+  invalid: number[];
+}
 
 export class LineIndex {
   private readonly blockStarts = new NumberList();
@@ -147,6 +179,45 @@ export class LineIndex {
   /** Position in the long-line lists of the first long line at or after `line`. */
   longFrom(line: number): number {
     return this.longEntries.countBelow(line);
+  }
+
+  /** The whole index as plain JSON, for keeping between sessions. */
+  snapshot(): LineIndexSnapshot {
+    return {
+      lines: this.lines,
+      end: this.end,
+      lastUnterminated: this.lastUnterminated,
+      exactThrough: this.exactThrough,
+      blockStarts: this.blockStarts.toArray(),
+      blanks: this.blanks.toArray(),
+      tooLong: this.tooLong.toArray(),
+      longEntries: this.longEntries.toArray(),
+      longStarts: this.longStarts.toArray(),
+      longLengths: this.longLengths.toArray(),
+      invalid: this.invalid.toArray(),
+    };
+  }
+
+  /** Takes a kept snapshot; false (and the index empty) when it is not a consistent one. */
+  restore(s: LineIndexSnapshot): boolean {
+    const ok =
+      Number.isInteger(s?.lines) && s.lines >= 0 && Number.isFinite(s.end) && s.end >= 0 && typeof s.lastUnterminated === 'boolean' &&
+      Number.isInteger(s.exactThrough) && s.exactThrough >= 0 && s.exactThrough <= s.lines &&
+      this.blockStarts.fill(s.blockStarts) && this.blockStarts.length === Math.ceil(s.lines / BLOCK_LINES) &&
+      this.blanks.fill(s.blanks) && this.tooLong.fill(s.tooLong) && this.invalid.fill(s.invalid) &&
+      this.longEntries.fill(s.longEntries) && this.longStarts.fill(s.longStarts) && this.longLengths.fill(s.longLengths, false) &&
+      this.longStarts.length === this.longEntries.length && this.longLengths.length === this.longEntries.length &&
+      [this.blanks, this.tooLong, this.invalid, this.longEntries].every((l) => l.length === 0 || l.get(l.length - 1) < s.lines) &&
+      (this.blockStarts.length === 0 || this.blockStarts.get(this.blockStarts.length - 1) < Math.max(1, s.end));
+    if (!ok) {
+      this.reset();
+      return false;
+    }
+    this.lines = s.lines;
+    this.end = s.end;
+    this.lastUnterminated = s.lastUnterminated;
+    this.exactThrough = s.exactThrough;
+    return true;
   }
 
   /** Bytes the index holds. */

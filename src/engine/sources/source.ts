@@ -115,6 +115,10 @@ export interface RecordSource {
    * analysis): `entries` are the entries below `through` that hold no record.
    */
   learnNonRecords?(entries: Iterable<number>, through: number): void;
+  /** A finished index as plain JSON, to keep between sessions (sources with nothing worth keeping lack it). */
+  exportIndex?(): unknown;
+  /** Takes a kept index of the same bytes instead of indexing; false when it does not fit. */
+  importIndex?(kept: unknown): boolean;
   close(): Promise<void>;
 }
 

@@ -92,6 +92,18 @@ describe('a record view\'s reading worker', () => {
       const turns = await session.turnTokens(page[0].value, withDefaults());
       expect(turns.map((t) => t.role)).toEqual(['user', 'assistant']);
       expect(turns.every((t) => t.tokens > 0)).toBe(true);
+      // The finished index, kept as JSON, lets the next session start complete, with the same pages.
+      const kept = JSON.parse(JSON.stringify(await session.exportIndex()));
+      const infos: boolean[] = [];
+      const next = new SourceSession(shard, {}, { onInfo: (i) => infos.push(i.complete), onProgress: () => undefined, onIndexed: () => undefined, onError: () => undefined }, undefined, worker);
+      try {
+        const first = await next.start(kept);
+        expect(first.complete).toBe(true);
+        expect(first.entries).toBe(LINES);
+        expect(await next.read(1990, 2010)).toEqual(page);
+      } finally {
+        next.dispose();
+      }
     } finally {
       session.dispose();
     }

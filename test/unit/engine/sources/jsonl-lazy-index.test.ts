@@ -204,4 +204,48 @@ describe('JSONL source on the lazy index (compared with the naive split + JSON.p
       await src.close();
     }
   });
+
+  it('a finished index kept as JSON is taken by a new source of the same bytes (no reading to index), and refused for other bytes', async () => {
+    const data = generate(10_000, 14, true);
+    const ref = naive(data);
+    const p = writeShard(tmp.dir, 'kept.jsonl', data);
+    const first = new JsonlSource(p);
+    await first.open();
+    await first.index();
+    await first.read(9_000, 9_010);
+    const kept = JSON.parse(JSON.stringify(first.exportIndex()));
+    await first.close();
+    expect(kept).not.toBeNull();
+    const second = new JsonlSource(p);
+    try {
+      await second.open();
+      expect(second.importIndex(kept)).toBe(true);
+      const info = second.info();
+      expect(info.complete).toBe(true);
+      expect(info.entries).toBe(ref.length);
+      const rnd = mulberry32(8);
+      for (let k = 0; k < 20; k++) {
+        const a = Math.floor(rnd() * ref.length);
+        const got = await second.read(a, Math.min(ref.length, a + 50));
+        expect(got.map((e) => [e.byteOffset, e.record])).toEqual(ref.slice(a, a + 50).map((x) => [x.byteOffset, x.record]));
+      }
+    } finally {
+      await second.close();
+    }
+    // Other bytes (one more line), another line limit, or a damaged snapshot: refused, indexed as usual.
+    const grown = writeShard(tmp.dir, 'kept-grown.jsonl', Buffer.concat([data, Buffer.from('\n{"id":"new"}\n')]));
+    const damaged = { ...kept, index: { ...kept.index, blockStarts: kept.index.blockStarts.slice(1) } };
+    for (const [path, snapshot, opts] of [[grown, kept, {}], [p, kept, { maxLineBytes: 1000 }], [p, damaged, {}], [p, { kind: 'jsonl-lines' }, {}]] as const) {
+      const s = new JsonlSource(path, opts);
+      try {
+        await s.open();
+        expect(s.importIndex(snapshot)).toBe(false);
+        expect(s.info().complete).toBe(false);
+        await s.index();
+        expect(s.info().entries).toBeGreaterThan(0);
+      } finally {
+        await s.close();
+      }
+    }
+  });
 });
