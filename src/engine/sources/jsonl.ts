@@ -10,7 +10,7 @@ import { LineSplitter } from '../text/lines.js';
 import { LineFinder, LineIndex, type LineIndexSnapshot } from './lineIndex.js';
 import { decodeLine, hasBom } from '../text/utf8.js';
 import { jsonlRule, type JsonlRuleId } from './jsonlRules.js';
-import type { Entry, Progress, RecordSource, ScanOptions, SourceInfo } from './source.js';
+import type { Entry, FileChange, Progress, RecordSource, ScanOptions, SourceInfo } from './source.js';
 import { DecompressError, decompress } from './decompress.js';
 import { DiskSpaceError, MIN_FREE_BYTES, freeBytes, makeTempDir } from './tempFiles.js';
 
@@ -62,6 +62,8 @@ const LONG_LINE_BYTES = 1024 * 1024;
 const INDEX_CHUNK_BYTES = 1024 * 1024;
 /** The index gives the event loop a turn (progress, cancelling, page reads) every this many bytes. */
 const INDEX_YIELD_BYTES = 16 * 1024 * 1024;
+/** The indexed bytes' last this many are kept, to tell an appended file from a rewritten one. */
+const TAIL_BYTES = 4096;
 const strictDecoder = new TextDecoder('utf-8', { fatal: true, ignoreBOM: true });
 const lenientDecoder = new TextDecoder('utf-8', { fatal: false, ignoreBOM: true });
 
@@ -267,6 +269,16 @@ export class JsonlSource implements RecordSource {
   private readonly maxInflateRatio: number | undefined;
   private readonly minFreeBytes: number;
 
+  /** The file as opened (or last extended): identity, modification time, the indexed bytes' tail. */
+  private fileIno = 0;
+  private fileDev = 0;
+  private mtimeMs = 0;
+  private tail: Uint8Array = new Uint8Array(0);
+  /** An `extend` is running: reads wait for it (the final line is briefly out of the index). */
+  private extending: Promise<FileChange> | null = null;
+  /** The file has been seen growing and has not settled: a half-written final line is incomplete. */
+  private growing = false;
+
   async open(): Promise<SourceInfo> {
     if (this.closed) throw new Error(`${this.path}: the source was closed`);
     if (this.opened) return this.info();
@@ -285,9 +297,13 @@ export class JsonlSource implements RecordSource {
       throw new Error(`${this.path}: ${describeFsError(e)}`);
     }
     this.sizeBytes = st.size;
+    this.fileIno = st.ino;
+    this.fileDev = st.dev;
+    this.mtimeMs = st.mtimeMs;
     if (this.compression === 'none') {
       this.handle = fh;
       this.decompressedSize = st.size;
+      this.tail = await readTail(fh, st.size);
     } else {
       await fh.close();
     }
@@ -463,6 +479,119 @@ export class JsonlSource implements RecordSource {
     return this.info();
   }
 
+  /**
+   * Looks at the file on disk again. A plain file that grew, whose indexed bytes are still there
+   * (the same file — inode and device where the system has them — and the same last bytes where
+   * the index ends), is indexed from the start of its unterminated final line, or from where the
+   * index ends, to its new size: the start is never read again. A shorter file, another file, other
+   * bytes where the indexed ones were, or a compressed file that changed at all: open it again.
+   */
+  extend(opts: { settled?: boolean } = {}): Promise<FileChange> {
+    if (!this.extending) {
+      this.extending = this.extendNow().finally(() => {
+        this.extending = null;
+      });
+    }
+    return this.extending.then((r) => {
+      if (opts.settled && r.change === 'none') this.growing = false;
+      return r;
+    });
+  }
+
+  private async extendNow(): Promise<FileChange> {
+    await this.open();
+    const seen = (change: FileChange['change']): FileChange => ({ change, info: this.info() });
+    // An index in progress reads up to the size seen at open; growth is looked at after it.
+    if (this.indexing) await this.indexing.catch(() => undefined);
+    if (this.closed) throw new Error(`${this.path}: the source was closed`);
+    let st;
+    try {
+      st = await stat(this.path);
+    } catch {
+      return seen('replaced');
+    }
+    if (!st.isFile()) return seen('replaced');
+    const known = this.fileIno !== 0 && st.ino !== 0;
+    if (known && (st.ino !== this.fileIno || st.dev !== this.fileDev)) return seen('replaced');
+    if (st.size < this.sizeBytes) return seen('shorter');
+    if (st.size === this.sizeBytes && st.mtimeMs === this.mtimeMs) return seen('none');
+    if (this.compression !== 'none') return seen('replaced');
+    // Without an inode to compare, the bytes are read through the path itself.
+    let handle = this.handle!;
+    let fresh: FileHandle | null = null;
+    if (!known) {
+      try {
+        fresh = await open(this.path, 'r');
+      } catch {
+        return seen('replaced');
+      }
+      handle = fresh;
+    }
+    try {
+      const before = this.tail;
+      const now = await readAt(handle, this.sizeBytes - before.length, before.length);
+      if (now.length !== before.length || !now.every((b, i) => b === before[i])) return seen('replaced');
+      if (fresh) {
+        const old = this.handle;
+        this.handle = fresh;
+        fresh = null;
+        await old?.close().catch(() => undefined);
+        handle = this.handle!;
+      }
+      this.mtimeMs = st.mtimeMs;
+      if (st.size === this.sizeBytes) return seen('none');
+      if (!this.complete) {
+        // Not indexed yet: the index, when it runs, reads to the new size.
+        this.sizeBytes = this.decompressedSize = st.size;
+        this.tail = await readTail(handle, st.size);
+        return seen('grew');
+      }
+      const idx = this.idx;
+      let from = idx.end;
+      if (idx.lastUnterminated) {
+        from = await this.lastLineStart(handle);
+        idx.dropLast(from);
+      }
+      const finder = new LineFinder(idx, from);
+      const buf = new Uint8Array(INDEX_CHUNK_BYTES);
+      let done = from;
+      let sinceYield = 0;
+      while (done < st.size) {
+        const n = readSync(handle.fd, buf, 0, Math.min(buf.length, st.size - done), done);
+        if (n === 0) break;
+        finder.push(buf.subarray(0, n));
+        done += n;
+        if ((sinceYield += n) >= INDEX_YIELD_BYTES) {
+          sinceYield = 0;
+          await new Promise<void>((resolve) => setImmediate(resolve));
+        }
+      }
+      finder.end();
+      this.sizeBytes = this.decompressedSize = done;
+      this.tail = await readTail(handle, done);
+      if (done < st.size) return seen('shorter');
+      this.growing = true;
+      return seen('grew');
+    } finally {
+      await fresh?.close().catch(() => undefined);
+    }
+  }
+
+  /** Byte offset where the index's final (unterminated) line starts. */
+  private async lastLineStart(handle: FileHandle): Promise<number> {
+    const idx = this.idx;
+    const last = idx.lines - 1;
+    if (idx.longEntries.last() === last) return idx.longStarts.last()!;
+    // A line not kept as long is at most the long-line size: its start is within that many bytes.
+    const block = idx.blockOf(last).offset;
+    const from = Math.max(block, idx.end - idx.longLineBytes - 1);
+    const bytes = Buffer.from(await readAt(handle, from, idx.end - from));
+    const nl = bytes.lastIndexOf(10);
+    if (nl >= 0) return from + nl + 1;
+    if (from === block) return block;
+    throw this.changedError();
+  }
+
   private corruptFinding(e: unknown, decompressed: number): Finding {
     if (e instanceof DecompressError) return this.fileFinding(e.problem === 'limit' ? 'read-limit' : 'read-corrupt', e.message.replace(/; (all|everything)[^;]*$/, '') + '; lines up to there were read');
     if (e instanceof DiskSpaceError) return this.fileFinding('read-limit', e.message);
@@ -490,6 +619,11 @@ export class JsonlSource implements RecordSource {
   private built(line: number, start: number, bytes: Uint8Array | null, length: number): Entry {
     const e = buildEntry(line, start, bytes, length, this.idx.recordsBefore(line), this.maxLineBytes);
     if (e.record === null) this.idx.learnInvalid(line);
+    // The final line of a file still being written: half a record, not (yet) a syntax error.
+    if (this.growing && e.record === null && bytes !== null && line === this.idx.lines - 1 && this.idx.lastUnterminated && e.findings.some((f) => f.rule === 'json-syntax')) {
+      e.findings = e.findings.filter((f) => f.rule !== 'json-syntax');
+      e.incomplete = true;
+    }
     return e;
   }
 
@@ -512,6 +646,7 @@ export class JsonlSource implements RecordSource {
     if (!Number.isInteger(start) || !Number.isInteger(end) || start < 0 || end < start) {
       throw new RangeError(`${this.path}: bad entry range ${start}..${end}`);
     }
+    if (this.extending) await this.extending.catch(() => undefined);
     const idx = this.idx;
     if (end > idx.lines) {
       throw new RangeError(`${this.path}: entries ${start}..${end} are not indexed yet (${idx.lines} known${this.complete ? ', index complete' : ''})`);
@@ -690,6 +825,24 @@ export class JsonlSource implements RecordSource {
       await rm(dir, { recursive: true, force: true });
     }
   }
+}
+
+/** `length` bytes at `offset` (fewer where the file ends first). */
+async function readAt(handle: FileHandle, offset: number, length: number): Promise<Uint8Array> {
+  const buf = new Uint8Array(length);
+  let got = 0;
+  while (got < length) {
+    const { bytesRead } = await handle.read(buf, got, length - got, offset + got);
+    if (bytesRead === 0) break;
+    got += bytesRead;
+  }
+  return buf.subarray(0, got);
+}
+
+/** The last TAIL_BYTES bytes before `size`. */
+function readTail(handle: FileHandle, size: number): Promise<Uint8Array> {
+  const from = Math.max(0, size - TAIL_BYTES);
+  return readAt(handle, from, size - from);
 }
 
 function describeFsError(e: unknown): string {

@@ -55,6 +55,15 @@ export class NumberList {
     this.length = 0;
   }
 
+  /** The last value, or undefined when the list is empty. */
+  last(): number | undefined {
+    return this.length > 0 ? this.a[this.length - 1] : undefined;
+  }
+
+  pop(): void {
+    if (this.length > 0) this.length--;
+  }
+
   toArray(): number[] {
     return Array.from(this.a.subarray(0, this.length));
   }
@@ -146,6 +155,27 @@ export class LineIndex {
     this.end = start + length + (terminated ? 1 : 0);
     this.lastUnterminated = !terminated;
     this.lines = i + 1;
+  }
+
+  /**
+   * Forgets the last line, an unterminated one starting at byte `start`, so that indexing can go on
+   * from `start` when the file has grown (the line may be longer now, or ended by a `\n`).
+   */
+  dropLast(start: number): void {
+    const i = this.lines - 1;
+    if (i < 0 || !this.lastUnterminated) return;
+    // Published first, so a concurrent read never sees the line half forgotten.
+    this.lines = i;
+    if (i % BLOCK_LINES === 0) this.blockStarts.pop();
+    for (const l of [this.blanks, this.tooLong, this.invalid]) if (l.last() === i) l.pop();
+    if (this.longEntries.last() === i) {
+      this.longEntries.pop();
+      this.longStarts.pop();
+      this.longLengths.pop();
+    }
+    this.exactThrough = Math.min(this.exactThrough, i);
+    this.end = start;
+    this.lastUnterminated = false;
   }
 
   /** Records among the lines before `line`, as far as what is known (exact below `exactThrough`). */

@@ -30,6 +30,11 @@ export interface Entry {
   value?: unknown;
   /** Findings the source itself raised (read, encoding, json families), already located. */
   findings: Finding[];
+  /**
+   * The file's final line, without its `\n` and not (yet) a JSON value, while the file is growing
+   * (a job still writing it): shown as incomplete, its syntax finding held back until it settles.
+   */
+  incomplete?: true;
 }
 
 export interface ColumnInfo {
@@ -75,6 +80,16 @@ export interface Progress {
   entries: number;
 }
 
+/** What `extend` saw of a file that may have changed on disk since it was opened. */
+export interface FileChange {
+  /**
+   * `none`: the same bytes; `grew`: bytes were appended and the new entries are indexed; `shorter`
+   * or `replaced` (another file, or other bytes where the indexed ones were): open it again.
+   */
+  change: 'none' | 'grew' | 'shorter' | 'replaced';
+  info: SourceInfo;
+}
+
 export interface ScanOptions {
   signal?: AbortSignal;
   onProgress?: (p: Progress) => void;
@@ -115,6 +130,12 @@ export interface RecordSource {
    * analysis): `entries` are the entries below `through` that hold no record.
    */
   learnNonRecords?(entries: Iterable<number>, through: number): void;
+  /**
+   * Looks at the file on disk again: appended bytes are indexed from where the index ends (a
+   * source that cannot extend reports any change as `replaced`). `settled`: the file has stopped
+   * growing, so a half-written final line is an ordinary finding again.
+   */
+  extend?(opts?: { settled?: boolean }): Promise<FileChange>;
   /** A finished index as plain JSON, to keep between sessions (sources with nothing worth keeping lack it). */
   exportIndex?(): unknown;
   /** Takes a kept index of the same bytes instead of indexing; false when it does not fit. */
