@@ -373,8 +373,15 @@ export class RecordEditorProvider implements vscode.CustomReadonlyEditorProvider
       }
     });
 
+    // The file changed on disk and was opened again: the view starts over and says why.
+    const reopened = document.onDidReopen((sentence) => {
+      view = null;
+      void sendInit().then(() => post({ type: 'notice', message: sentence }));
+    });
+
     panel.onDidDispose(() => {
       sub.dispose();
+      reopened.dispose();
       this.editors.delete(editor);
       if (this.current === editor) {
         this.current = null;

@@ -16,6 +16,7 @@ import type { FindingView, ShardSummary } from '../protocol.js';
 import { settingsFor, type HostSettings } from './settings.js';
 import { traitsOf } from '../engine/sources/traits.js';
 import { ResultsStore, type KeptResults } from './resultsStore.js';
+import { FileFollower } from './fileWatch.js';
 import { onlyContextLengthChanged, recontext, recordsNeedingPlaces, type RecordPlace } from './recontext.js';
 import { locatePointer } from '../engine/json/scan.js';
 import { formatPlace, targetIndex, type PlaceTarget } from '../engine/places.js';
@@ -37,6 +38,10 @@ export class ShardDocument implements vscode.CustomDocument {
   readonly onDidChange = this.changed.event;
   private readonly disposedEmitter = new vscode.EventEmitter<void>();
   readonly onDidDispose = this.disposedEmitter.event;
+  private readonly reopenedEmitter = new vscode.EventEmitter<string>();
+  /** Fires with a sentence when the file changed on disk (shorter, replaced) and was opened again. */
+  readonly onDidReopen = this.reopenedEmitter.event;
+  private follower: FileFollower | null = null;
 
   session: SourceSession | null = null;
   info: SourceInfo | null = null;
@@ -100,6 +105,56 @@ export class ShardDocument implements vscode.CustomDocument {
     const kept = await this.fetchKept();
     await session.start(kept?.index);
     if (!(kept && this.restoreKept(kept))) void this.analyze(false);
+    if (this.uri.scheme === 'file' && !this.disposed) this.follow(session);
+  }
+
+  /** Follows the file on disk (fileWatch.ts): growth extends the index, a changed file re-opens. */
+  private follow(session: SourceSession): void {
+    this.follower?.dispose();
+    this.follower = new FileFollower(this.uri, this.localPath, {
+      extend: (settled) => session.extend(settled),
+      grew: (info) => {
+        if (this.session !== session) return;
+        this.info = info;
+        this.step({ kind: 'indexed', entries: info.entries });
+        this.fire();
+      },
+      // The check's results were for a shorter file: they are replaced by a new check.
+      settled: () => {
+        if (this.session === session) void this.analyze(false);
+      },
+      reopen: (sentence) => {
+        if (this.session === session) void this.reopen(sentence);
+      },
+    });
+  }
+
+  /** The file is shorter or another one: a new reading worker and a new check. */
+  private async reopen(sentence: string): Promise<void> {
+    this.follower?.dispose();
+    this.follower = null;
+    this.analysis?.abort();
+    this.generation++;
+    this.session?.dispose();
+    this.session = null;
+    this.info = null;
+    this.tally = new ShardTally();
+    this.byEntry = new Map();
+    this.recordEntry = new Int32Array(0);
+    this.phase = 'indexing';
+    this.progress = 0;
+    this.progressState = initialProgress();
+    this.kept = false;
+    this.fire();
+    try {
+      await this.load();
+    } catch (err) {
+      this.phase = 'failed';
+      this.error = (err as Error).message;
+    }
+    if (this.disposed) return;
+    this.fire();
+    this.reopenedEmitter.fire(sentence);
   }
 
   /** Copies a file from a non-file scheme into a temporary folder (never written back). */
@@ -189,6 +244,8 @@ export class ShardDocument implements vscode.CustomDocument {
     this.progress = 0;
     this.kept = false;
     this.step({ kind: 'check-restarted' });
+    // The results are kept only under the key of the bytes the check started on.
+    const startKey = this.uri.scheme === 'file' ? ResultsStore.keyFor(this.localPath, this.settings.config) : null;
     this.error = this.settings.projectProblem ?? this.settings.schemaProblem ?? this.settings.tokenizerProblem;
     this.fire();
     const workers = this.settings.workers || defaultWorkerCount();
@@ -235,7 +292,7 @@ export class ShardDocument implements vscode.CustomDocument {
       this.progress = 1;
       this.teachRecords();
       this.step({ kind: 'checked', records: this.tally.records });
-      void this.keep();
+      void this.keep(startKey);
     } catch (err) {
       if (gen !== this.generation) return;
       if ((err as Error).name === 'AbortError') {
@@ -282,11 +339,13 @@ export class ShardDocument implements vscode.CustomDocument {
     return true;
   }
 
-  private async keep(): Promise<void> {
+  private async keep(startKey: Promise<string | null> | null = null): Promise<void> {
     const store = ShardDocument.store;
     if (!store || this.uri.scheme !== 'file') return;
     const key = await ResultsStore.keyFor(this.localPath, this.settings.config);
     if (!key) return;
+    // A file that changed (grew, was rewritten) while it was checked: its results are not kept.
+    if (startKey && (await startKey) !== key) return;
     let last = this.recordEntry.length;
     while (last > 0 && this.recordEntry[last - 1] < 0) last--;
     const index = await this.session?.exportIndex().catch(() => null);
@@ -482,10 +541,12 @@ export class ShardDocument implements vscode.CustomDocument {
     this.disposed = true;
     this.lingerTimer = null;
     this.analysis?.abort();
+    this.follower?.dispose();
     this.session?.dispose();
     if (this.tempDir) void rm(this.tempDir, { recursive: true, force: true });
     this.disposedEmitter.fire();
     this.changed.dispose();
     this.disposedEmitter.dispose();
+    this.reopenedEmitter.dispose();
   }
 }

@@ -112,7 +112,8 @@ export function rowOf(e: Entry, columns: ColumnInfo[], findings: Finding[] | und
     severity,
     findingCount: findings?.length ?? 0,
     cells,
-    raw: e.value === undefined ? cut(e.text ?? '', CELL_CHARS * 2) : undefined,
+    // The final line of a file still being written is shown as such, not as a broken record.
+    raw: e.value === undefined ? (e.incomplete ? 'incomplete (still being written): ' : '') + cut(e.text ?? '', CELL_CHARS * 2) : undefined,
   };
 }
 

@@ -5,7 +5,7 @@ import type { RenderedRecord } from '../engine/checks/tokens.js';
 import type { CheckConfig } from '../engine/config.js';
 import type { OpenOptions } from '../engine/sources/index.js';
 import type { ScanFacts, ScanNeeds } from '../engine/query.js';
-import type { Entry, Progress, SourceInfo } from '../engine/sources/source.js';
+import type { Entry, FileChange, Progress, SourceInfo } from '../engine/sources/source.js';
 
 export type WorkerRequest =
   | { id: number; op: 'analyze'; path: string; config: CheckConfig; share: Share; open: OpenOptions }
@@ -17,6 +17,7 @@ export type WorkerRequest =
   | { id: number; op: 'query'; needs: ScanNeeds; config: CheckConfig; entries: number }
   | { id: number; op: 'cancel'; target: number }
   | { id: number; op: 'learn'; entries: number[]; through: number }
+  | { id: number; op: 'extend'; settled: boolean }
   | { id: number; op: 'memory' };
 
 export type WorkerEvent =
@@ -29,5 +30,6 @@ export type WorkerEvent =
   | { id: number; kind: 'memory'; rss: number; wasm: number; faults: number }
   | { id: number; kind: 'index'; index: unknown }
   | { id: number; kind: 'facts'; facts: ScanFacts }
+  | { id: number; kind: 'change'; change: FileChange }
   | { id: number; kind: 'done' }
   | { id: number; kind: 'error'; message: string; name: string };

@@ -7,7 +7,7 @@ import type { CheckConfig } from '../engine/config.js';
 import { traitsOf } from '../engine/sources/traits.js';
 import type { ScanFacts, ScanNeeds } from '../engine/query.js';
 import type { OpenOptions } from '../engine/sources/index.js';
-import type { Entry, Progress, SourceInfo } from '../engine/sources/source.js';
+import type { Entry, FileChange, Progress, SourceInfo } from '../engine/sources/source.js';
 import type { WorkerEvent, WorkerRequest } from './messages.js';
 import { workerScriptPath } from './pool.js';
 import { DEFAULT_STALL_SECONDS } from '../engine/sources/index.js';
@@ -140,6 +140,17 @@ export class SourceSession {
   /** Tells the reading worker which entries below `through` hold no record (from the analysis). */
   learnNonRecords(entries: number[], through: number): void {
     if (this.worker) this.post({ id: this.nextId++, op: 'learn', entries, through });
+  }
+
+  /**
+   * The file changed on disk: the worker extends the index over appended bytes, or says the file
+   * must be opened again (`settled`: it has stopped growing).
+   */
+  async extend(settled: boolean): Promise<FileChange> {
+    const ev = await this.request({ id: this.nextId++, op: 'extend', settled });
+    if (ev.kind !== 'change') throw new Error('unexpected answer from the shard worker');
+    if (ev.change.change === 'grew') this.lastInfo = ev.change.info;
+    return ev.change;
   }
 
   cancelIndexing(): void {

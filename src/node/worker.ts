@@ -159,6 +159,13 @@ async function handle(req: WorkerRequest): Promise<void> {
       post({ id: req.id, kind: 'index', index: session?.exportIndex?.() ?? null });
       return;
     }
+    case 'extend': {
+      // The file changed on disk: a source that can extend its index does; any other is opened again.
+      if (!session) throw new Error('no shard is open in this worker');
+      const change = session.extend ? await session.extend({ settled: req.settled }) : { change: 'replaced' as const, info: session.info() };
+      post({ id: req.id, kind: 'change', change });
+      return;
+    }
     case 'learn': {
       session?.learnNonRecords?.(req.entries, req.through);
       return;
