@@ -18,7 +18,7 @@ export interface EncoderOptions {
   heapThreshold?: number;
   /**
    * Most distinct pieces remembered: their counts (the table is emptied when full), and their ids
-   * in each of two generations (when the newer is full it becomes the older, the oldest is dropped).
+   * in two generations of half as many each (when the newer is full it becomes the older).
    */
   memoLimit?: number;
   /**
@@ -207,7 +207,8 @@ export class BytePairEncoder {
     let ids = this.memo.get(piece);
     if (ids !== undefined) return ids;
     ids = this.olderMemo.get(piece) ?? this.encodePiece(piece);
-    if (this.memo.size >= this.memoLimit) {
+    // Two generations of half the limit each: no more id lists than one memo of the limit held.
+    if (this.memo.size >= Math.max(1, this.memoLimit >> 1)) {
       this.olderMemo = this.memo;
       this.memo = new Map();
     }
