@@ -65,6 +65,7 @@ export const OPTIONS: readonly OptionDef[] = [
   { flag: '--max-line-mib', value: 'N', help: 'lines longer than N MiB are findings and are not parsed (default 64)', setting: 'lines.maxMiB', verbs: [...CHECKING, ...RECORDS] },
   { flag: '--memory-mib', value: 'N', help: 'memory cap per reader: a Parquet page or row group, or an Arrow batch, declaring more than N MiB is a read-limit finding, not decoded (default 1024)', setting: 'reading.memoryMiB', verbs: [...CHECKING, ...RECORDS] },
   { flag: '--max-line-bytes', value: 'N', help: 'the same limit to the byte (default 67108864)', setting: 'lines.maxBytes', verbs: [...CHECKING, ...RECORDS], convert: (v) => exactBytes(v) },
+  { flag: '--checks', value: 'LIST', help: 'record checks that run, comma-separated: layout, chat, pairs, schema, tokens (default all; without tokens nothing is counted); reading the records always runs', setting: 'checks', verbs: [...CHECKING], convert: listOf },
   { flag: '--rule', value: 'ID=LEVEL', repeat: true, help: `set a rule's severity: ${RULE_LEVELS.join(', ')} (repeatable; \`shardwise rules\` lists the ids)`, setting: 'rules', verbs: [...CHECKING], convert: addRule },
   { flag: '--fail-on', value: FAIL_LEVELS.join('|'), help: 'exit 1 when a finding at or above this severity is found (default error)', setting: 'check.failOn', verbs: ['check'] },
   { flag: '--max-findings', value: 'N', help: 'list at most N findings per file; all are still counted (default 10000)', setting: 'check.maxFindings', verbs: ['check'] },

@@ -96,7 +96,9 @@ export async function analyzeSource(source: RecordSource, options: AnalyzeOption
   const share = options.share;
   const want = share && share.count > 1 ? (e: number) => inShare(e, share) : undefined;
   try {
-    const opts = { ...options, config: await settleConfig(source, options.config, options.signal) };
+    const chosen = options.config.checks;
+    const checks = chosen ? options.checks.filter((c) => chosen.includes(c.name)) : options.checks;
+    const opts = { ...options, checks, config: await settleConfig(source, options.config, options.signal) };
     await prepareChecks(opts.checks, opts.config);
     // Entries of other shares are not parsed here: the pool renumbers records in entry order.
     for await (const entry of source.scan({ signal: opts.signal, onProgress: opts.onProgress, want, exactRecords: want === undefined })) {

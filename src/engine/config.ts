@@ -53,7 +53,12 @@ export interface CheckConfig {
   rules?: RulePolicy;
   /** Also report each record's content hash and field types (for `shardwise stats`). */
   profile?: boolean;
+  /** The record checks that run, by name (unset: all); reading the records (json, encoding, read) always runs. */
+  checks?: string[];
 }
+
+/** The record checks by name, in the order they run (checks/index.ts lists them; a test keeps both alike). */
+export const CHECK_NAMES = ['layout', 'chat', 'pairs', 'schema', 'tokens'] as const;
 
 export const DEFAULT_CONFIG: CheckConfig = {
   layout: { id: 'auto', fields: {} },

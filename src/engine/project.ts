@@ -3,7 +3,7 @@
 // per setting (its key, type, bounds and summary) serves the file, the CLI options and the
 // editor's settings. Pure: reading files and matching globs against paths is the caller's I/O.
 
-import { ENCODINGS, withDefaults, type CheckConfig, type EncodingName } from './config.js';
+import { CHECK_NAMES, ENCODINGS, withDefaults, type CheckConfig, type EncodingName } from './config.js';
 import { globToRegExp } from './globs.js';
 import { LAYOUT_IDS } from './layouts/index.js';
 import type { LayoutFields } from './layouts/layout.js';
@@ -45,6 +45,7 @@ export const SETTINGS: readonly SettingSpec[] = [
   { key: 'lines.maxMiB', type: 'integer', min: 1, max: 2047, summary: 'lines longer than this many MiB are findings and are not parsed' },
   { key: 'reading.memoryMiB', type: 'integer', min: 16, max: 3072, summary: 'memory cap per reader in MiB: a Parquet page or row group, or an Arrow batch, declaring more is a read-limit finding, not decoded' },
   { key: 'rules', type: 'map', values: () => RULE_LEVELS, summary: 'rule id → error, warning, info or off' },
+  { key: 'checks', type: 'strings', values: () => CHECK_NAMES, summary: `record checks that run (default all: ${CHECK_NAMES.join(', ')}); reading the records always runs` },
   { key: 'check.failOn', type: 'enum', values: () => FAIL_LEVELS, summary: 'the severity that fails a CI run (error, warning or never)' },
   { key: 'check.maxFindings', type: 'integer', min: 1, max: 100_000_000, summary: 'most findings listed per file (all are counted)' },
 ];
@@ -156,6 +157,11 @@ export function checkValue(spec: SettingSpec, v: unknown, fail: (message: string
     }
     case 'strings':
       if (!Array.isArray(v) || !v.every((x) => typeof x === 'string')) throw fail('must be a list of strings');
+      if (spec.values) {
+        const ok = spec.values();
+        const bad = v.find((x) => !ok.includes(x));
+        if (bad !== undefined) throw fail(`has "${bad}", which is none of ${ok.join(', ')}`);
+      }
       return v;
     case 'map': {
       if (v === null || typeof v !== 'object' || Array.isArray(v)) throw fail('must be an object');
@@ -270,6 +276,7 @@ export function overlayValues(config: CheckConfig, v: SettingValues): CheckConfi
   const req = v['chat.requireConversation'];
   if (req !== undefined) config.chat.requireConversation = req === 'always' ? true : req === 'never' ? false : 'auto';
   if (v.rules !== undefined) config.rules = { ...(config.rules ?? {}), ...(v.rules as Record<string, RuleLevel>) };
+  if (v.checks !== undefined) config.checks = [...(v.checks as string[])];
   return config;
 }
 
