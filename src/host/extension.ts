@@ -165,7 +165,7 @@ export function activate(context: vscode.ExtensionContext): void {
       const w = vscode.workspace.createFileSystemWatcher(`**/${PROJECT_FILE}`);
       const recheck = (u: vscode.Uri) => {
         const dir = u.path.slice(0, u.path.lastIndexOf('/') + 1);
-        for (const d of docs) if (d.uri.path.startsWith(dir)) void d.analyze();
+        for (const d of docs) if (d.uri.path.startsWith(dir)) void d.settingsChanged();
       };
       return [w, w.onDidCreate(recheck), w.onDidChange(recheck), w.onDidDelete(recheck)];
     })(),

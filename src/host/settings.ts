@@ -6,6 +6,7 @@ import { globToRegExp } from '../engine/globs.js';
 import { LAYOUT_IDS } from '../engine/layouts/index.js';
 import { tokenizerSetting } from './tokenizerSetting.js';
 import { applyProjectFile } from './projectFile.js';
+import { heldInFolderSettings } from './trustNote.js';
 import type { LayoutConfig, LayoutFields } from '../engine/layouts/layout.js';
 
 export const SECTION = 'shardwise';
@@ -89,6 +90,7 @@ export async function settingsFor(uri: vscode.Uri): Promise<HostSettings> {
       const i = s.inspect(k);
       return i?.workspaceValue !== undefined || i?.workspaceFolderValue !== undefined;
     });
+    if (!held.length && folder) held.push(...(await heldInFolderSettings(folder.uri, SECTION, RESTRICTED)));
     if (held.length) out.trustNote = vscode.l10n.t('This folder is not trusted: its {0} wait until it is; user settings apply meanwhile.', held.map((k) => `shardwise.${k}`).join(', '));
   }
   await applyProjectFile(out, uri);

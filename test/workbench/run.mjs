@@ -10,6 +10,7 @@ import { root } from '../../scripts/workbench/paths.mjs';
 import { startCodeServer } from '../../scripts/workbench/server.mjs';
 import { arrowFacts, jsonlFacts, parquetFacts, referenceTokenCount, shardBytes } from './oracle.mjs';
 import { Workbench, countOf, launchBrowser, waitFor } from './workbench.mjs';
+import { startUntrustedCodeServer } from './untrusted.mjs';
 
 const outDir = join(root, 'test-output', 'workbench');
 const demoDir = join(root, 'demo-data');
@@ -637,6 +638,13 @@ async function main() {
     await expectRowTokens(textShard, facts.get(textShard), otherEncoding);
   });
 
+  await step('nothing written: every data file has the bytes and modification time it had before the run', async () => {
+    await wb.runCommand('View: Close All Editors');
+    const changed = [...before].filter(([f, fp]) => !existsSync(join(work, f)) || fingerprint(f) !== fp).map(([f]) => f);
+    assert(changed.length === 0, `changed by the views and commands: ${changed.join(', ')}`);
+    assert(before.size >= shards.length, `only ${before.size} files were fingerprinted`);
+  });
+
   await step(`a new context length for ${chat} is answered from the kept token counts, as a new check answers it`, async () => {
     await wb.openFromExplorer(chat);
     await wb.recordView(chat);
@@ -648,9 +656,10 @@ async function main() {
       return m ? { length: countOf(m[1]), records: countOf(m[2]) } : null;
     };
     const title = (id) => { const c = manifest.contributes.commands.find((x) => x.command === id); assert(c, `package.json contributes no ${id}`); return `${c.category}: ${c.title}`; };
-    // The user's settings file changes, as when the setting is edited by hand (the workbench tells the extension).
-    const userSettings = join(server.workDir, 'user-data', 'User', 'settings.json');
-    writeFileSync(userSettings, JSON.stringify({ ...JSON.parse(readFileSync(userSettings, 'utf8')), 'shardwise.tokens.contextLength': p50 }, null, 2));
+    // The demo's project file (shardwise.json) sets the context length, and wins over VS Code's
+    // settings: the new length goes there, as a person edits it (after the step proving no data file was written).
+    const project = join(work, 'shardwise.json');
+    writeFileSync(project, JSON.stringify({ ...JSON.parse(readFileSync(project, 'utf8')), tokens: { contextLength: p50 } }, null, 2));
     const fromKept = await waitFor(`the over-context count at ${p50} tokens from the kept counts`, async () => {
       const t = await frame.locator('.sw-progress-text').innerText().catch(() => '');
       const o = await overOf();
@@ -669,11 +678,65 @@ async function main() {
     assert(fresh.records === fromKept.records && fresh.length === p50, `from the kept counts ${fromKept.records} records over ${p50}, a new check says ${fresh.records} over ${fresh.length}`);
   });
 
-  await step('nothing written: every data file has the bytes and modification time it had before the run', async () => {
-    await wb.runCommand('View: Close All Editors');
-    const changed = [...before].filter(([f, fp]) => !existsSync(join(work, f)) || fingerprint(f) !== fp).map(([f]) => f);
-    assert(changed.length === 0, `changed by the views and commands: ${changed.join(', ')}`);
-    assert(before.size >= shards.length, `only ${before.size} files were fingerprinted`);
+  // Restricted Mode (VS Code's workspace trust): a second workbench on a fresh copy of the demo
+  // folder, trust on and the folder not trusted. The manifest declares the extension as working in
+  // limited form there, with the settings that point at files as restricted configurations.
+  await step(`in Restricted Mode ${chat} opens and reads, its workspace schema waits for trust, and the view says so with a Manage link`, async () => {
+    const restricted = manifest.capabilities?.untrustedWorkspaces?.restrictedConfigurations ?? [];
+    assert(manifest.capabilities?.untrustedWorkspaces?.supported === 'limited' && restricted.includes('shardwise.schemas'), 'the manifest does not declare limited support with shardwise.schemas restricted');
+    assert(schemaFinding, 'the trusted run found no schema finding to compare with');
+    const copy = join(tmpdir(), `shardwise-untrusted-demo-${process.pid}`);
+    rmSync(copy, { recursive: true, force: true });
+    cpSync(demoDir, copy, { recursive: true });
+    const srv = await startUntrustedCodeServer({ vsix, folder: copy, log: (x) => console.log(`[workbench] ${x}`) });
+    const page2 = await context.newPage();
+    const main = wb;
+    wb = new Workbench(page2);
+    try {
+      await wb.open(srv.url, copy);
+      // The workbench's own sign that the folder is not trusted.
+      await page2.locator('.part.statusbar .statusbar-item', { hasText: 'Restricted Mode' }).first().waitFor({ timeout: 60000 });
+      await wb.activityItem(containerTitle).waitFor({ timeout: 60000 });
+      await wb.openFromExplorer(chat);
+      const frame = await wb.recordView(chat, 60000);
+      const view = await waitFor(`${chat} to be indexed in Restricted Mode`, async () => {
+        const v = await readRecordView(frame);
+        return v.complete && v.rows.some((r) => !r.loading) ? v : null;
+      }, 120000);
+      assert(countOf(view.entriesText) === facts.get(chat).entries, `header says "${view.entriesText}", expected ${facts.get(chat).entries}`);
+      expectFirstRecordShown(view, facts.get(chat), chat);
+      const note = await waitFor('the trust note', async () => {
+        const t = await frame.evaluate(() => { const n = document.querySelector('.sw-notice'); return n && !n.hidden ? n.textContent : null; });
+        // The settings' note names shardwise.schemas; the project file's note names its schemas.
+        return t && /schemas/.test(t) ? t : null;
+      }, 20000).catch(async (e) => {
+        await page2.screenshot({ path: join(outDir, 'restricted-mode-failure.png') }).catch(() => {});
+        const seen = await frame.evaluate(() => ({ notice: document.querySelector('.sw-notice')?.outerHTML.slice(0, 300), banner: document.querySelector('.sw-banner')?.textContent }));
+        throw new Error(`${e.message}; the view shows ${JSON.stringify(seen)}`);
+      });
+      assert(/not trusted/.test(note), `the note says "${note}"`);
+      // The schema from the folder's settings is not applied: the check finds no schema violation.
+      const { frame: panel } = await panelFor(chat);
+      const schemaGroups = await panel.locator('.sw-group-head[data-rule="schema-violation"], .sw-finding[data-rule="schema-violation"]').count();
+      assert(schemaGroups === 0, `the panel lists schema-violation findings in Restricted Mode (${schemaGroups})`);
+      const checked = await panel.locator('.sw-group-head, .sw-finding').count();
+      assert(checked > 0, 'the panel lists no finding at all in Restricted Mode: was the shard checked?');
+      // The note's link opens the workbench's trust editor.
+      await frame.locator('.sw-notice .sw-link').click();
+      let seenTab = '';
+      await waitFor('the Workspace Trust editor', async () => {
+        seenTab = (await wb.activeTab().catch(() => '')).replace(/\s+/g, ' ');
+        return /Workspace\s*Trust/i.test(seenTab) || (await page2.locator('.workspace-trust-editor').count()) > 0;
+      }, 20000).catch(async (e) => {
+        await page2.screenshot({ path: join(outDir, 'restricted-mode-failure.png') }).catch(() => {});
+        throw new Error(`${e.message}; the active tab is "${seenTab}"`);
+      });
+    } finally {
+      wb = main;
+      await page2.close().catch(() => {});
+      await srv.stop();
+      rmSync(copy, { recursive: true, force: true });
+    }
   });
 
   const tEnd = Date.now();
