@@ -211,15 +211,9 @@ export class ShardDocument implements vscode.CustomDocument {
     this.analysis?.abort();
     this.settings = after;
     this.tally = ShardTally.restore(next);
-    this.byEntry = new Map();
     this.byId = new Map();
     this.ids = new WeakMap();
-    for (const f of this.tally.findings) {
-      if (f.entry === null) continue;
-      const list = this.byEntry.get(f.entry) ?? [];
-      list.push(f);
-      this.byEntry.set(f.entry, list);
-    }
+    this.indexFindings();
     this.recontexted = true;
     this.fire();
     void this.keep();
@@ -315,6 +309,17 @@ export class ShardDocument implements vscode.CustomDocument {
     return key ? store.get(key) : null;
   }
 
+  /** Files the tally's findings under their entries (after a tally was restored rather than built). */
+  private indexFindings(): void {
+    this.byEntry = new Map();
+    for (const f of this.tally.findings) {
+      if (f.entry === null) continue;
+      const list = this.byEntry.get(f.entry) ?? [];
+      list.push(f);
+      this.byEntry.set(f.entry, list);
+    }
+  }
+
   /** Shows results kept from an earlier check; false when they cannot be used. */
   private restoreKept(kept: KeptResults): boolean {
     try {
@@ -323,13 +328,7 @@ export class ShardDocument implements vscode.CustomDocument {
       return false;
     }
     this.recordEntry = Int32Array.from(kept.recordEntry);
-    this.byEntry = new Map();
-    for (const f of this.tally.findings) {
-      if (f.entry === null) continue;
-      const list = this.byEntry.get(f.entry) ?? [];
-      list.push(f);
-      this.byEntry.set(f.entry, list);
-    }
+    this.indexFindings();
     this.phase = 'done';
     this.progress = 1;
     this.kept = true;
