@@ -4,8 +4,8 @@ import { existsSync, readFileSync, readdirSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { root } from './paths.mjs';
 
-/** Files copied beside the bundles at build time (not visible in source maps). */
-export const RUNTIME_COPIES = ['parquet-wasm', '@vscode/codicons'];
+/** Files copied or built beside the bundles at build time (not visible in source maps): the rank tables come from js-tiktoken. */
+export const RUNTIME_COPIES = ['parquet-wasm', '@vscode/codicons', 'js-tiktoken'];
 
 /** Package names whose code appears in the source maps of `distDir` (a development build). */
 export function bundledPackages(distDir = join(root, 'dist')) {
