@@ -134,9 +134,11 @@ export class FileFollower implements vscode.Disposable {
     if (this.busy) return this.armSettle();
     this.busy = true;
     try {
+      // Looked at before the worker does: growth after this point is seen by the next look.
+      const now = await this.look();
       const r = await this.target.extend(true);
       if (this.disposed) return;
-      this.seen = await this.look();
+      this.seen = now;
       if (r.change === 'none') {
         this.grown = false;
         this.target.settled();

@@ -71,7 +71,8 @@ export function recontext(
     if (n < 0 || n <= contextLength) continue;
     const was = old.get(record);
     const at = places.get(record) ?? (was && was.entry !== null ? { entry: was.entry, line: was.line, column: was.column } : null);
-    if (!at) continue;
+    // A record over the new length whose place is unknown: only a new check can file it.
+    if (!at) return null;
     // The earlier message names the longest sequence where the record has several; only the length changes.
     const message = was
       ? was.message.replace(/more than the context length of \d+\.$/, `more than the context length of ${contextLength}.`)
@@ -79,7 +80,7 @@ export function recontext(
         ? `Rendered with the chat template, the record has ${n} tokens (${opts.tokenizer}), more than the context length of ${contextLength}.`
         : `The record has ${n} tokens (${opts.tokenizer}), more than the context length of ${contextLength}.`;
     const f = applyPolicy(
-      { rule, family: info?.family ?? 'tokens', severity: info?.severity ?? 'warning', message, record, line: at.line, column: at.column, pointer: '', entry: at.entry, ...(was?.group !== undefined ? { group: was.group, rowInGroup: was.rowInGroup } : {}) },
+      { rule: was?.rule ?? rule, family: info?.family ?? 'tokens', severity: info?.severity ?? 'warning', message, record, line: at.line, column: at.column, pointer: '', entry: at.entry, ...(was?.group !== undefined ? { group: was.group, rowInGroup: was.rowInGroup } : {}) },
       opts.rules,
     );
     if (f) made.push(f);

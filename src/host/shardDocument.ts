@@ -24,6 +24,8 @@ import { initialProgress, nextProgress, panelText, windowText, type ProgressEven
 
 /** Past this many entries without a record, the reading worker is not taught them (numbers stay as it counts). */
 const MAX_TAUGHT = 5_000_000;
+/** A new context length is answered from the kept counts only when at most this many records must be read to place their findings. */
+const MAX_RECONTEXT_READS = 5_000;
 
 
 
@@ -184,18 +186,27 @@ export class ShardDocument implements vscode.CustomDocument {
    * already kept (no record is tokenised again); any other change checks the shard again.
    */
   async settingsChanged(): Promise<void> {
+    const epoch = ++this.settingsEpoch;
     const before = this.settings;
     const after = await settingsFor(this.uri);
-    if (this.phase === 'done' && before && onlyContextLengthChanged(before.config, after.config) && (await this.recontext(after))) return;
+    if (epoch !== this.settingsEpoch) return; // a later change answers for both
+    if (this.phase === 'done' && before && onlyContextLengthChanged(before.config, after.config) && (await this.recontext(after, epoch))) return;
+    if (epoch !== this.settingsEpoch) return;
     this.settings = after;
     await this.analyze(false);
   }
 
-  private async recontext(after: HostSettings): Promise<boolean> {
+  /** Counts settings changes, so that only the latest one is applied. */
+  private settingsEpoch = 0;
+
+  private async recontext(after: HostSettings, epoch: number): Promise<boolean> {
     const snap = this.tally.snapshot();
     const length = after.config.contextLength;
     const places = new Map<number, RecordPlace>();
     const want = recordsNeedingPlaces(snap, length);
+    // Past a few thousand records to place, a new check is as quick as reading each one.
+    if (want.length > MAX_RECONTEXT_READS) return false;
+    const gen = this.generation;
     // A record's place, as the analysis gives it: its entry, line and the column where its value starts.
     const entries = want.map((r) => this.recordEntry[r] ?? -1);
     if (entries.some((e) => e < 0) || !this.session) return false;
@@ -205,6 +216,9 @@ export class ShardDocument implements vscode.CustomDocument {
       const column = x.line !== null && x.text !== undefined ? (locatePointer(x.text, '')?.column ?? 1) : null;
       places.set(want[i], { entry: e, line: x.line, column });
     }
+    // Another change (a new check, another context length) came while the places were read: it
+    // owns the document now, and this one has nothing more to do.
+    if (gen !== this.generation || epoch !== this.settingsEpoch) return true;
     const next = recontext(snap, length, places, { tokenizer: tokenizerLabel(tokenizerOf(after.config)), rendered: snap.renderedTotal !== null, rules: after.config.rules });
     if (!next) return false;
     ++this.generation;
@@ -410,7 +424,11 @@ export class ShardDocument implements vscode.CustomDocument {
     if (entries < 0 || !this.session) return;
     const gaps: number[] = [];
     let next = 0;
-    for (let r = 0; r < this.recordEntry.length; r++) {
+    // The map grows by doubling: its tail past the last record is padding, not a record missing.
+    let last = this.recordEntry.length;
+    while (last > 0 && this.recordEntry[last - 1] < 0) last--;
+    if (last !== this.tally.records) return;
+    for (let r = 0; r < last; r++) {
       const e = this.recordEntry[r];
       if (e < 0) return;
       for (; next < e && gaps.length <= MAX_TAUGHT; next++) gaps.push(next);

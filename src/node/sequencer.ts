@@ -60,12 +60,19 @@ export class OutcomeSequencer {
     for (;;) {
       let share: number;
       if (this.draining) {
+        // The smallest entry queued, once every share still sending has something queued: one
+        // that has not sent yet may still send a smaller entry.
         share = -1;
+        let waiting = false;
         for (let i = 0; i < this.count; i++) {
           const h = this.head(i);
-          if (h && (share < 0 || h.entry < this.head(share)!.entry)) share = i;
+          if (!h) {
+            if (!this.finished[i]) waiting = true;
+            continue;
+          }
+          if (share < 0 || h.entry < this.head(share)!.entry) share = i;
         }
-        if (share < 0) break;
+        if (share < 0 || waiting) break;
       } else {
         share = Math.floor(this.next / this.block) % this.count;
         const h = this.head(share);

@@ -1,6 +1,7 @@
 // Worker-thread entry: runs whole-file analysis shares and serves a record view's reads,
 // so the extension host's main thread never parses, indexes or tokenizes.
 
+import { stat } from 'node:fs/promises';
 import { parentPort } from 'node:worker_threads';
 import { abortError, analyzeSource, type EntryOutcome } from '../engine/analyze.js';
 import { FactGatherer } from '../engine/query.js';
@@ -19,6 +20,18 @@ const running = new Map<number, AbortController>();
 let session: RecordSource | null = null;
 /** What the open session reads, so a query can read the same file with a second reader. */
 let sessionPath: { path: string; open: OpenOptions } | null = null;
+/** The open shard's size, time and identity when it was opened, for sources that cannot extend. */
+let sessionStat: { size: number; mtimeMs: number; ino: number; dev: number } | null = null;
+
+/** What changed on disk since the shard was opened, for a source that cannot extend its index. */
+async function changeOnDisk(path: string): Promise<'none' | 'shorter' | 'replaced'> {
+  const was = sessionStat;
+  const st = await stat(path).catch(() => null);
+  if (!was || !st || !st.isFile()) return 'replaced';
+  if (st.ino !== was.ino || st.dev !== was.dev) return 'replaced';
+  if (st.size < was.size) return 'shorter';
+  return st.size === was.size && st.mtimeMs === was.mtimeMs ? 'none' : 'replaced';
+}
 
 function post(ev: WorkerEvent): void {
   port!.postMessage(ev);
@@ -110,6 +123,7 @@ async function handle(req: WorkerRequest): Promise<void> {
       const ac = new AbortController();
       running.set(req.id, ac);
       sessionPath = { path: req.path, open: req.open };
+      sessionStat = await stat(req.path).then((st) => ({ size: st.size, mtimeMs: st.mtimeMs, ino: st.ino, dev: st.dev })).catch(() => null);
       session = createSource(req.path, req.open);
       let info = await session.open(ac.signal);
       // An index kept from an earlier session of the same bytes spares reading the file again.
@@ -162,7 +176,7 @@ async function handle(req: WorkerRequest): Promise<void> {
     case 'extend': {
       // The file changed on disk: a source that can extend its index does; any other is opened again.
       if (!session) throw new Error('no shard is open in this worker');
-      const change = session.extend ? await session.extend({ settled: req.settled }) : { change: 'replaced' as const, info: session.info() };
+      const change = session.extend ? await session.extend({ settled: req.settled }) : { change: await changeOnDisk(sessionPath!.path), info: session.info() };
       post({ id: req.id, kind: 'change', change });
       return;
     }

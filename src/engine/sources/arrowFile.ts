@@ -80,7 +80,8 @@ export class ArrowFileSource extends ArrowSourceBase {
       return layout;
     }
     // Every dictionary and batch header at once: the footer says where each lies and how long it is.
-    const headers = await prefetchRanges(reader, [...footer.dictionaries, ...footer.batches].map((b) => ({ offset: b.offset, length: b.metaLength })));
+    // A read that fails here leaves each header to its own read, whose failure is that block's finding.
+    const headers = await prefetchRanges(reader, [...footer.dictionaries, ...footer.batches].map((b) => ({ offset: b.offset, length: b.metaLength }))).catch(() => reader);
     // Each dictionary message is checked as a batch is, before the library reads it.
     for (let k = 0; k < footer.dictionaries.length; k++) {
       const block = footer.dictionaries[k];

@@ -515,6 +515,9 @@ export class JsonlSource implements RecordSource {
     if (known && (st.ino !== this.fileIno || st.dev !== this.fileDev)) return seen('replaced');
     if (st.size < this.sizeBytes) return seen('shorter');
     if (st.size === this.sizeBytes && st.mtimeMs === this.mtimeMs) return seen('none');
+    // Written again at the same size (an edit in place): only reading it all again would tell
+    // what changed, so it is opened again.
+    if (st.size === this.sizeBytes) return seen('replaced');
     if (this.compression !== 'none') return seen('replaced');
     // Without an inode to compare, the bytes are read through the path itself.
     let handle = this.handle!;
@@ -547,6 +550,7 @@ export class JsonlSource implements RecordSource {
         return seen('grew');
       }
       const idx = this.idx;
+      await Promise.allSettled([...this.reading]);
       let from = idx.end;
       if (idx.lastUnterminated) {
         from = await this.lastLineStart(handle);
@@ -647,6 +651,20 @@ export class JsonlSource implements RecordSource {
       throw new RangeError(`${this.path}: bad entry range ${start}..${end}`);
     }
     if (this.extending) await this.extending.catch(() => undefined);
+    // Registered, so that an extend that starts now waits for this read before it moves the index.
+    const reading = this.readNow(start, end, opts);
+    this.reading.add(reading);
+    try {
+      return await reading;
+    } finally {
+      this.reading.delete(reading);
+    }
+  }
+
+  /** Reads in flight: an extend waits for them before it changes the index under them. */
+  private readonly reading = new Set<Promise<Entry[]>>();
+
+  private async readNow(start: number, end: number, opts: { signal?: AbortSignal }): Promise<Entry[]> {
     const idx = this.idx;
     if (end > idx.lines) {
       throw new RangeError(`${this.path}: entries ${start}..${end} are not indexed yet (${idx.lines} known${this.complete ? ', index complete' : ''})`);

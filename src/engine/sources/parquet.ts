@@ -418,7 +418,8 @@ export class ParquetSource implements RecordSource {
         }
         for (const at of offsets) {
           const h = await this.header(at, end);
-          if (!h) return null;
+          // A header that does not decode is left to the decoder; the other pages are still checked.
+          if (!h) continue;
           const why = overCap(h, at, chunk, k, cap);
           if (why) return why;
           total += h.uncompressedSize;
@@ -427,7 +428,8 @@ export class ParquetSource implements RecordSource {
         let at = chunk.start;
         for (let pages = 0; at < end && pages < 1_000_000; pages++) {
           const h = await this.header(at, end);
-          if (!h || h.compressedSize < 0 || h.uncompressedSize < 0) return null;
+          // Past a header that does not decode, this chunk's pages cannot be found; the next chunk's can.
+          if (!h || h.compressedSize < 0 || h.uncompressedSize < 0) break;
           const why = overCap(h, at, chunk, k, cap);
           if (why) return why;
           total += h.uncompressedSize;

@@ -43,6 +43,22 @@ describe('OutcomeSequencer', () => {
     }
   });
 
+  it('while draining, nothing passes a share that may still send a smaller entry', () => {
+    const got: number[] = [];
+    const seq = new OutcomeSequencer(3, 2, (os) => got.push(...os.map((o) => o.entry)));
+    seq.push(0, [outcome(0, true)]);
+    seq.finish(0);
+    // Share 0 stopped after entry 0: entries 1, 6, 7 will never come. Share 1 runs ahead of share 2.
+    seq.push(1, [outcome(2, true), outcome(3, true), outcome(8, true)]);
+    expect(got).toEqual([0]);
+    seq.push(2, [outcome(4, true), outcome(5, true)]);
+    expect(got).toEqual([0, 2, 3, 4, 5]);
+    seq.finish(2);
+    expect(got).toEqual([0, 2, 3, 4, 5, 8]);
+    seq.finish(1);
+    expect(got).toEqual([0, 2, 3, 4, 5, 8]);
+  });
+
   it('a share that stops early lets the others drain in entry order', () => {
     const got: number[] = [];
     const seq = new OutcomeSequencer(2, 2, (os) => got.push(...os.map((o) => o.entry)));

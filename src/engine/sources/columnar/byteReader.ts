@@ -111,7 +111,11 @@ const COALESCE_MAX = 8 * 1024 * 1024;
  * reads go to `inner`. Used to read every batch header of an Arrow file at once on open.
  */
 export async function prefetchRanges(inner: ByteReader, ranges: { offset: number; length: number }[], gap = COALESCE_GAP): Promise<ByteReader> {
-  const sorted = ranges.filter((r) => r.length > 0).sort((a, b) => a.offset - b.offset);
+  // A range a damaged footer makes huge, or puts outside the file, is not fetched here: its own
+  // read (and its own finding) happens where it is used.
+  const sorted = ranges
+    .filter((r) => r.length > 0 && r.length <= COALESCE_MAX && r.offset >= 0 && r.offset < inner.size)
+    .sort((a, b) => a.offset - b.offset);
   const merged: { offset: number; end: number }[] = [];
   for (const r of sorted) {
     const last = merged[merged.length - 1];
