@@ -6,6 +6,7 @@ import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { afterAll, describe, expect, it, vi } from 'vitest';
 import { withDefaults, type CheckConfig } from '../../../src/engine/config';
+import type { EntryOutcome } from '../../../src/engine/analyze';
 import type { Finding } from '../../../src/engine/findings';
 import { ShardTally } from '../../../src/engine/stats/tally';
 import { analyzeInThread } from '../../../src/node/inThread';
@@ -33,8 +34,8 @@ async function check(config: CheckConfig): Promise<{ tally: ShardTally; entries:
     config,
     open: { maxLineBytes: config.maxLineBytes },
     workers: 0,
-    onFileFindings: (fs) => fs.forEach((f) => tally.addFinding(f)),
-    onOutcomes: (os) => os.forEach((o) => { tally.add(o); if (o.record !== null) entries.set(o.record, o.entry); }),
+    onFileFindings: (fs: Finding[]) => fs.forEach((f) => tally.addFinding(f)),
+    onOutcomes: (os: EntryOutcome[]) => os.forEach((o) => { tally.add(o); if (o.record !== null) entries.set(o.record, o.entry); }),
   } as never);
   return { tally, entries };
 }
