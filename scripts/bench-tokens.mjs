@@ -15,6 +15,7 @@ import { dirname, join } from 'node:path';
 import { fileURLToPath, pathToFileURL } from 'node:url';
 import { get_encoding } from 'tiktoken';
 import { Tiktoken } from 'js-tiktoken/lite';
+import { prng } from './bench/corpus.mjs';
 
 const root = join(dirname(fileURLToPath(import.meta.url)), '..');
 const megabytes = Number(process.argv[2] ?? 30);
@@ -35,17 +36,6 @@ await build({
 const { createTokenCounter } = await import(pathToFileURL(join(out, 'counter.mjs')).href);
 rmSync(out, { recursive: true, force: true });
 
-/** mulberry32 (common practice): seeded, so every run counts the same corpus. */
-function prng(seed) {
-  let s = seed >>> 0;
-  return () => {
-    s = (s + 0x6d2b79f5) >>> 0;
-    let t = s;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
-}
 
 const rand = prng(20240611);
 const pick = (xs) => xs[Math.floor(rand() * xs.length)];

@@ -5,6 +5,7 @@
 import { closeSync, openSync, readFileSync, readSync, statSync } from 'node:fs';
 import { createRequire } from 'node:module';
 import { Worker, isMainThread, parentPort, workerData } from 'node:worker_threads';
+import { prng } from './corpus.mjs';
 
 const require = createRequire(import.meta.url);
 const api = () => require(process.env.SW_BENCH_API);
@@ -21,16 +22,6 @@ const rchar = () => {
     return null;
   }
 };
-function prng(seed) {
-  let s = seed >>> 0;
-  return () => {
-    s = (s + 0x6d2b79f5) >>> 0;
-    let t = s;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
-}
 
 // ---- references: the fastest plain code a person would write ----
 
