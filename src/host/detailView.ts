@@ -4,7 +4,7 @@
 // raster formats a browser decodes without running anything, and only when small.
 
 import type { LTurn, Part, PairSide, Reading } from '../engine/layouts/layout.js';
-import type { RenderedRecord } from '../engine/checks/tokens.js';
+import type { RenderedRecord } from '../engine/tokens/recordTokens.js';
 import type { PairSideView, PairView, PartView, RenderedView, TurnView } from '../protocol.js';
 
 /** Largest base64 payload (characters) sent as a thumbnail. */

@@ -1,7 +1,7 @@
 // Messages between a host thread (extension host or CLI) and its worker threads.
 
 import type { EntryOutcome, Share } from '../engine/analyze.js';
-import type { RenderedRecord } from '../engine/checks/tokens.js';
+import type { RenderedRecord } from '../engine/tokens/recordTokens.js';
 import type { CheckConfig } from '../engine/config.js';
 import type { OpenOptions } from '../engine/sources/index.js';
 import type { ScanFacts, ScanNeeds } from '../engine/query.js';

@@ -6,7 +6,7 @@ import { parentPort } from 'node:worker_threads';
 import { abortError, analyzeSource, type EntryOutcome } from '../engine/analyze.js';
 import { FactGatherer } from '../engine/query.js';
 import { ALL_CHECKS } from '../engine/checks/index.js';
-import { renderedRecord, turnTokenCounts } from '../engine/checks/tokens.js';
+import { renderedRecord, turnTokenCounts } from '../engine/tokens/recordTokens.js';
 import { loadTokenizer, tokenizerOf } from '../engine/tokens/index.js';
 import { createSource, type OpenOptions } from '../engine/sources/index.js';
 import type { RecordSource } from '../engine/sources/source.js';

@@ -5,7 +5,7 @@ import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import type * as vscode from 'vscode';
-import type { RenderedRecord } from '../../../src/engine/checks/tokens';
+import type { RenderedRecord } from '../../../src/engine/tokens/recordTokens';
 import { renderedViews } from '../../../src/host/detailView';
 import { tokenizerSetting } from '../../../src/host/tokenizerSetting';
 

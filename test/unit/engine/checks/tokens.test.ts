@@ -3,7 +3,8 @@ import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { get_encoding, type Tiktoken as ReferenceEncoder } from 'tiktoken';
 import { withDefaults, type CheckConfig } from '../../../../src/engine/config.js';
 import type { RecordResult } from '../../../../src/engine/checks/check.js';
-import { TOKENS_RULES, tokensCheck, turnTokenCounts } from '../../../../src/engine/checks/tokens.js';
+import { TOKENS_RULES, tokensCheck } from '../../../../src/engine/checks/tokens.js';
+import { turnTokenCounts } from '../../../../src/engine/tokens/recordTokens.js';
 
 let cl100k: ReferenceEncoder;
 let o200k: ReferenceEncoder;
