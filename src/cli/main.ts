@@ -5,7 +5,7 @@ import { accessSync, constants, createWriteStream, existsSync, readFileSync, sta
 import { basename, relative, resolve, sep } from 'node:path';
 import type { Finding } from '../engine/findings.js';
 import { reaches } from '../engine/policy.js';
-import { settleFileSettings, type FailLevel, type SettingValues } from '../engine/project.js';
+import { ProjectFileError, settleFileSettings, type FailLevel, type SettingValues } from '../engine/project.js';
 import { resolveTokenizerValue, tokenizerOf } from '../engine/tokens/index.js';
 import { homedir } from 'node:os';
 import { allRules } from '../engine/rules.js';
@@ -91,7 +91,7 @@ export async function run(argv: string[], out: NodeJS.WritableStream, err: NodeJ
       err.write(`shardwise: ${e.message}\n\n${verbHelp(parsed.verb)}`);
       return 2;
     }
-    if (e instanceof InputError || e instanceof InputProblem || (e as Error).name === 'ProjectFileError') {
+    if (e instanceof InputError || e instanceof InputProblem || e instanceof ProjectFileError) {
       err.write(`shardwise: ${(e as Error).message}\n`);
       return 2;
     }

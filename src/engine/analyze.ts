@@ -8,6 +8,7 @@ import type { Entry, Progress, RecordSource } from './sources/source.js';
 import { locatePointer } from './json/scan.js';
 import { settleConfig } from './stats/shape.js';
 import { applyPolicyAll, hash64, recordKey, stableJson } from './policy.js';
+import { CancelledError, SetupError, isFatal } from './errors.js';
 
 /** One entry's outcome, as a worker streams it back. */
 export interface EntryOutcome {
@@ -75,18 +76,11 @@ export async function prepareChecks(checks: readonly Check[], config: CheckConfi
       await c.prepare?.(config);
     } catch (err) {
       // A schema that does not compile is a setup problem, not a finding about the shard.
-      const e = new Error((err as Error)?.message ?? String(err));
-      e.name = 'SetupError';
-      throw e;
+      throw new SetupError((err as Error)?.message ?? String(err));
     }
   }
 }
 
-/** Errors that stop an analysis rather than becoming a finding about the file. */
-export function isFatal(err: unknown): boolean {
-  const name = (err as Error)?.name;
-  return name === 'AbortError' || name === 'SetupError';
-}
 
 /**
  * Checks every entry of the source. A file that breaks off mid-read keeps what was read: the break
@@ -102,7 +96,7 @@ export async function analyzeSource(source: RecordSource, options: AnalyzeOption
     await prepareChecks(opts.checks, opts.config);
     // Entries of other shares are not parsed here: the pool renumbers records in entry order.
     for await (const entry of source.scan({ signal: opts.signal, onProgress: opts.onProgress, want, exactRecords: want === undefined })) {
-      if (opts.signal?.aborted) throw abortError();
+      if (opts.signal?.aborted) throw new CancelledError();
       // Sources may deliver entries outside the share; they belong to another worker.
       if (!inShare(entry.entry, share)) continue;
       opts.onOutcome(analyzeEntry(entry, opts.checks, opts.config));
@@ -220,11 +214,6 @@ function safeLocate(text: string, pointer: string): number | null {
   }
 }
 
-export function abortError(): Error {
-  const e = new Error('cancelled');
-  e.name = 'AbortError';
-  return e;
-}
 
 function readFailedFinding(err: unknown): Finding {
   const msg = err instanceof Error ? err.message : String(err);

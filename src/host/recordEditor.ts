@@ -18,6 +18,7 @@ import { openAtFinding } from './openText.js';
 import { ShardDocument } from './shardDocument.js';
 import { columnsFromEntries, cut, cutValue, rowOf, DETAIL_STRING_CHARS } from './views.js';
 import { webviewHtml } from './webviewAssets.js';
+import { isCancelled } from '../engine/errors.js';
 
 export const RECORD_VIEW_TYPE = 'shardwise.recordView';
 
@@ -127,7 +128,7 @@ export class RecordEditorProvider implements vscode.CustomReadonlyEditorProvider
         view = built;
         postView();
       } catch (err) {
-        if (gen !== viewGen || (err as Error).name === 'AbortError') return;
+        if (gen !== viewGen || isCancelled(err)) return;
         postView({ error: (err as Error).message });
       }
     };

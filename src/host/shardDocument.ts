@@ -21,6 +21,7 @@ import { onlyContextLengthChanged, recontext, recordsNeedingPlaces, type RecordP
 import { locatePointer } from '../engine/json/scan.js';
 import { formatPlace, targetIndex, type PlaceTarget } from '../engine/places.js';
 import { initialProgress, nextProgress, panelText, windowText, type ProgressEvent, type ProgressState } from '../engine/progress.js';
+import { isCancelled } from '../engine/errors.js';
 
 /** Past this many entries without a record, the reading worker is not taught them (numbers stay as it counts). */
 const MAX_TAUGHT = 5_000_000;
@@ -303,7 +304,7 @@ export class ShardDocument implements vscode.CustomDocument {
       void this.keep(startKey);
     } catch (err) {
       if (gen !== this.generation) return;
-      if ((err as Error).name === 'AbortError') {
+      if (isCancelled(err)) {
         this.phase = 'cancelled';
         this.step({ kind: 'check-cancelled' });
       } else {

@@ -6,6 +6,7 @@ import type { CheckConfig } from '../engine/config.js';
 import type { OpenOptions } from '../engine/sources/index.js';
 import type { ScanFacts, ScanNeeds } from '../engine/query.js';
 import type { Entry, FileChange, Progress, SourceInfo } from '../engine/sources/source.js';
+import type { ErrorKind } from '../engine/errors.js';
 
 export type WorkerRequest =
   | { id: number; op: 'analyze'; path: string; config: CheckConfig; share: Share; open: OpenOptions }
@@ -32,4 +33,4 @@ export type WorkerEvent =
   | { id: number; kind: 'facts'; facts: ScanFacts }
   | { id: number; kind: 'change'; change: FileChange }
   | { id: number; kind: 'done' }
-  | { id: number; kind: 'error'; message: string; name: string };
+  | { id: number; kind: 'error'; message: string; errorKind: ErrorKind };

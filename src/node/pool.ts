@@ -5,7 +5,8 @@
 import { availableParallelism } from 'node:os';
 import { join } from 'node:path';
 import { Worker } from 'node:worker_threads';
-import { abortError, type EntryOutcome, type Share } from '../engine/analyze.js';
+import { type EntryOutcome, type Share } from '../engine/analyze.js';
+import { CancelledError, errorFromWire } from '../engine/errors.js';
 import type { CheckConfig } from '../engine/config.js';
 import type { OpenOptions } from '../engine/sources/index.js';
 import type { Progress, SourceInfo } from '../engine/sources/source.js';
@@ -97,7 +98,7 @@ export async function analyzeFile(path: string, options: AnalyzeFileOptions): Pr
       shares.map(
         (share, i) =>
           new Promise<void>((resolve, reject) => {
-            if (opts.signal?.aborted) return reject(abortError());
+            if (opts.signal?.aborted) return reject(new CancelledError());
             const w = new Worker(opts.workerScript ?? workerScriptPath());
             threads.push(w);
             // The watchdog: a worker that reports no new record and no new byte for the set
@@ -123,7 +124,7 @@ export async function analyzeFile(path: string, options: AnalyzeFileOptions): Pr
             const settle = () => clearInterval(timer);
             const onAbort = () => {
               settle();
-              reject(abortError());
+              reject(new CancelledError());
             };
             opts.signal?.addEventListener('abort', onAbort, { once: true });
             w.on('message', (ev: WorkerEvent) => {
@@ -158,9 +159,7 @@ export async function analyzeFile(path: string, options: AnalyzeFileOptions): Pr
                   break;
                 case 'error': {
                   settle();
-                  const e = new Error(ev.message);
-                  e.name = ev.name;
-                  reject(e);
+                  reject(errorFromWire(ev.errorKind, ev.message));
                   break;
                 }
               }

@@ -12,6 +12,7 @@ import type { WorkerEvent, WorkerRequest } from './messages.js';
 import { workerScriptPath } from './pool.js';
 import { DEFAULT_STALL_SECONDS } from '../engine/sources/index.js';
 import { installTempCleanup } from '../engine/sources/tempFiles.js';
+import { errorFromWire } from '../engine/errors.js';
 
 type Pending = { resolve: (ev: WorkerEvent) => void; reject: (e: Error) => void };
 
@@ -119,7 +120,7 @@ export class SourceSession {
             this.pending.delete(id);
             this.route.delete(id);
             if (first) reject(new Error(ev.message));
-            else if (ev.name !== 'AbortError') this.events.onError(ev.message);
+            else if (ev.errorKind !== 'cancelled') this.events.onError(ev.message);
             break;
         }
       });
@@ -196,9 +197,7 @@ export class SourceSession {
         if (this.queryId === id) this.queryId = 0;
         if (ev.kind === 'facts') resolve(ev.facts);
         else if (ev.kind === 'error') {
-          const e = new Error(ev.message);
-          e.name = ev.name;
-          reject(e);
+          reject(errorFromWire(ev.errorKind, ev.message));
         } else reject(new Error('unexpected answer from the shard worker'));
       });
       this.post({ id, op: 'query', needs, config, entries });
@@ -230,9 +229,7 @@ export class SourceSession {
       if (!p) return;
       this.pending.delete(ev.id);
       if (ev.kind === 'error') {
-        const e = new Error(ev.message);
-        e.name = ev.name;
-        p.reject(e);
+        p.reject(errorFromWire(ev.errorKind, ev.message));
       } else p.resolve(ev);
     });
     w.on('error', (e) => this.events.onError(`the shard worker failed: ${e.message}`));

@@ -3,7 +3,8 @@
 
 import { stat } from 'node:fs/promises';
 import { parentPort } from 'node:worker_threads';
-import { abortError, analyzeSource, type EntryOutcome } from '../engine/analyze.js';
+import { analyzeSource, type EntryOutcome } from '../engine/analyze.js';
+import { CancelledError, errorKind } from '../engine/errors.js';
 import { FactGatherer } from '../engine/query.js';
 import { ALL_CHECKS } from '../engine/checks/index.js';
 import { renderedRecord, turnTokenCounts } from '../engine/tokens/recordTokens.js';
@@ -39,7 +40,7 @@ function post(ev: WorkerEvent): void {
 
 function fail(id: number, err: unknown): void {
   const e = err as Error;
-  post({ id, kind: 'error', message: e?.message ?? String(err), name: e?.name ?? 'Error' });
+  post({ id, kind: 'error', message: e?.message ?? String(err), errorKind: errorKind(err) });
 }
 
 port.on('message', (req: WorkerRequest) => {
@@ -108,7 +109,7 @@ async function handle(req: WorkerRequest): Promise<void> {
             }
           },
         })) {
-          if (ac.signal.aborted) throw abortError();
+          if (ac.signal.aborted) throw new CancelledError();
           if (e.entry >= req.entries) break;
           gather.add(e.entry, e.value);
         }

@@ -13,6 +13,7 @@ import { EMPTY_FILE_MESSAGE, FileShrankError, compressionOf, decompressedChunks,
 import { DecompressError } from './decompress.js';
 import { DiskSpaceError, MIN_FREE_BYTES, freeBytes, makeTempDir } from './tempFiles.js';
 import { MAX_DEPTH, depthBeyond, parseLine, type ScanNote } from '../json/scan.js';
+import { isCancelled } from '../errors.js';
 
 const NOTE_RULE: Record<ScanNote['kind'], string> = {
   'duplicate-key': 'key-duplicate',
@@ -284,7 +285,7 @@ export class JsonArraySource implements RecordSource {
       }
     } catch (e) {
       signal?.throwIfAborted();
-      if ((e as Error)?.name === 'AbortError') throw e;
+      if (isCancelled(e)) throw e;
       if (e instanceof DecompressError || e instanceof DiskSpaceError) {
         const limit = e instanceof DiskSpaceError || e.problem === 'limit';
         findings.push(readFinding(limit ? 'read-limit' : 'read-corrupt', `${e.message.replace(/; (all|everything)[^;]*$/, '')}; elements up to there were read`));

@@ -13,6 +13,7 @@ import { jsonlRule, type JsonlRuleId } from './jsonlRules.js';
 import type { Entry, FileChange, Progress, RecordSource, ScanOptions, SourceInfo } from './source.js';
 import { DecompressError, decompress } from './decompress.js';
 import { DiskSpaceError, MIN_FREE_BYTES, freeBytes, makeTempDir } from './tempFiles.js';
+import { CancelledError, isCancelled } from '../errors.js';
 
 export interface JsonlOptions {
   /** What the bytes are compressed with, when sniffed; else the name decides. */
@@ -75,9 +76,7 @@ export function compressionOf(path: string): Compression {
 }
 
 function abortError(what: string): Error {
-  const e = new Error(`${what} was cancelled`);
-  e.name = 'AbortError';
-  return e;
+  return new CancelledError(`${what} was cancelled`);
 }
 
 function formatBytes(n: number): string {
@@ -465,7 +464,7 @@ export class JsonlSource implements RecordSource {
         }
       } catch (e) {
         check();
-        if ((e as Error)?.name === 'AbortError') throw e;
+        if (isCancelled(e)) throw e;
         this.findings.push(this.corruptFinding(e, written));
       }
       finder.end();
@@ -816,7 +815,7 @@ export class JsonlSource implements RecordSource {
         }
       }
     } catch (e) {
-      if ((e as Error)?.name === 'AbortError') throw e;
+      if (isCancelled(e)) throw e;
       if (e instanceof FileShrankError) {
         if (!this.findings.some((f) => f.message === e.message)) this.findings.push(this.fileFinding('read-corrupt', e.message));
       } else {

@@ -3,6 +3,8 @@
 // While a guarded call is pending we catch that error and reject the call, so a bad shard becomes
 // a finding instead of a crash or a hang.
 
+import { DecoderTrap } from '../../errors.js';
+
 /** The engine room has no DOM library, where WebAssembly's types live; Node provides the class. */
 declare const WebAssembly: { RuntimeError: new (message?: string) => Error };
 
@@ -15,7 +17,7 @@ function onUncaught(e: unknown): void {
     const all = [...pending];
     pending.clear();
     uninstall();
-    for (const reject of all) reject(new Error('the Parquet decoder stopped on malformed data'));
+    for (const reject of all) reject(new DecoderTrap('the Parquet decoder stopped on malformed data'));
     return;
   }
   // Not ours: restore the default (print and exit) by rethrowing without this listener.

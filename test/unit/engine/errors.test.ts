@@ -1,0 +1,56 @@
+// The typed errors: a cancellation, a setup problem and a decoder trap are told apart by class, and
+// keep their class across a worker boundary.
+import { describe, expect, it } from 'vitest';
+import { CancelledError, DecoderTrap, SetupError, errorFromWire, errorKind, isCancelled, isFatal } from '../../../src/engine/errors.js';
+import { prepareChecks } from '../../../src/engine/analyze.js';
+import type { Check } from '../../../src/engine/checks/check.js';
+import { withDefaults } from '../../../src/engine/config.js';
+
+describe('typed errors', () => {
+  it('recognises a cancellation by class, and the standard AbortSignal reason', () => {
+    expect(isCancelled(new CancelledError())).toBe(true);
+    const ac = new AbortController();
+    ac.abort();
+    let thrown: unknown;
+    try {
+      ac.signal.throwIfAborted();
+    } catch (e) {
+      thrown = e;
+    }
+    // WHATWG DOM standard: abort() without a reason makes an "AbortError" DOMException.
+    expect(thrown).toBeInstanceOf(DOMException);
+    expect(isCancelled(thrown)).toBe(true);
+  });
+
+  it('does not take an ordinary error that merely carries the name for a cancellation', () => {
+    const e = new Error('cancelled');
+    e.name = 'AbortError';
+    expect(isCancelled(e)).toBe(false);
+    expect(isFatal(e)).toBe(false);
+    expect(errorKind(e)).toBe('other');
+  });
+
+  it('keeps the class across the wire for every kind', () => {
+    for (const e of [new CancelledError('x'), new SetupError('y'), new DecoderTrap('z'), new Error('w')]) {
+      const back = errorFromWire(errorKind(e), e.message);
+      expect(back.constructor).toBe(e.constructor);
+      expect(back.message).toBe(e.message);
+    }
+    expect(isFatal(errorFromWire('setup', 'bad schema'))).toBe(true);
+    expect(isFatal(errorFromWire('decoder-trap', 'trap'))).toBe(false);
+  });
+
+  it('turns a check that cannot prepare into a SetupError with its message', async () => {
+    const broken: Check = {
+      name: 'broken',
+      rules: [],
+      prepare() {
+        throw new TypeError('the schema does not compile');
+      },
+      checkRecord() {},
+    };
+    const err = await prepareChecks([broken], withDefaults()).catch((e: unknown) => e);
+    expect(err).toBeInstanceOf(SetupError);
+    expect((err as Error).message).toBe('the schema does not compile');
+  });
+});
