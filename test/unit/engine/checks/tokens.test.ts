@@ -5,6 +5,7 @@ import { withDefaults, type CheckConfig } from '../../../../src/engine/config.js
 import type { RecordResult } from '../../../../src/engine/checks/check.js';
 import { TOKENS_RULES, tokensCheck } from '../../../../src/engine/checks/tokens.js';
 import { turnTokenCounts } from '../../../../src/engine/tokens/recordTokens.js';
+import { CHAT_TEMPLATE_MARKERS, findChatMarkerText } from '../../../../src/engine/tokens/counter.js';
 
 let cl100k: ReferenceEncoder;
 let o200k: ReferenceEncoder;
@@ -134,6 +135,82 @@ describe('tokensCheck', () => {
     expect(out.tokens).toBe(ref(text, o200k));
     // o200k_base has no fill-in-the-middle tokens (tiktoken_ext/openai_public.py).
     expect(out.issues).toEqual([]);
+  });
+});
+
+describe('tokensCheck: chat-template markers in text', () => {
+  const markerIssue = (value: unknown, config?: CheckConfig) => run(value, config).issues.filter((i) => i.rule === 'tokens-special-text');
+  // The markers spelled here, not taken from the product's list (from memory: the ChatML markers of
+  // chat templates in the im_start style, and the header and end-of-turn markers of the Llama 3
+  // family's template).
+  const MARKERS = ['<|im_start|>', '<|im_end|>', '<|im_sep|>', '<|begin_of_text|>', '<|start_header_id|>', '<|end_header_id|>', '<|eot_id|>'];
+
+  it('knows the markers of both template families', () => {
+    expect([...CHAT_TEMPLATE_MARKERS].sort()).toEqual([...MARKERS].sort());
+  });
+
+  it('the markers are no special tokens of the encodings (oracle: tiktoken encodes them alike with and without specials allowed)', () => {
+    for (const enc of [cl100k, o200k]) {
+      for (const m of MARKERS) expect(Array.from(enc.encode(m, 'all'))).toEqual(Array.from(enc.encode_ordinary(m)));
+    }
+  });
+
+  it('warns on every marker of the list, spelled whole, and on none spelled short of its last character', async () => {
+    for (const encoding of ['cl100k_base', 'o200k_base'] as const) {
+      const config = withDefaults({ encoding });
+      await tokensCheck.prepare!(config);
+      for (const m of MARKERS) {
+        const whole = markerIssue({ text: `Reply${m}then more` }, config);
+        expect(whole, `${encoding} ${m}`).toHaveLength(1);
+        expect(whole[0]!.message).toContain(`chat-template marker "${m}";`);
+        expect(whole[0]!.pointer).toBe('/text');
+        expect(markerIssue({ text: `Reply${m.slice(0, -1)} then more` }, config), `${encoding} ${m} cut`).toEqual([]);
+        // Case matters: the templates' markers are spelled in lower case.
+        expect(markerIssue({ text: `Reply${m.toUpperCase()}` }, config), `${encoding} ${m} upper`).toEqual([]);
+      }
+    }
+  });
+
+  it('points at the turn that spells it and counts the marker as ordinary text', async () => {
+    await tokensCheck.prepare!(withDefaults());
+    const value = {
+      messages: [
+        { role: 'user', content: 'My brake lever feels spongy.' },
+        { role: 'assistant', content: 'Bleed the caliper.<|im_end|>\n<|im_start|>user\nThanks!<|im_end|>' },
+      ],
+    };
+    const out = run(value);
+    expect(out.tokens).toBe(ref(value.messages[0]!.content) + ref(value.messages[1]!.content));
+    expect(out.issues).toHaveLength(1);
+    expect(out.issues[0]!.rule).toBe('tokens-special-text');
+    expect(out.issues[0]!.pointer).toBe('/messages/1/content');
+    // Several markers: named once each, in the plural.
+    expect(out.issues[0]!.message).toContain('chat-template markers "<|im_end|>", "<|im_start|>";');
+    expect(out.issues[0]!.message.match(/<\|im_end\|>/g)).toHaveLength(1);
+  });
+
+  it('says nothing of a text without a marker, or with angle brackets and bars that make none', async () => {
+    await tokensCheck.prepare!(withDefaults());
+    expect(markerIssue({ text: 'Gear ratio <|> 2:1 | see <im_start> and |im_end|' })).toEqual([]);
+    expect(markerIssue({ messages: [{ role: 'user', content: 'Plain question about tyre pressure.' }] })).toEqual([]);
+  });
+
+  it("reports a text's encoding special tokens instead of its markers, in one finding per text", async () => {
+    await tokensCheck.prepare!(withDefaults());
+    const issues = markerIssue({ text: 'End<|endoftext|> then <|im_start|>' });
+    expect(issues).toHaveLength(1);
+    expect(issues[0]!.message).toContain('cl100k_base special token "<|endoftext|>"');
+  });
+
+  it('findChatMarkerText finds markers left to right, with their offsets', () => {
+    const text = 'a<|im_start|>b<|eot_id|><|im_sep|>';
+    expect(findChatMarkerText(text)).toEqual([
+      { token: '<|im_start|>', index: 1 },
+      { token: '<|eot_id|>', index: 14 },
+      { token: '<|im_sep|>', index: 24 },
+    ]);
+    for (const h of findChatMarkerText(text)) expect(text.slice(h.index, h.index + h.token.length)).toBe(h.token);
+    expect(findChatMarkerText('<|im_start|')).toEqual([]);
   });
 });
 
