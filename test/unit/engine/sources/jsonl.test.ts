@@ -1,4 +1,6 @@
+import { spawnSync } from 'node:child_process';
 import { chmodSync, readFileSync, statSync } from 'node:fs';
+import { build } from 'esbuild';
 import { join } from 'node:path';
 import { afterAll, describe, expect, it } from 'vitest';
 import type { Entry } from '../../../../src/engine/sources/source.js';
@@ -139,11 +141,35 @@ describe('opening', () => {
     const missing = join(tmp.dir, 'nope.jsonl');
     await expect(new JsonlSource(missing).open()).rejects.toThrow(new RegExp(`^${missing.replace(/[.*+?^${}()|[\]\\]/g, '\\$&')}: no such file`));
     await expect(new JsonlSource(tmp.dir).open()).rejects.toThrow(/^.*: is a folder/);
+  });
+
+  it('rejects a file the user may not read with a message that starts with the path (the read runs as an unprivileged user)', async () => {
+    // The open runs in a child process; as root (as in CI) setpriv (util-linux) drops it to nobody,
+    // so that the permission check is the kernel's and root does not read past the mode.
+    const child = join(tmp.dir, 'open-child.cjs');
+    await build({ entryPoints: [join(__dirname, 'open-child.ts')], outfile: child, bundle: true, platform: 'node', format: 'cjs', logLevel: 'error' });
+    chmodSync(tmp.dir, 0o755);
+    const openAs = (path: string): { opened: boolean; message?: string; sizeBytes?: number } => {
+      const asRoot = process.getuid?.() === 0;
+      const [cmd, args] = asRoot
+        ? ['setpriv', ['--reuid=65534', '--regid=65534', '--clear-groups', process.execPath, child, path]]
+        : [process.execPath, [child, path]];
+      const r = spawnSync(cmd as string, args as string[], { encoding: 'utf8' });
+      expect(r.status, r.stderr).toBe(0);
+      return JSON.parse(r.stdout);
+    };
     const locked = shard('{}\n');
+    const readable = shard('{}\n');
     chmodSync(locked, 0o000);
-    const asRoot = process.getuid?.() === 0;
-    if (!asRoot) await expect(new JsonlSource(locked).open()).rejects.toThrow(/permission denied/);
-    chmodSync(locked, 0o644);
+    try {
+      // The same child, the same user, a file it may read: only the mode differs.
+      expect(openAs(readable)).toEqual({ opened: true, sizeBytes: 3 });
+      const refused = openAs(locked);
+      expect(refused.opened).toBe(false);
+      expect(refused.message).toMatch(new RegExp(`^${locked.replace(/[.*+?^${}()|[\]\\]/g, '\\$&')}: permission denied`));
+    } finally {
+      chmodSync(locked, 0o644);
+    }
   });
 
   it('describes the file cheaply before indexing', async () => {

@@ -36,7 +36,7 @@ async function settle(values: unknown[], config: CheckConfig = withDefaults()): 
 }
 
 /** `chats` conversations and `others` other records, the others spread evenly so that order plays no part. */
-function mix(chats: number, others: number, other = text): unknown[] {
+function mix(chats: number, others: number, other: (i: number) => unknown = text): unknown[] {
   const total = chats + others;
   return Array.from({ length: total }, (_, i) => (Math.floor(((i + 1) * others) / total) > Math.floor((i * others) / total) ? other(i) : chat(i)));
 }
