@@ -19,5 +19,6 @@ export function webviewHtml(
     codiconUri: asset('dist', 'codicons', 'codicon.css'),
     title,
     language: vscode.env.language,
+    strings: vscode.l10n.bundle ?? {},
   });
 }

@@ -12,6 +12,8 @@ export interface WebviewHtmlOptions {
   title: string;
   /** The display language (`vscode.env.language`): numbers in the webview are formatted for it. */
   language?: string;
+  /** The display language's translations of the webview's strings, keyed by the English text (`vscode.l10n.bundle`). */
+  strings?: Record<string, string>;
 }
 
 const HTML_ESCAPES: Record<string, string> = {
@@ -51,6 +53,8 @@ export function renderWebviewHtml(o: WebviewHtmlOptions): string {
   const styles = [o.codiconUri, ...o.styleUris]
     .map((u) => `    <link rel="stylesheet" href="${escapeHtml(u)}">`)
     .join('\n');
+  const table: Record<string, string> = {};
+  for (const [k, v] of Object.entries(o.strings ?? {})) if (typeof v === 'string') table[k] = v;
   const lang = /^[A-Za-z]{2,8}(-[A-Za-z0-9]{1,8})*$/.test(o.language ?? '') ? o.language! : 'en';
   return `<!DOCTYPE html>
 <html lang="${lang}">
@@ -58,6 +62,7 @@ export function renderWebviewHtml(o: WebviewHtmlOptions): string {
     <meta charset="utf-8">
     <meta http-equiv="Content-Security-Policy" content="${escapeHtml(csp)}">
     <meta name="viewport" content="width=device-width, initial-scale=1">
+    <meta name="sw-strings" content="${escapeHtml(JSON.stringify(table))}">
 ${styles}
     <title>${escapeHtml(o.title)}</title>
   </head>

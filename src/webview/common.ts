@@ -16,6 +16,30 @@ export function connect<Out>(): VsCodeApi<Out> {
   return acquireVsCodeApi() as VsCodeApi<Out>;
 }
 
+/**
+ * The display language's translations of our strings, keyed by the English text: the host puts
+ * them in <meta name="sw-strings"> (its `vscode.l10n.bundle`). Read once, as views use strings at load.
+ */
+const STRINGS: Record<string, string> = (() => {
+  try {
+    const raw = typeof document !== 'undefined' ? document.querySelector('meta[name="sw-strings"]')?.getAttribute('content') : null;
+    const parsed: unknown = raw ? JSON.parse(raw) : null;
+    if (!parsed || typeof parsed !== 'object' || Array.isArray(parsed)) return {};
+    const out: Record<string, string> = Object.create(null);
+    for (const [k, v] of Object.entries(parsed)) if (typeof v === 'string') out[k] = v;
+    return out;
+  } catch {
+    return {};
+  }
+})();
+
+/** A user-visible string in the display language (English when untranslated); `{0}`, `{1}`… take the args. */
+export function t(english: string, ...args: (string | number)[]): string {
+  const text = Object.prototype.hasOwnProperty.call(STRINGS, english) ? STRINGS[english] : english;
+  if (!args.length) return text;
+  return text.replace(/\{(\d+)\}/g, (m, i: string) => (Number(i) < args.length ? String(args[Number(i)]) : m));
+}
+
 /** Creates an element with an optional class list and text (set as text, never parsed). */
 export function h<K extends keyof HTMLElementTagNameMap>(
   tag: K,
@@ -148,7 +172,7 @@ export function visibleText(text: string): Node[] {
     if (m.index! > at) out.push(document.createTextNode(text.slice(at, m.index)));
     const code = `U+${m[0].charCodeAt(0).toString(16).toUpperCase().padStart(4, '0')}`;
     const mark = h('span', 'sw-ctl', `⟨${code}⟩`);
-    mark.title = `${code}: a control character, shown instead of applied`;
+    mark.title = t('{0}: a control character, shown instead of applied', code);
     out.push(mark);
     at = m.index! + 1;
   }

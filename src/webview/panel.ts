@@ -4,12 +4,12 @@
 
 import type { Severity } from '../protocol.js';
 import { isMessage, type FindingView, type HostToPanel, type PanelToHost, type ShardSummary } from '../protocol.js';
-import { connect, formatBytes, formatCount, h, icon, iconButton, isSeverity, severityIcon, str } from './common.js';
+import { connect, formatBytes, formatCount, h, icon, iconButton, isSeverity, severityIcon, str, t } from './common.js';
 
 /** Findings rendered at once; the rest wait behind a "show more" button. */
 const RENDER_BATCH = 500;
 const SEVERITIES: Severity[] = ['error', 'warning', 'info'];
-const SEVERITY_LABEL: Record<Severity, string> = { error: 'Errors', warning: 'Warnings', info: 'Notes' };
+const SEVERITY_LABEL: Record<Severity, string> = { error: t('Errors'), warning: t('Warnings'), info: t('Notes') };
 
 interface PanelState {
   hidden: Severity[];
@@ -41,16 +41,16 @@ emptyEl.append(icon('inbox', 'sw-empty-icon'), emptyText);
 
 const content = h('div', 'sw-panel-content');
 const summaryEl = h('section', 'sw-summary');
-summaryEl.setAttribute('aria-label', 'Shard summary');
+summaryEl.setAttribute('aria-label', t('Shard summary'));
 const findingsSection = h('section', 'sw-findings-section');
-findingsSection.setAttribute('aria-label', 'Findings');
+findingsSection.setAttribute('aria-label', t('Findings'));
 const filterBar = h('div', 'sw-filter-bar');
 const sevButtons = new Map<Severity, HTMLButtonElement>();
 for (const sev of SEVERITIES) {
   const b = h('button', 'sw-sev-toggle');
   b.type = 'button';
   b.dataset.severity = sev;
-  b.title = `Show or hide ${SEVERITY_LABEL[sev].toLowerCase()}`;
+  b.title = t('Show or hide {0}', SEVERITY_LABEL[sev].toLowerCase());
   b.append(severityIcon(sev), h('span', 'sw-count', '0'));
   b.addEventListener('click', () => {
     if (hidden.has(sev)) hidden.delete(sev);
@@ -64,15 +64,15 @@ for (const sev of SEVERITIES) {
 const textWrap = h('label', 'sw-filter-text-wrap');
 const textInput = h('input', 'sw-filter-text');
 textInput.type = 'search';
-textInput.placeholder = 'Filter by rule, message or place';
-textInput.setAttribute('aria-label', 'Filter findings');
+textInput.placeholder = t('Filter by rule, message or place');
+textInput.setAttribute('aria-label', t('Filter findings'));
 textInput.value = filterText;
 textWrap.append(icon('filter'), textInput);
 filterBar.append(textWrap);
 const capNote = h('div', 'sw-capped');
 const listEl = h('div', 'sw-findings');
 listEl.setAttribute('role', 'listbox');
-listEl.setAttribute('aria-label', 'Findings');
+listEl.setAttribute('aria-label', t('Findings'));
 const moreButton = h('button', 'sw-button sw-findings-more');
 moreButton.type = 'button';
 findingsSection.append(filterBar, capNote, listEl, moreButton);
@@ -99,11 +99,11 @@ moreButton.addEventListener('click', () => {
 
 // ---- summary ----
 const PHASE_TEXT: Record<ShardSummary['phase'], string> = {
-  indexing: 'Indexing',
-  analysing: 'Analysing',
-  done: 'Done',
-  failed: 'Failed',
-  cancelled: 'Cancelled',
+  indexing: t('Indexing'),
+  analysing: t('Analysing'),
+  done: t('Done'),
+  failed: t('Failed'),
+  cancelled: t('Cancelled'),
 };
 
 /** Makes a figure a way in: clicking it shows those records in the record view. */
@@ -141,7 +141,7 @@ function renderSummary(s: ShardSummary): void {
     const bar = h('div', 'sw-progress');
     bar.setAttribute('role', 'progressbar');
     bar.setAttribute('aria-valuenow', String(pct));
-    bar.title = `${phase} ${pct}%`;
+    bar.title = t('{0} {1}%', phase, pct);
     const fill = h('div', 'sw-progress-fill');
     fill.style.width = `${pct}%`;
     bar.append(fill);
@@ -156,9 +156,9 @@ function renderSummary(s: ShardSummary): void {
 
   const grid = h('div', 'sw-stats');
   grid.append(
-    stat('Records', formatCount(s.records), 'records'),
-    stat('Blank lines', formatCount(s.blankLines), 'blankLines', s.blankLines > 0 ? 'sw-stat-flag' : ''),
-    stat('Invalid lines', formatCount(s.invalidLines), 'invalidLines', s.invalidLines > 0 ? 'sw-stat-bad' : ''),
+    stat(t('Records'), formatCount(s.records), 'records'),
+    stat(t('Blank lines'), formatCount(s.blankLines), 'blankLines', s.blankLines > 0 ? 'sw-stat-flag' : ''),
+    stat(t('Invalid lines'), formatCount(s.invalidLines), 'invalidLines', s.invalidLines > 0 ? 'sw-stat-bad' : ''),
   );
   summaryEl.append(grid);
 
@@ -167,49 +167,51 @@ function renderSummary(s: ShardSummary): void {
     const row = h('div', 'sw-layout');
     row.dataset.stat = 'layout';
     const share = Number(lay.share);
-    row.append(icon('symbol-structure'), h('span', '', 'Layout'), h('span', 'sw-badge sw-layout-id', lay.id));
-    if (Number.isFinite(share) && share < 1) row.append(h('span', 'sw-muted', `${Math.round(share * 1000) / 10}% of records`));
+    row.append(icon('symbol-structure'), h('span', '', t('Layout')), h('span', 'sw-badge sw-layout-id', lay.id));
+    if (Number.isFinite(share) && share < 1) row.append(h('span', 'sw-muted', t('{0}% of records', Math.round(share * 1000) / 10)));
     summaryEl.append(row);
   }
 
-  const t = s.tokens;
-  if (t && typeof t === 'object') {
+  const tk = s.tokens;
+  if (tk && typeof tk === 'object') {
     const tok = h('div', 'sw-tokens');
     const tHead = h('div', 'sw-tokens-head');
-    const badge = h('span', 'sw-badge sw-encoding', str(s.tokenizerLabel ?? t.encoding));
-    badge.title = str(t.tokenizer ?? t.encoding);
-    tHead.append(icon('symbol-numeric'), h('span', '', 'Tokens'), badge);
+    const badge = h('span', 'sw-badge sw-encoding', str(s.tokenizerLabel ?? tk.encoding));
+    badge.title = str(tk.tokenizer ?? tk.encoding);
+    tHead.append(icon('symbol-numeric'), h('span', '', t('Tokens')), badge);
     tok.append(tHead);
     const tg = h('div', 'sw-stats');
     tg.append(
-      stat('Total', formatCount(t.total), 'total'),
-      stat('Prompt', formatCount(Number(t.prompt) || 0), 'prompt'),
-      stat('Response', formatCount(Number(t.response) || 0), 'response'),
-      stat('p50', formatCount(t.p50), 'p50'),
-      stat('p90', formatCount(t.p90), 'p90'),
-      linkStat(stat('p99', formatCount(t.p99), 'p99'), 'p99', `Show the records of ${formatCount(t.p99)} tokens or more, longest first`),
-      linkStat(stat('Max', formatCount(t.max), 'max'), 'max', 'Show the records sorted by tokens, the longest first'),
+      stat(t('Total'), formatCount(tk.total), 'total'),
+      stat(t('Prompt'), formatCount(Number(tk.prompt) || 0), 'prompt'),
+      stat(t('Response'), formatCount(Number(tk.response) || 0), 'response'),
+      stat(t('p50'), formatCount(tk.p50), 'p50'),
+      stat(t('p90'), formatCount(tk.p90), 'p90'),
+      linkStat(stat(t('p99'), formatCount(tk.p99), 'p99'), 'p99', t('Show the records of {0} tokens or more, longest first', formatCount(tk.p99))),
+      linkStat(stat(t('Max'), formatCount(tk.max), 'max'), 'max', t('Show the records sorted by tokens, the longest first')),
     );
     // With a chat template: what the model sees, and what the loss covers (the per-record figures above are then rendered lengths).
-    if (typeof t.rendered === 'number') {
-      tg.append(stat('Rendered', formatCount(t.rendered), 'rendered'), stat('Trained', formatCount(Number(t.trainable) || 0), 'trainable'));
+    if (typeof tk.rendered === 'number') {
+      tg.append(stat(t('Rendered'), formatCount(tk.rendered), 'rendered'), stat(t('Trained'), formatCount(Number(tk.trainable) || 0), 'trainable'));
     }
     tok.append(tg);
     // No verdict before the check is complete: "so far" until then, never a green 0.
     const done = s.phase === 'done';
-    const over = h(t.overContext > 0 ? 'button' : 'div', `sw-over${t.overContext > 0 ? ' sw-over-some sw-stat-link' : ''}`);
+    const over = h(tk.overContext > 0 ? 'button' : 'div', `sw-over${tk.overContext > 0 ? ' sw-over-some sw-stat-link' : ''}`);
     over.dataset.stat = 'overContext';
     over.append(
-      icon(t.overContext > 0 ? 'warning' : done ? 'pass' : 'loading', !done && t.overContext === 0 ? 'codicon-modifier-spin' : ''),
+      icon(tk.overContext > 0 ? 'warning' : done ? 'pass' : 'loading', !done && tk.overContext === 0 ? 'codicon-modifier-spin' : ''),
       h(
         'span',
         '',
-        `Over ${formatCount(t.contextLength)} tokens${done ? '' : ' so far'}: ${formatCount(t.overContext)} ${t.overContext === 1 ? 'record' : 'records'}`,
+        done
+          ? t(tk.overContext === 1 ? 'Over {0} tokens: {1} record' : 'Over {0} tokens: {1} records', formatCount(tk.contextLength), formatCount(tk.overContext))
+          : t(tk.overContext === 1 ? 'Over {0} tokens so far: {1} record' : 'Over {0} tokens so far: {1} records', formatCount(tk.contextLength), formatCount(tk.overContext)),
       ),
     );
-    if (t.overContext > 0) {
+    if (tk.overContext > 0) {
       (over as HTMLButtonElement).type = 'button';
-      over.title = 'Show the records over the context length in the record view';
+      over.title = t('Show the records over the context length in the record view');
       over.addEventListener('click', () => vscode.postMessage({ type: 'showRecords', what: 'overContext' }));
     }
     tok.append(over);
@@ -272,17 +274,17 @@ function renderFindings(): void {
   listEl.append(frag);
   if (!shown.length) {
     const none = h('div', 'sw-muted sw-no-findings');
-    if (findings.length) none.append(icon('filter'), h('span', '', 'No finding matches the filter.'));
-    else if (summary && summary.phase === 'done') none.append(icon('pass'), h('span', '', 'No findings in this shard.'));
-    else none.append(h('span', '', 'No findings yet.'));
+    if (findings.length) none.append(icon('filter'), h('span', '', t('No finding matches the filter.')));
+    else if (summary && summary.phase === 'done') none.append(icon('pass'), h('span', '', t('No findings in this shard.')));
+    else none.append(h('span', '', t('No findings yet.')));
     listEl.append(none);
   }
   moreButton.hidden = budget >= 0;
-  moreButton.textContent = `Show ${formatCount(Math.min(RENDER_BATCH, shown.length - renderLimit))} more`;
+  moreButton.textContent = t('Show {0} more', formatCount(Math.min(RENDER_BATCH, shown.length - renderLimit)));
 
   const notes: string[] = [];
-  if (totalFindings > findings.length) notes.push(`Showing ${formatCount(findings.length)} of ${formatCount(totalFindings)} findings`);
-  if (shown.length !== findings.length) notes.push(`${formatCount(shown.length)} match the filter`);
+  if (totalFindings > findings.length) notes.push(t('Showing {0} of {1} findings', formatCount(findings.length), formatCount(totalFindings)));
+  if (shown.length !== findings.length) notes.push(t('{0} match the filter', formatCount(shown.length)));
   capNote.textContent = notes.join(' · ');
   capNote.hidden = notes.length === 0;
 
@@ -311,7 +313,7 @@ function groupHead(rule: string, list: FindingView[], total: number, open: boole
   head.dataset.rule = rule;
   head.setAttribute('aria-expanded', String(open));
   head.append(icon(open ? 'chevron-down' : 'chevron-right', 'sw-group-chevron'), severityIcon(sev), h('span', 'sw-rule', rule), h('span', 'sw-group-count', formatCount(total)));
-  head.title = `${formatCount(total)} ${total === 1 ? 'finding' : 'findings'} of ${rule}${list.length < total ? ` (${formatCount(list.length)} listed)` : ''}`;
+  head.title = t(total === 1 ? '{0} finding of {1}' : '{0} findings of {1}', formatCount(total), rule) + (list.length < total ? t(' ({0} listed)', formatCount(list.length)) : '');
   const toggle = () => {
     toggled.set(rule, !open);
     saveState();
@@ -338,15 +340,15 @@ function findingItem(f: FindingView): HTMLElement {
   item.dataset.id = String(f.id);
   item.dataset.severity = sev;
   item.dataset.rule = str(f.rule);
-  item.title = 'Show this record';
+  item.title = t('Show this record');
   const text = h('div', 'sw-finding-text');
   const top = h('div', 'sw-finding-top');
   top.append(h('span', 'sw-rule', str(f.rule)), h('span', 'sw-place', str(f.place)));
   const message = h('div', 'sw-message', str(f.message));
   // The field path, as the CLI prints it ("at /messages/3/content").
-  if (f.pointer) message.append(h('span', 'sw-pointer', ` at ${str(f.pointer)}`));
+  if (f.pointer) message.append(h('span', 'sw-pointer', t(' at {0}', str(f.pointer))));
   text.append(top, message);
-  const open = iconButton('go-to-file', 'Open at line', 'sw-open-text');
+  const open = iconButton('go-to-file', t('Open at line'), 'sw-open-text');
   open.addEventListener('click', (ev) => {
     ev.stopPropagation();
     vscode.postMessage({ type: 'openText', id: f.id });
@@ -372,7 +374,7 @@ function onMessage(m: HostToPanel): void {
     summary = null;
     findings = [];
     totalFindings = 0;
-    emptyText.textContent = str(m.message) || 'Open a shard to see its summary and findings here.';
+    emptyText.textContent = str(m.message) || t('Open a shard to see its summary and findings here.');
     emptyEl.hidden = false;
     content.hidden = true;
   } else if (m.type === 'state') {
@@ -399,7 +401,7 @@ window.addEventListener('message', (ev: MessageEvent) => {
   try {
     onMessage(m as HostToPanel);
   } catch (err) {
-    emptyText.textContent = `The panel could not show a message from the extension: ${str((err as Error)?.message ?? err)}`;
+    emptyText.textContent = t('The panel could not show a message from the extension: {0}', str((err as Error)?.message ?? err));
     emptyEl.hidden = false;
   }
 });
