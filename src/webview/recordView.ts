@@ -28,6 +28,7 @@ import {
   visibleText,
   severityIcon,
   str,
+  t,
 } from './common.js';
 
 /** Keep in step with `--sw-row-height` in recordView.css. */
@@ -114,11 +115,11 @@ const gotoLabel = h('label', 'sw-goto');
 const gotoInput = h('input', 'sw-goto-input');
 gotoInput.type = 'text';
 gotoInput.spellcheck = false;
-gotoInput.placeholder = 'Go to: 12 · line 40 · row 7';
-gotoInput.setAttribute('aria-label', 'Go to record, line or row');
+gotoInput.placeholder = t('Go to: 12 · line 40 · row 7');
+gotoInput.setAttribute('aria-label', t('Go to record, line or row'));
 gotoLabel.append(icon('arrow-right'), gotoInput);
 const gotoHint = h('span', 'sw-goto-hint');
-const detailToggle = iconButton('split-horizontal', 'Show or hide the detail pane', 'sw-detail-toggle');
+const detailToggle = iconButton('split-horizontal', t('Show or hide the detail pane'), 'sw-detail-toggle');
 
 // ---- search, sort, filter (the host runs them over the whole shard, in its worker) ----
 const searchWrap = h('div', 'sw-search');
@@ -126,18 +127,18 @@ searchWrap.setAttribute('role', 'search');
 const searchInput = h('input', 'sw-search-input');
 searchInput.type = 'search';
 searchInput.spellcheck = false;
-searchInput.placeholder = 'Search records (Ctrl+F)';
-searchInput.setAttribute('aria-label', 'Search the text of every record');
-const caseToggle = iconButton('case-sensitive', 'Match case', 'sw-search-case');
-const regexToggle = iconButton('regex', 'Use a regular expression', 'sw-search-regex');
+searchInput.placeholder = t('Search records (Ctrl+F)');
+searchInput.setAttribute('aria-label', t('Search the text of every record'));
+const caseToggle = iconButton('case-sensitive', t('Match case'), 'sw-search-case');
+const regexToggle = iconButton('regex', t('Use a regular expression'), 'sw-search-regex');
 for (const b of [caseToggle, regexToggle]) b.setAttribute('aria-pressed', 'false');
-const prevMatch = iconButton('arrow-up', 'Previous matching record (Shift+Enter)', 'sw-search-prev');
-const nextMatch = iconButton('arrow-down', 'Next matching record (Enter)', 'sw-search-next');
+const prevMatch = iconButton('arrow-up', t('Previous matching record (Shift+Enter)'), 'sw-search-prev');
+const nextMatch = iconButton('arrow-down', t('Next matching record (Enter)'), 'sw-search-next');
 searchWrap.append(icon('search'), searchInput, caseToggle, regexToggle, prevMatch, nextMatch);
 const sortSelect = h('select', 'sw-sort');
-sortSelect.setAttribute('aria-label', 'Sort records');
+sortSelect.setAttribute('aria-label', t('Sort records'));
 const filterSelect = h('select', 'sw-filter');
-filterSelect.setAttribute('aria-label', 'Show only some records');
+filterSelect.setAttribute('aria-label', t('Show only some records'));
 const viewChip = h('span', 'sw-view-chip');
 viewChip.setAttribute('role', 'status');
 viewChip.hidden = true;
@@ -145,7 +146,7 @@ toolbar.append(gotoLabel, gotoHint, searchWrap, sortSelect, filterSelect, viewCh
 
 const main = h('div', 'sw-main');
 const tableEl = h('section', 'sw-table');
-tableEl.setAttribute('aria-label', 'Entries');
+tableEl.setAttribute('aria-label', t('Entries'));
 const headWrap = h('div', 'sw-table-head');
 const headRow = h('div', 'sw-row sw-row-head');
 headWrap.append(headRow);
@@ -161,10 +162,10 @@ tableEl.append(headWrap, viewport, emptyNote);
 
 const splitter = h('div', 'sw-splitter');
 splitter.setAttribute('role', 'separator');
-splitter.title = 'Drag to resize';
+splitter.title = t('Drag to resize');
 
 const detailEl = h('section', 'sw-detail');
-detailEl.setAttribute('aria-label', 'Entry detail');
+detailEl.setAttribute('aria-label', t('Entry detail'));
 detailEl.tabIndex = -1;
 const detailHead = h('div', 'sw-detail-head');
 const detailTitle = h('span', 'sw-detail-title');
@@ -172,8 +173,8 @@ const detailTokens = h('span', 'sw-badge sw-detail-tokens');
 const detailLayout = h('span', 'sw-badge sw-detail-layout');
 const openLineButton = h('button', 'sw-button sw-open-line');
 openLineButton.type = 'button';
-openLineButton.append(icon('go-to-file'), h('span', '', 'Open at line'));
-const detailClose = iconButton('close', 'Hide the detail pane', 'sw-detail-close');
+openLineButton.append(icon('go-to-file'), h('span', '', t('Open at line')));
+const detailClose = iconButton('close', t('Hide the detail pane'), 'sw-detail-close');
 detailHead.append(detailTitle, detailTokens, detailLayout, h('span', 'sw-spacer-flex'), openLineButton, detailClose);
 const tabsEl = h('div', 'sw-tabs');
 tabsEl.setAttribute('role', 'tablist');
@@ -241,11 +242,11 @@ function renderEntriesCount(): void {
   entriesEl.textContent = viewOn ? `${formatCount(entries)} of ${formatCount(viewTotal)} ${unit}` : `${formatCount(entries)} ${unit}`;
   indexingEl.hidden = complete;
   const pct = Math.round(Math.max(0, Math.min(1, progress)) * 100);
-  indexingEl.querySelector('.sw-indexing-text')!.textContent = `indexing ${pct}%`;
+  indexingEl.querySelector('.sw-indexing-text')!.textContent = t('indexing {0}%', pct);
   indexBarFill.style.width = `${pct}%`;
   indexBar.setAttribute('aria-valuenow', String(pct));
   emptyNote.hidden = entries > 0;
-  emptyNote.textContent = complete ? 'This shard holds no entries.' : 'Reading the shard…';
+  emptyNote.textContent = complete ? t('This shard holds no entries.') : t('Reading the shard…');
 }
 
 function renderStructure(): void {
@@ -254,7 +255,7 @@ function renderStructure(): void {
   const columnar = isTable();
   const groupWord = info?.traits?.group?.many ?? 'groups';
   const summary = h('summary', 'sw-structure-summary');
-  summary.append(icon('symbol-structure'), h('span', '', 'Structure'));
+  summary.append(icon('symbol-structure'), h('span', '', t('Structure')));
   const parts = [`${formatCount(columns.length)} ${columns.length === 1 ? 'column' : 'columns'}`];
   if (columnar || groups.length) parts.push(`${formatCount(groups.length)} ${groupWord}`);
   summary.append(h('span', 'sw-muted', parts.join(' · ')));
@@ -263,7 +264,7 @@ function renderStructure(): void {
   const body = h('div', 'sw-structure-body');
   const colTable = h('table', 'sw-columns-table');
   const ch = colTable.createTHead().insertRow();
-  for (const t of ['Column', 'Type']) ch.append(h('th', '', t));
+  for (const label of [t('Column'), t('Type')]) ch.append(h('th', '', label));
   const cb = colTable.createTBody();
   for (const c of columns) {
     const r = cb.insertRow();
@@ -306,10 +307,10 @@ function fieldColumns(): ColumnInfo[] {
 function renderHeadRow(): void {
   headRow.replaceChildren();
   const fixed: [string, string, string][] = [
-    ['record', '#', 'Record number'],
-    isTable() ? ['place', 'Row', 'Row in the file'] : ['place', 'Line', 'Line in the file'],
-    ['tokens', 'Tokens', 'Tokens in the record'],
-    ['marker', '', 'Findings'],
+    ['record', '#', t('Record number')],
+    isTable() ? ['place', t('Row'), t('Row in the file')] : ['place', t('Line'), t('Line in the file')],
+    ['tokens', t('Tokens'), t('Tokens in the record')],
+    ['marker', '', t('Findings')],
   ];
   for (const [col, label, title] of fixed) {
     const c = h('div', `sw-cell sw-col-${col}`, label);
@@ -325,7 +326,7 @@ function renderHeadRow(): void {
       const sorted = s?.key === 'tokens' ? (s.descending ? 'descending' : 'ascending') : 'none';
       c.setAttribute('aria-sort', sorted);
       if (sorted !== 'none') c.append(icon(sorted === 'descending' ? 'arrow-down' : 'arrow-up', 'sw-sort-mark'));
-      c.title = 'Sort by tokens';
+      c.title = t('Sort by tokens');
       const cycle = () => {
         sortSelect.value = sorted === 'none' ? 'tokens:desc' : sorted === 'descending' ? 'tokens:asc' : '';
         sendQuery();
@@ -493,7 +494,7 @@ function buildRow(entry: number): HTMLElement {
   if (r.record === null || r.record === undefined || r.raw !== undefined) {
     row.classList.add('sw-row-raw');
     const raw = str(r.raw);
-    const c = cell('raw', raw === '' ? '(blank line)' : raw);
+    const c = cell('raw', raw === '' ? t('(blank line)') : raw);
     c.classList.add('sw-cell-span');
     c.title = raw.slice(0, 2000);
     row.append(c);
@@ -1206,7 +1207,7 @@ function renderPair(pair: PairView): HTMLElement {
     el.dataset.pointer = str(s.pointer);
     if (Array.isArray(s.turns)) {
       const list = h('div', 'sw-conversation');
-      if (!s.turns.length) list.append(h('div', 'sw-muted', 'No turns.'));
+      if (!s.turns.length) list.append(h('div', 'sw-muted', t('No turns.')));
       appendTurns(list, s.turns, { differs: cls === 'prompt' ? null : differs });
       el.append(list);
     } else el.append(h('div', 'sw-pair-text', str(s.text)));
@@ -1229,14 +1230,14 @@ function renderRendered(seqs: RenderedView[]): HTMLElement {
     const overhead = Number(s.rendered) - Number(s.content);
     head.append(
       h('span', 'sw-rendered-name', str(s.name)),
-      h('span', 'sw-badge', `${formatCount(Number(s.rendered) || 0)} rendered`),
+      h('span', 'sw-badge', t('{0} rendered', formatCount(Number(s.rendered) || 0))),
       h('span', 'sw-muted', `${formatCount(Number(s.content) || 0)} content · ${overhead >= 0 ? '+' : '−'}${formatCount(Math.abs(overhead) || 0)} template`),
-      h('span', 'sw-badge sw-trained-badge', `${formatCount(Number(s.trainable) || 0)} trained`),
+      h('span', 'sw-badge sw-trained-badge', t('{0} trained', formatCount(Number(s.trainable) || 0))),
     );
     sec.append(head);
     if (typeof s.error === 'string') {
       const err = h('div', 'sw-note sw-rendered-error');
-      err.append(icon('error'), h('span', '', `The chat template could not render this sequence: ${s.error}`));
+      err.append(icon('error'), h('span', '', t('The chat template could not render this sequence: {0}', s.error)));
       sec.append(err);
     } else {
       const pre = h('pre', 'sw-rendered-text');
@@ -1250,7 +1251,7 @@ function renderRendered(seqs: RenderedView[]): HTMLElement {
         if (sp.start < at) continue;
         if (sp.start > at) pre.append(document.createTextNode(text.slice(at, sp.start)));
         const mark = h('mark', 'sw-trained', text.slice(sp.start, sp.end));
-        mark.title = 'Inside the loss: the model is trained on these tokens';
+        mark.title = t('Inside the loss: the model is trained on these tokens');
         pre.append(mark);
         at = sp.end;
       }
@@ -1266,7 +1267,7 @@ function renderRendered(seqs: RenderedView[]): HTMLElement {
 function renderRaw(raw: string | undefined): HTMLElement {
   const box = h('div', 'sw-raw');
   const text = str(raw);
-  box.textContent = text === '' ? '(blank line)' : text;
+  box.textContent = text === '' ? t('(blank line)') : text;
   return box;
 }
 
@@ -1296,10 +1297,10 @@ function treeNode(key: string | null, value: unknown, pointer: string, depth: nu
     node.setAttribute('aria-expanded', String(open));
   };
   if (isArr || isObj) {
-    const t = iconButton('chevron-down', 'Fold', 'sw-node-toggle');
-    t.tabIndex = -1;
-    t.addEventListener('click', () => setOpen(node.classList.contains('sw-collapsed')));
-    line.append(t);
+    const fold = iconButton('chevron-down', t('Fold'), 'sw-node-toggle');
+    fold.tabIndex = -1;
+    fold.addEventListener('click', () => setOpen(node.classList.contains('sw-collapsed')));
+    line.append(fold);
   } else line.append(h('span', 'sw-node-leaf-pad'));
   // The tree pattern's keys: Up/Down move, Right opens (or goes to the first child), Left closes (or goes to the parent).
   node.addEventListener('keydown', (ev) => {
@@ -1329,7 +1330,7 @@ function treeNode(key: string | null, value: unknown, pointer: string, depth: nu
   if (key !== null) line.append(h('span', 'sw-key', key), h('span', 'sw-punct', ': '));
   node.append(line);
   if (depth >= TREE_MAX_DEPTH) {
-    line.append(h('span', 'sw-muted', '… nested too deep to show'));
+    line.append(h('span', 'sw-muted', t('… nested too deep to show')));
     return node;
   }
   if (isArr || isObj) {
@@ -1351,7 +1352,7 @@ function treeNode(key: string | null, value: unknown, pointer: string, depth: nu
         children.insertBefore(treeNode(k, v, `${pointer}/${pointerToken(k)}`, depth + 1), more.isConnected ? more : null);
       }
       if (shown < items.length) {
-        more.textContent = `Show ${formatCount(Math.min(TREE_BATCH, items.length - shown))} more of ${formatCount(items.length - shown)}`;
+        more.textContent = t('Show {0} more of {1}', formatCount(Math.min(TREE_BATCH, items.length - shown)), formatCount(items.length - shown));
         if (!more.isConnected) children.append(more);
       } else more.remove();
     };
@@ -1388,7 +1389,7 @@ function renderDetailFindings(findings: FindingView[]): HTMLElement {
   const list = h('div', 'sw-detail-findings');
   if (!findings.length) {
     const ok = h('div', 'sw-muted sw-all-clear');
-    ok.append(icon('pass'), h('span', '', 'No findings for this entry.'));
+    ok.append(icon('pass'), h('span', '', t('No findings for this entry.')));
     list.append(ok);
   }
   for (const f of findings) {
@@ -1400,7 +1401,7 @@ function renderDetailFindings(findings: FindingView[]): HTMLElement {
     if (f.pointer !== null && f.pointer !== undefined) item.dataset.pointer = str(f.pointer);
     const sev: Severity = isSeverity(f.severity) ? f.severity : 'info';
     item.dataset.severity = sev;
-    item.title = 'Open the text at this place';
+    item.title = t('Open the text at this place');
     item.append(
       severityIcon(sev),
       h('span', 'sw-rule', str(f.rule)),
@@ -1426,7 +1427,7 @@ function renderDetailFindings(findings: FindingView[]): HTMLElement {
 
 // ---- splitter: drag, or arrow keys while focused, to resize the detail pane ----
 splitter.tabIndex = 0;
-splitter.setAttribute('aria-label', 'Resize the detail pane');
+splitter.setAttribute('aria-label', t('Resize the detail pane'));
 splitter.addEventListener('keydown', (ev) => {
   const vertical = getComputedStyle(main).flexDirection === 'column';
   const grow = vertical ? ev.key === 'ArrowUp' : ev.key === 'ArrowLeft';
@@ -1574,7 +1575,7 @@ window.addEventListener('message', (ev: MessageEvent) => {
   try {
     onMessage(m as HostToRecordView);
   } catch (err) {
-    banner.replaceChildren(icon('error'), h('span', 'sw-banner-text', `This view could not show a message from the extension: ${str((err as Error)?.message ?? err)}`));
+    banner.replaceChildren(icon('error'), h('span', 'sw-banner-text', t('This view could not show a message from the extension: {0}', str((err as Error)?.message ?? err))));
     banner.hidden = false;
   }
 });
