@@ -480,7 +480,7 @@ function buildRow(entry: number): HTMLElement {
   const tokens = cell('tokens', r.tokens === null || r.tokens === undefined ? (r.record === null || r.record === undefined ? '' : '…') : formatCount(r.tokens));
   if ((r.tokens === null || r.tokens === undefined) && r.record !== null && r.record !== undefined) {
     tokens.classList.add('sw-cell-pending');
-    tokens.title = 'Not counted yet';
+    tokens.title = t('Not counted yet');
   }
   row.append(cell('record', r.record === null || r.record === undefined ? '–' : formatCount(r.record + 1)), cell('place', str(r.place)), tokens);
   const marker = cell('marker', '');
@@ -710,11 +710,11 @@ function fillSortOptions(): void {
     o.value = value;
     sortSelect.append(o);
   };
-  add('', 'File order');
-  add('tokens:desc', 'Tokens, most first');
-  add('tokens:asc', 'Tokens, fewest first');
-  add('turns:desc', 'Turns, most first');
-  add('findings:desc', 'Findings, most first');
+  add('', t('File order'));
+  add('tokens:desc', t('Tokens, most first'));
+  add('tokens:asc', t('Tokens, fewest first'));
+  add('turns:desc', t('Turns, most first'));
+  add('findings:desc', t('Findings, most first'));
   for (const c of columns) {
     if (!/^(string|int|uint|float|double|bool|number|boolean|large_string|utf8|date|timestamp)/i.test(str(c.type)) && str(c.type) !== '') continue;
     add(`column:asc:${str(c.name)}`, `${str(c.name)}, ascending`);
@@ -726,13 +726,13 @@ function fillSortOptions(): void {
 function fillFilterOptions(): void {
   if (filterSelect.options.length) return;
   for (const [value, label] of [
-    ['', 'All records'],
-    ['findings', 'With findings'],
-    ['severity:error', 'With errors'],
-    ['severity:warning', 'With warnings'],
-    ['severity:info', 'With notes'],
-    ['overContext', 'Over the context length'],
-    ['rule', 'With findings of a rule…'],
+    ['', t('All records')],
+    ['findings', t('With findings')],
+    ['severity:error', t('With errors')],
+    ['severity:warning', t('With warnings')],
+    ['severity:info', t('With notes')],
+    ['overContext', t('Over the context length')],
+    ['rule', t('With findings of a rule…')],
   ]) {
     const o = h('option', '', label);
     o.value = value;
@@ -841,7 +841,7 @@ function onView(m: Extract<HostToRecordView, { type: 'view' }>): void {
   const count = Math.max(0, Number(m.count) || 0);
   viewChip.replaceChildren();
   if (viewOn) {
-    const clear = iconButton('close', 'Show every record in file order', 'sw-view-clear');
+    const clear = iconButton('close', t('Show every record in file order'), 'sw-view-clear');
     clear.addEventListener('click', () => {
       searchInput.value = '';
       sortSelect.value = '';
@@ -866,7 +866,7 @@ function onView(m: Extract<HostToRecordView, { type: 'view' }>): void {
 }
 
 function describeFilter(f: FilterSpec): string {
-  return f.kind === 'rule' ? `Rule ${str(f.rule)}` : f.kind === 'column' ? `${str(f.column)} = ${JSON.stringify(f.value)}` : f.kind === 'tokensAtLeast' ? `${formatCount(f.tokens)} tokens or more` : 'Filtered';
+  return f.kind === 'rule' ? t('Rule {0}', str(f.rule)) : f.kind === 'column' ? `${str(f.column)} = ${JSON.stringify(f.value)}` : f.kind === 'tokensAtLeast' ? t('{0} tokens or more', formatCount(f.tokens)) : t('Filtered');
 }
 
 window.addEventListener('keydown', (ev) => {
@@ -918,7 +918,7 @@ function showDetailLoading(entry: number): void {
 }
 
 function placeTitle(record: number | null | undefined, place: string): string {
-  const rec = record === null || record === undefined ? 'No record' : `Record #${formatCount(record + 1)}`;
+  const rec = record === null || record === undefined ? t('No record') : t('Record #{0}', formatCount(record + 1));
   const columnar = isTable();
   return place ? `${rec} · ${columnar || /^row\b/i.test(place) ? place : `line ${place}`}` : rec;
 }
@@ -936,18 +936,18 @@ function onDetail(d: DetailView): void {
   detailTokens.textContent = d.tokens === null || d.tokens === undefined ? '' : `${formatCount(d.tokens)} tokens`;
   detailTokens.hidden = d.tokens === null || d.tokens === undefined;
   detailLayout.textContent = typeof d.layout === 'string' ? d.layout : '';
-  detailLayout.title = 'The layout this record was read with';
+  detailLayout.title = t('The layout this record was read with');
   detailLayout.hidden = typeof d.layout !== 'string' || d.layout === '';
   openLineButton.hidden = isTable();
 
   const tabs: [Tab, string, string, number | null][] = [];
   const turns = Array.isArray(d.turns) ? d.turns : null;
   const findings = Array.isArray(d.findings) ? d.findings : [];
-  if (turns || (Array.isArray(d.media) && d.media.length)) tabs.push(['conversation', 'Conversation', 'comment-discussion', turns ? turns.length : 0]);
-  if (d.pair && typeof d.pair === 'object') tabs.push(['pair', 'Pair', 'git-compare', null]);
-  if (Array.isArray(d.rendered) && d.rendered.length) tabs.push(['rendered', 'Rendered', 'symbol-key', null]);
-  tabs.push(['json', d.value === undefined ? 'Raw' : 'JSON', 'json', null]);
-  tabs.push(['findings', 'Findings', 'issues', findings.length]);
+  if (turns || (Array.isArray(d.media) && d.media.length)) tabs.push(['conversation', t('Conversation'), 'comment-discussion', turns ? turns.length : 0]);
+  if (d.pair && typeof d.pair === 'object') tabs.push(['pair', t('Pair'), 'git-compare', null]);
+  if (Array.isArray(d.rendered) && d.rendered.length) tabs.push(['rendered', t('Rendered'), 'symbol-key', null]);
+  tabs.push(['json', d.value === undefined ? t('Raw') : t('JSON'), 'json', null]);
+  tabs.push(['findings', t('Findings'), 'issues', findings.length]);
   const names = tabs.map((t) => t[0]);
   let tab: Tab = activeTab && names.includes(activeTab) ? activeTab : names[0];
   if (d.reveal !== undefined) tab = 'json';
@@ -1001,7 +1001,7 @@ function showTab(tab: Tab): void {
   tabBody.dataset.tab = tab;
   if (detail.truncated) {
     const note = h('div', 'sw-note');
-    note.append(icon('info'), h('span', '', 'Long values are cut in this view. Open at line to read them in full.'));
+    note.append(icon('info'), h('span', '', t('Long values are cut in this view. Open at line to read them in full.')));
     tabBody.append(note);
   }
   switch (tab) {
@@ -1039,19 +1039,19 @@ function renderConversation(turns: TurnView[], d: DetailView): HTMLElement {
   if (typeof d.toolsPointer === 'string') {
     const tools = h('button', 'sw-button sw-tools-link');
     tools.type = 'button';
-    tools.append(icon('tools'), h('span', '', 'Tool definitions'));
-    tools.title = 'Show the tools this record offers in the JSON tree';
+    tools.append(icon('tools'), h('span', '', t('Tool definitions')));
+    tools.title = t('Show the tools this record offers in the JSON tree');
     const pointer = d.toolsPointer;
     tools.addEventListener('click', () => showInTree(pointer));
     list.append(tools);
   }
   if (Array.isArray(d.media) && d.media.length) {
     const media = h('div', 'sw-record-media');
-    media.append(h('div', 'sw-record-media-head', 'Media of the record'));
+    media.append(h('div', 'sw-record-media-head', t('Media of the record')));
     for (const p of d.media) if (p && typeof p === 'object') media.append(renderPart(p));
     list.append(media);
   }
-  if (!turns.length) list.append(h('div', 'sw-muted', 'This conversation has no turns.'));
+  if (!turns.length) list.append(h('div', 'sw-muted', t('This conversation has no turns.')));
   appendTurns(list, turns, {});
   return list;
 }
@@ -1066,39 +1066,39 @@ function showInTree(pointer: string): void {
   revealPointer(pointer);
 }
 
-function renderTurn(t: TurnView, scope: HTMLElement, opts: TurnOptions): HTMLElement {
-  const role = str(t.role);
+function renderTurn(tv: TurnView, scope: HTMLElement, opts: TurnOptions): HTMLElement {
+  const role = str(tv.role);
   const turn = h('article', `sw-turn sw-role-${KNOWN_ROLES.has(role) ? role : 'other'}`);
   turn.dataset.role = role;
-  turn.dataset.turn = String(t.index);
-  turn.dataset.pointer = str(t.pointer);
+  turn.dataset.turn = String(tv.index);
+  turn.dataset.pointer = str(tv.pointer);
   const head = h('div', 'sw-turn-head');
-  head.append(h('span', 'sw-role', role || '(no role)'));
-  if (t.tokens !== null && t.tokens !== undefined) head.append(h('span', 'sw-turn-tokens', `${formatCount(t.tokens)} tokens`));
-  if (t.trainable === false) {
+  head.append(h('span', 'sw-role', role || t('(no role)')));
+  if (tv.tokens !== null && tv.tokens !== undefined) head.append(h('span', 'sw-turn-tokens', t('{0} tokens', formatCount(tv.tokens))));
+  if (tv.trainable === false) {
     turn.classList.add('sw-turn-untrained');
     const tag = h('span', 'sw-tag sw-untrained-tag');
-    tag.title = 'The record excludes this turn from the loss';
-    tag.append(icon('circle-slash'), h('span', '', 'not trained on'));
+    tag.title = t('The record excludes this turn from the loss');
+    tag.append(icon('circle-slash'), h('span', '', t('not trained on')));
     head.append(tag);
   }
-  if (opts.differs !== null && opts.differs !== undefined && t.index === opts.differs) {
+  if (opts.differs !== null && opts.differs !== undefined && tv.index === opts.differs) {
     turn.classList.add('sw-turn-differs');
     const tag = h('span', 'sw-tag sw-differs-tag');
-    tag.title = 'The prompts of chosen and rejected differ from this turn on';
-    tag.append(icon('diff'), h('span', '', 'differs'));
+    tag.title = t('The prompts of chosen and rejected differ from this turn on');
+    tag.append(icon('diff'), h('span', '', t('differs')));
     head.append(tag);
   }
-  if (t.answers && typeof t.answers === 'object') head.append(answersLink(t.answers, scope));
+  if (tv.answers && typeof tv.answers === 'object') head.append(answersLink(tv.answers, scope));
   head.append(h('span', 'sw-spacer-flex'));
-  const show = iconButton('json', 'Show this turn in the JSON tree', 'sw-turn-to-json');
-  const pointer = str(t.pointer);
+  const show = iconButton('json', t('Show this turn in the JSON tree'), 'sw-turn-to-json');
+  const pointer = str(tv.pointer);
   show.addEventListener('click', () => showInTree(pointer));
   head.append(show);
   const body = h('div', 'sw-turn-content');
-  if (Array.isArray(t.parts)) {
-    for (const p of t.parts) if (p && typeof p === 'object') body.append(renderPart(p));
-  } else body.append(...visibleText(str(t.content)));
+  if (Array.isArray(tv.parts)) {
+    for (const p of tv.parts) if (p && typeof p === 'object') body.append(renderPart(p));
+  } else body.append(...visibleText(str(tv.content)));
   turn.append(head, body);
   return turn;
 }
@@ -1110,7 +1110,7 @@ function answersLink(answers: { id: string; name: string | null }, scope: HTMLEl
   const link = h('button', 'sw-answers');
   link.type = 'button';
   link.dataset.callId = id;
-  link.title = name ? `Answers the call ${id} to ${name}` : `Answers the call ${id}, which no earlier turn makes`;
+  link.title = name ? t('Answers the call {0} to {1}', id, name) : t('Answers the call {0}, which no earlier turn makes', id);
   link.append(icon('reply'), h('span', '', name ? `answers ${id} · ${name}` : `answers ${id}`));
   link.addEventListener('click', () => {
     const calls = [...scope.querySelectorAll<HTMLElement>('.sw-part-tool-call')].filter((c) => c.dataset.callId === id);
@@ -1140,7 +1140,7 @@ function renderPartBody(p: PartView): HTMLElement {
     case 'reasoning': {
       const box = h('details', 'sw-part sw-part-reasoning');
       const summary = h('summary', 'sw-part-reasoning-head');
-      summary.append(icon('lightbulb'), h('span', '', 'Reasoning'));
+      summary.append(icon('lightbulb'), h('span', '', t('Reasoning')));
       box.append(summary, h('div', 'sw-part-reasoning-text', str(p.text)));
       return box;
     }
@@ -1173,13 +1173,13 @@ function renderPartBody(p: PartView): HTMLElement {
       const media = str(p.media);
       const ic = p.inline ? (Object.hasOwn(MEDIA_ICON, media) ? MEDIA_ICON[media] : 'file') : /^[a-z][a-z0-9+.-]*:/i.test(chip) ? 'link' : 'file';
       const box = h('span', 'sw-part sw-part-media sw-chip');
-      box.title = p.inline ? `${media} held in the record` : `${media} at a location the view does not open`;
+      box.title = p.inline ? t('{0} held in the record', media) : t('{0} at a location the view does not open', media);
       box.append(icon(ic), h('span', 'sw-chip-text', chip));
       return box;
     }
     default: {
       const box = h('span', 'sw-part sw-part-unknown sw-chip');
-      box.append(icon('question'), h('span', 'sw-chip-text', `part of type ${JSON.stringify(str((p as { type?: unknown }).type))} not shown`));
+      box.append(icon('question'), h('span', 'sw-chip-text', t('part of type {0} not shown', JSON.stringify(str((p as { type?: unknown }).type)))));
       return box;
     }
   }
@@ -1190,7 +1190,7 @@ function renderPair(pair: PairView): HTMLElement {
   const differs = typeof pair.promptDiffers === 'number' ? pair.promptDiffers : null;
   if (differs !== null) {
     const note = h('div', 'sw-note sw-pair-differs');
-    note.append(icon('diff'), h('span', '', `Chosen and rejected carry different prompts, from turn ${formatCount(differs + 1)} on.`));
+    note.append(icon('diff'), h('span', '', t('Chosen and rejected carry different prompts, from turn {0} on.', formatCount(differs + 1))));
     box.append(note);
   }
   const side = (cls: 'prompt' | 'chosen' | 'rejected', label: string, ic: string, s: PairSideView | undefined): HTMLElement => {
@@ -1201,7 +1201,7 @@ function renderPair(pair: PairView): HTMLElement {
     if (s && s.transcript) head.append(h('span', 'sw-tag', 'from a transcript'));
     el.append(head);
     if (!s || typeof s !== 'object' || !s.present) {
-      el.append(h('div', 'sw-muted', 'Not in the record.'));
+      el.append(h('div', 'sw-muted', t('Not in the record.')));
       return el;
     }
     el.dataset.pointer = str(s.pointer);
@@ -1213,9 +1213,9 @@ function renderPair(pair: PairView): HTMLElement {
     } else el.append(h('div', 'sw-pair-text', str(s.text)));
     return el;
   };
-  if (pair.prompt && typeof pair.prompt === 'object' && pair.prompt.present) box.append(side('prompt', 'Prompt', 'comment', pair.prompt));
+  if (pair.prompt && typeof pair.prompt === 'object' && pair.prompt.present) box.append(side('prompt', t('Prompt'), 'comment', pair.prompt));
   const sides = h('div', 'sw-pair-sides');
-  sides.append(side('chosen', 'Chosen', 'thumbsup', pair.chosen), side('rejected', 'Rejected', 'thumbsdown', pair.rejected));
+  sides.append(side('chosen', t('Chosen'), 'thumbsup', pair.chosen), side('rejected', t('Rejected'), 'thumbsdown', pair.rejected));
   box.append(sides);
   return box;
 }
