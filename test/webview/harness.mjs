@@ -220,6 +220,7 @@ export async function startServer() {
           styleUris: [`${origin}/theme/${theme}.css`, `${origin}/media/common.css`, `${origin}/media/${kind}.css`],
           codiconUri: `${origin}/codicons/codicon.css`,
           title: url.searchParams.get('title') ?? kind,
+          strings: url.searchParams.has('strings') ? JSON.parse(url.searchParams.get('strings')) : undefined,
         });
         res.writeHead(200, { 'content-type': 'text/html; charset=utf-8' });
         res.end(page);
@@ -322,7 +323,7 @@ async function sharedPage(browser, viewport) {
  * Opens one webview. `onMessage(msg, view)` plays the host: it sees each posted message and may answer
  * through `view.send(msg)`. Returns helpers to wait for posts and to read the CSP record.
  */
-export async function openView(browser, server, { kind, theme = 'dark', title, onMessage, viewport = { width: 1200, height: 760 } }) {
+export async function openView(browser, server, { kind, theme = 'dark', title, strings, onMessage, viewport = { width: 1200, height: 760 } }) {
   const s = await sharedPage(browser, viewport);
   const page = s.page;
   const view = {
@@ -353,7 +354,10 @@ export async function openView(browser, server, { kind, theme = 'dark', title, o
     },
   };
   s.current = view;
-  const q = title === undefined ? '' : `?title=${encodeURIComponent(title)}`;
+  const params = new URLSearchParams();
+  if (title !== undefined) params.set('title', title);
+  if (strings !== undefined) params.set('strings', JSON.stringify(strings));
+  const q = params.size ? `?${params}` : '';
   await page.goto(`${server.origin}/page/${kind}/${theme}${q}`);
   await view.waitForPost((m) => m.type === 'ready');
   return view;
