@@ -221,7 +221,7 @@ function renderLayout(m: { id: string | null; share: number; chosen: boolean }):
     return;
   }
   const pct = Math.round(Math.max(0, Math.min(1, Number(m.share) || 0)) * 1000) / 10;
-  layoutEl.replaceChildren(icon('symbol-namespace'), h('span', '', `layout ${str(m.id)}`), h('span', 'sw-muted', ` · ${pct}% of records`));
+  layoutEl.replaceChildren(icon('symbol-namespace'), h('span', '', t('layout {0}', str(m.id))), h('span', 'sw-muted', t(' · {0}% of records', pct)));
   layoutEl.title = m.chosen
     ? `Records are read as the "${str(m.id)}" layout, as the settings or the project file say; ${pct}% of the records read so far fit it.`
     : `Records are read as the "${str(m.id)}" layout, decided from the shard's first records; ${pct}% of the records read so far fit it.`;
@@ -239,7 +239,7 @@ function fitNumberColumns(): void {
 function renderEntriesCount(): void {
   fitNumberColumns();
   const unit = info?.traits?.entries ?? 'lines';
-  entriesEl.textContent = viewOn ? `${formatCount(entries)} of ${formatCount(viewTotal)} ${unit}` : `${formatCount(entries)} ${unit}`;
+  entriesEl.textContent = viewOn ? t('{0} of {1} {2}', formatCount(entries), formatCount(viewTotal), unit) : t('{0} {1}', formatCount(entries), unit);
   indexingEl.hidden = complete;
   const pct = Math.round(Math.max(0, Math.min(1, progress)) * 100);
   indexingEl.querySelector('.sw-indexing-text')!.textContent = t('indexing {0}%', pct);
@@ -488,7 +488,7 @@ function buildRow(entry: number): HTMLElement {
     row.dataset.severity = r.severity;
     marker.append(severityIcon(r.severity));
     if (r.findingCount > 1) marker.append(h('span', 'sw-marker-count', formatCount(r.findingCount)));
-    marker.title = `${formatCount(r.findingCount)} ${r.findingCount === 1 ? 'finding' : 'findings'}`;
+    marker.title = t(r.findingCount === 1 ? '{0} finding' : '{0} findings', formatCount(r.findingCount));
   }
   row.append(marker);
   if (r.record === null || r.record === undefined || r.raw !== undefined) {
@@ -813,7 +813,7 @@ function onView(m: Extract<HostToRecordView, { type: 'view' }>): void {
   }
   viewChip.classList.remove('sw-view-error');
   if (m.searching !== undefined) {
-    viewChip.replaceChildren(icon('loading', 'codicon-modifier-spin'), h('span', '', `searching ${Math.round(Math.max(0, Math.min(1, Number(m.searching) || 0)) * 100)}%`));
+    viewChip.replaceChildren(icon('loading', 'codicon-modifier-spin'), h('span', '', t('searching {0}%', Math.round(Math.max(0, Math.min(1, Number(m.searching) || 0)) * 100))));
     viewChip.hidden = false;
     return;
   }
@@ -850,7 +850,7 @@ function onView(m: Extract<HostToRecordView, { type: 'view' }>): void {
     });
     const unit = count === 1 ? 'record' : 'records';
     viewChip.append(icon('filter'), h('span', 'sw-view-count', `${formatCount(count)} ${unit}`), h('span', 'sw-view-label', str(m.label)), clear);
-    viewChip.title = `${formatCount(count)} of ${formatCount(viewTotal)} lines or rows: ${str(m.label)}`;
+    viewChip.title = t('{0} of {1} lines or rows: {2}', formatCount(count), formatCount(viewTotal), str(m.label));
   }
   viewChip.hidden = !viewOn;
   entries = count;
@@ -914,7 +914,7 @@ function showDetailLoading(entry: number): void {
   detailEl.hidden = false;
   splitter.hidden = false;
   detailEl.classList.add('sw-detail-loading');
-  detailTitle.textContent = rowAt(entry) ? placeTitle(rowAt(entry)!.record, str(rowAt(entry)!.place)) : `Entry ${formatCount(entry + 1)}`;
+  detailTitle.textContent = rowAt(entry) ? placeTitle(rowAt(entry)!.record, str(rowAt(entry)!.place)) : t('Entry {0}', formatCount(entry + 1));
 }
 
 function placeTitle(record: number | null | undefined, place: string): string {
@@ -1111,7 +1111,7 @@ function answersLink(answers: { id: string; name: string | null }, scope: HTMLEl
   link.type = 'button';
   link.dataset.callId = id;
   link.title = name ? t('Answers the call {0} to {1}', id, name) : t('Answers the call {0}, which no earlier turn makes', id);
-  link.append(icon('reply'), h('span', '', name ? `answers ${id} · ${name}` : `answers ${id}`));
+  link.append(icon('reply'), h('span', '', name ? t('answers {0} · {1}', id, name) : t('answers {0}', id)));
   link.addEventListener('click', () => {
     const calls = [...scope.querySelectorAll<HTMLElement>('.sw-part-tool-call')].filter((c) => c.dataset.callId === id);
     const call = calls.at(-1);
@@ -1148,7 +1148,7 @@ function renderPartBody(p: PartView): HTMLElement {
       const box = h('div', 'sw-part sw-part-tool-call');
       if (p.id !== null && p.id !== undefined) box.dataset.callId = str(p.id);
       const head = h('div', 'sw-tool-head');
-      head.append(icon('tools'), h('span', 'sw-tool-label', 'calls'), h('span', 'sw-tool-name', str(p.name)));
+      head.append(icon('tools'), h('span', 'sw-tool-label', t('calls')), h('span', 'sw-tool-name', str(p.name)));
       if (p.id !== null && p.id !== undefined) head.append(h('span', 'sw-call-id', str(p.id)));
       box.append(head);
       const args = str(p.arguments);
@@ -1197,8 +1197,8 @@ function renderPair(pair: PairView): HTMLElement {
     const el = h('div', `sw-pair-side sw-pair-${cls}`);
     const head = h('div', 'sw-pair-head');
     head.append(icon(ic), h('span', '', label));
-    if (s && s.tokens !== null && s.tokens !== undefined) head.append(h('span', 'sw-pair-tokens', `${formatCount(s.tokens)} tokens`));
-    if (s && s.transcript) head.append(h('span', 'sw-tag', 'from a transcript'));
+    if (s && s.tokens !== null && s.tokens !== undefined) head.append(h('span', 'sw-pair-tokens', t('{0} tokens', formatCount(s.tokens))));
+    if (s && s.transcript) head.append(h('span', 'sw-tag', t('from a transcript')));
     el.append(head);
     if (!s || typeof s !== 'object' || !s.present) {
       el.append(h('div', 'sw-muted', t('Not in the record.')));
@@ -1231,7 +1231,7 @@ function renderRendered(seqs: RenderedView[]): HTMLElement {
     head.append(
       h('span', 'sw-rendered-name', str(s.name)),
       h('span', 'sw-badge', t('{0} rendered', formatCount(Number(s.rendered) || 0))),
-      h('span', 'sw-muted', `${formatCount(Number(s.content) || 0)} content · ${overhead >= 0 ? '+' : '−'}${formatCount(Math.abs(overhead) || 0)} template`),
+      h('span', 'sw-muted', t('{0} content · {1}{2} template', formatCount(Number(s.content) || 0), overhead >= 0 ? '+' : '−', formatCount(Math.abs(overhead) || 0))),
       h('span', 'sw-badge sw-trained-badge', t('{0} trained', formatCount(Number(s.trainable) || 0))),
     );
     sec.append(head);
