@@ -223,8 +223,8 @@ function renderLayout(m: { id: string | null; share: number; chosen: boolean }):
   const pct = Math.round(Math.max(0, Math.min(1, Number(m.share) || 0)) * 1000) / 10;
   layoutEl.replaceChildren(icon('symbol-namespace'), h('span', '', t('layout {0}', str(m.id))), h('span', 'sw-muted', t(' · {0}% of records', pct)));
   layoutEl.title = m.chosen
-    ? `Records are read as the "${str(m.id)}" layout, as the settings or the project file say; ${pct}% of the records read so far fit it.`
-    : `Records are read as the "${str(m.id)}" layout, decided from the shard's first records; ${pct}% of the records read so far fit it.`;
+    ? t('Records are read as the "{0}" layout, as the settings or the project file say; {1}% of the records read so far fit it.', str(m.id), pct)
+    : t('Records are read as the "{0}" layout, decided from the shard\'s first records; {1}% of the records read so far fit it.', str(m.id), pct);
   layoutEl.hidden = false;
 }
 
@@ -256,8 +256,8 @@ function renderStructure(): void {
   const groupWord = info?.traits?.group?.many ?? 'groups';
   const summary = h('summary', 'sw-structure-summary');
   summary.append(icon('symbol-structure'), h('span', '', t('Structure')));
-  const parts = [`${formatCount(columns.length)} ${columns.length === 1 ? 'column' : 'columns'}`];
-  if (columnar || groups.length) parts.push(`${formatCount(groups.length)} ${groupWord}`);
+  const parts = [t(columns.length === 1 ? '{0} column' : '{0} columns', formatCount(columns.length))];
+  if (columnar || groups.length) parts.push(t('{0} {1}', formatCount(groups.length), groupWord));
   summary.append(h('span', 'sw-muted', parts.join(' · ')));
   structureEl.append(summary);
 
@@ -279,8 +279,8 @@ function renderStructure(): void {
   if (groups.length) {
     const gTable = h('table', 'sw-groups-table');
     const gh = gTable.createTHead().insertRow();
-    for (const t of [groupWord === 'batches' ? 'Batch' : 'Row group', 'Rows', 'First row', 'Compressed', 'Uncompressed', 'Codecs'])
-      gh.append(h('th', '', t));
+    for (const label of [groupWord === 'batches' ? t('Batch') : t('Row group'), t('Rows'), t('First row'), t('Compressed'), t('Uncompressed'), t('Codecs')])
+      gh.append(h('th', '', label));
     const gb = gTable.createTBody();
     for (const g of groups) {
       const r = gb.insertRow();
