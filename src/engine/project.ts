@@ -3,52 +3,47 @@
 // per setting (its key, type, bounds and summary) serves the file, the CLI options and the
 // editor's settings. Pure: reading files and matching globs against paths is the caller's I/O.
 
-import { CHECK_NAMES, ENCODINGS, withDefaults, type CheckConfig, type EncodingName } from './config.js';
+import { ALL_CHECKS } from './checks/index.js';
+import { CHECK_NAMES, withDefaults, type CheckConfig } from './config.js';
 import { globToRegExp } from './globs.js';
-import { LAYOUT_IDS } from './layouts/index.js';
 import type { LayoutFields } from './layouts/layout.js';
 import { RULE_LEVELS, type RuleLevel } from './policy.js';
+import type { SettingSpec } from './settings.js';
+
+export type { SettingSpec, SettingType } from './settings.js';
 
 export const PROJECT_FILE = 'shardwise.json';
 
 const MIB = 1024 * 1024;
 
-export type SettingType = 'integer' | 'boolean' | 'enum' | 'string' | 'strings' | 'map' | 'fields';
-
-export interface SettingSpec {
-  /** The key in the project file (nested or dotted) and, under `shardwise.`, in VS Code settings. */
-  key: string;
-  type: SettingType;
-  /** enum values, or the values a map's entries may take. */
-  values?: () => readonly string[];
-  min?: number;
-  max?: number;
-  summary: string;
-}
-
 export const FAIL_LEVELS = ['error', 'warning', 'never'] as const;
 export type FailLevel = (typeof FAIL_LEVELS)[number];
 
-/** Every setting a project file may hold. */
-export const SETTINGS: readonly SettingSpec[] = [
-  { key: 'tokens.encoding', type: 'enum', values: () => ENCODINGS, summary: 'token encoding for counts and the context check' },
-  { key: 'tokens.tokenizer', type: 'string', summary: 'a built-in encoding or a model folder holding tokenizer.json (relative to the file that names it)' },
-  { key: 'tokens.contextLength', type: 'integer', min: 1, max: 100_000_000, summary: 'context window in tokens; longer records are findings' },
-  { key: 'text.fields', type: 'strings', summary: "fields looked for, in order, as a plain record's text" },
-  { key: 'layout.default', type: 'enum', values: () => ['auto', ...LAYOUT_IDS], summary: "how records are read ('auto': decided per shard)" },
-  { key: 'layout.byGlob', type: 'map', values: () => ['auto', ...LAYOUT_IDS], summary: 'file glob → layout, before layout.default' },
-  { key: 'layout.fields', type: 'fields', summary: 'your field names: {"turns": [...], "role": [...], "content": [...]}' },
-  { key: 'chat.roles', type: 'strings', summary: 'roles a turn may have' },
-  { key: 'chat.allowRepeatedRoles', type: 'boolean', summary: 'allow the same role twice in a row' },
-  { key: 'chat.requireConversation', type: 'enum', values: () => ['auto', 'always', 'never'], summary: 'whether a record without a conversation is reported' },
-  { key: 'schemas', type: 'map', summary: 'file glob → JSON Schema file every record must match' },
-  { key: 'lines.maxMiB', type: 'integer', min: 1, max: 2047, summary: 'lines longer than this many MiB are findings and are not parsed' },
-  { key: 'reading.memoryMiB', type: 'integer', min: 16, max: 3072, summary: 'memory cap per reader in MiB: a Parquet page or row group, or an Arrow batch, declaring more is a read-limit finding, not decoded' },
-  { key: 'rules', type: 'map', values: () => RULE_LEVELS, summary: 'rule id → error, warning, info or off' },
-  { key: 'checks', type: 'strings', values: () => CHECK_NAMES, summary: `record checks that run (default all: ${CHECK_NAMES.join(', ')}); reading the records always runs` },
+/** The settings of the core (reading, rule levels, which checks run, the CI gate); each check declares its own. */
+const CORE_SETTINGS: readonly SettingSpec[] = [
+  { key: 'lines.maxMiB', type: 'integer', min: 1, max: 2047, summary: 'lines longer than this many MiB are findings and are not parsed', apply: (c, v) => (c.maxLineBytes = (v as number) * MIB) },
+  {
+    key: 'reading.memoryMiB',
+    type: 'integer',
+    min: 16,
+    max: 3072,
+    summary: 'memory cap per reader in MiB: a Parquet page or row group, or an Arrow batch, declaring more is a read-limit finding, not decoded',
+    apply: (c, v) => (c.maxReaderBytes = (v as number) * MIB),
+  },
+  { key: 'rules', type: 'map', values: () => RULE_LEVELS, summary: 'rule id → error, warning, info or off', apply: (c, v) => (c.rules = { ...(c.rules ?? {}), ...(v as Record<string, RuleLevel>) }) },
+  {
+    key: 'checks',
+    type: 'strings',
+    values: () => CHECK_NAMES,
+    summary: `record checks that run (default all: ${CHECK_NAMES.join(', ')}); reading the records always runs`,
+    apply: (c, v) => (c.checks = [...(v as string[])]),
+  },
   { key: 'check.failOn', type: 'enum', values: () => FAIL_LEVELS, summary: 'the severity that fails a CI run (error, warning or never)' },
   { key: 'check.maxFindings', type: 'integer', min: 1, max: 100_000_000, summary: 'most findings listed per file (all are counted)' },
 ];
+
+/** Every setting a project file may hold: the checks' own, in check order, then the core's. */
+export const SETTINGS: readonly SettingSpec[] = [...ALL_CHECKS.flatMap((c) => c.settings ?? []), ...CORE_SETTINGS];
 
 const BY_KEY = new Map(SETTINGS.map((s) => [s.key, s]));
 
@@ -261,22 +256,12 @@ export function configFromValues(v: SettingValues): CheckConfig {
 
 /** Sets on `config` every setting `v` holds (the glob maps excepted: they need the file's path). */
 export function overlayValues(config: CheckConfig, v: SettingValues): CheckConfig {
-  if (v['tokens.encoding'] !== undefined) config.encoding = v['tokens.encoding'] as EncodingName;
-  if (v['tokens.tokenizer'] !== undefined) config.tokenizer = v['tokens.tokenizer'] as string;
-  if (v['tokens.contextLength'] !== undefined) config.contextLength = v['tokens.contextLength'] as number;
-  if (v['text.fields'] !== undefined) config.textFields = [...(v['text.fields'] as string[])];
-  if (v['lines.maxMiB'] !== undefined) config.maxLineBytes = (v['lines.maxMiB'] as number) * MIB;
+  for (const spec of SETTINGS) {
+    const value = v[spec.key];
+    if (value !== undefined) spec.apply?.(config, value);
+  }
   // The command line's exact byte limit (--max-line-bytes), for tests and special cases.
   if (v['lines.maxBytes'] !== undefined) config.maxLineBytes = v['lines.maxBytes'] as number;
-  if (v['reading.memoryMiB'] !== undefined) config.maxReaderBytes = (v['reading.memoryMiB'] as number) * MIB;
-  if (v['layout.default'] !== undefined) config.layout = { ...config.layout, id: v['layout.default'] as string };
-  if (v['layout.fields'] !== undefined) config.layout = { ...config.layout, fields: { ...(v['layout.fields'] as LayoutFields) } };
-  if (v['chat.roles'] !== undefined) config.chat.roles = [...(v['chat.roles'] as string[])];
-  if (v['chat.allowRepeatedRoles'] !== undefined) config.chat.allowRepeatedRoles = v['chat.allowRepeatedRoles'] as boolean;
-  const req = v['chat.requireConversation'];
-  if (req !== undefined) config.chat.requireConversation = req === 'always' ? true : req === 'never' ? false : 'auto';
-  if (v.rules !== undefined) config.rules = { ...(config.rules ?? {}), ...(v.rules as Record<string, RuleLevel>) };
-  if (v.checks !== undefined) config.checks = [...(v.checks as string[])];
   return config;
 }
 

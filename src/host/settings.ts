@@ -1,7 +1,8 @@
 // Maps VS Code settings (shardwise.*) onto the engine's CheckConfig for one shard.
 
 import * as vscode from 'vscode';
-import { ENCODINGS, withDefaults, type CheckConfig, type EncodingName } from '../engine/config.js';
+import { withDefaults, type CheckConfig } from '../engine/config.js';
+import { SETTINGS, checkValue } from '../engine/project.js';
 import { globToRegExp } from '../engine/globs.js';
 import { LAYOUT_IDS } from '../engine/layouts/index.js';
 import { tokenizerSetting } from './tokenizerSetting.js';
@@ -45,19 +46,8 @@ export interface HostSettings {
 
 export async function settingsFor(uri: vscode.Uri): Promise<HostSettings> {
   const s = vscode.workspace.getConfiguration(SECTION, uri);
-  const encoding = s.get<string>('tokens.encoding', 'cl100k_base');
-  const config = withDefaults({
-    encoding: (ENCODINGS as readonly string[]).includes(encoding) ? (encoding as EncodingName) : 'cl100k_base',
-    contextLength: clamp(s.get<number>('tokens.contextLength', 8192), 1, 100_000_000, 8192),
-    textFields: s.get<string[]>('text.fields', withDefaults().textFields),
-    maxLineBytes: clamp(s.get<number>('lines.maxMiB', 64), 1, 2047, 64) * MIB,
-    maxReaderBytes: clamp(s.get<number>('reading.memoryMiB', 1024), 16, 3072, 1024) * MIB,
-  });
+  const config = configFromEditor(s);
   config.layout = layoutFor(s, uri);
-  config.chat.roles = s.get<string[]>('chat.roles', config.chat.roles);
-  config.chat.allowRepeatedRoles = s.get<boolean>('chat.allowRepeatedRoles', false);
-  const req = s.get<string>('chat.requireConversation', 'auto');
-  config.chat.requireConversation = req === 'always' ? true : req === 'never' ? false : 'auto';
   const out: HostSettings = {
     config,
     maxProblems: clamp(s.get<number>('problems.max', 1000), 1, 100_000, 1000),
@@ -95,6 +85,29 @@ export async function settingsFor(uri: vscode.Uri): Promise<HostSettings> {
   }
   await applyProjectFile(out, uri);
   return out;
+}
+
+/**
+ * The engine's configuration from the editor's settings, through the same declarations the project
+ * file and the CLI use (`SETTINGS`): every declared setting the manifest contributes is read and
+ * checked; a hand-edited value out of bounds is clamped, another unusable one keeps the default.
+ * The settings that name files or depend on the file's path are read by their own code below.
+ */
+export function configFromEditor(s: Pick<vscode.WorkspaceConfiguration, 'get'>): CheckConfig {
+  const config = withDefaults();
+  for (const spec of SETTINGS) {
+    if (!spec.apply || spec.editorReadsItself) continue;
+    // Unset and not contributed by the manifest (the CI gate's settings, rule levels): the project file's alone.
+    let v = s.get<unknown>(spec.key);
+    if (v === undefined) continue;
+    if (spec.type === 'integer' && typeof v === 'number' && Number.isFinite(v)) v = clamp(v, spec.min ?? Number.MIN_SAFE_INTEGER, spec.max ?? Number.MAX_SAFE_INTEGER, 0);
+    try {
+      spec.apply(config, checkValue(spec, v, (m) => new Error(m)));
+    } catch {
+      // An unusable value (a wrong type in settings.json): the default stays.
+    }
+  }
+  return config;
 }
 
 /** The layout for this file: the first `layout.byGlob` entry whose glob matches, else `layout.default`. */

@@ -192,6 +192,17 @@ export function checkTurnList(list: TurnList, config: CheckConfig, out: RecordIs
 export const chatCheck: Check = {
   name: 'chat',
   rules: CHAT_RULES,
+  settings: [
+    { key: 'chat.roles', type: 'strings', summary: 'roles a turn may have', apply: (c, v) => (c.chat.roles = [...(v as string[])]) },
+    { key: 'chat.allowRepeatedRoles', type: 'boolean', summary: 'allow the same role twice in a row', apply: (c, v) => (c.chat.allowRepeatedRoles = v as boolean) },
+    {
+      key: 'chat.requireConversation',
+      type: 'enum',
+      values: () => ['auto', 'always', 'never'],
+      summary: 'whether a record without a conversation is reported',
+      apply: (c, v) => (c.chat.requireConversation = v === 'always' ? true : v === 'never' ? false : 'auto'),
+    },
+  ],
   checkRecord(rec: RecordUnderCheck, config: CheckConfig, out: RecordResult): void {
     const reading = readRecord(rec.value, config);
     if (reading !== null && reading.turnLists.length > 0) {

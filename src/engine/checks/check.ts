@@ -2,6 +2,7 @@
 
 import type { CheckConfig } from '../config.js';
 import type { RecordIssue, RuleInfo } from '../findings.js';
+import type { SettingSpec } from '../settings.js';
 
 export interface RecordUnderCheck {
   /** 0-based record index. */
@@ -30,6 +31,8 @@ export interface Check {
   /** Stable name of the family of rules this check owns (for logs and docs). */
   readonly name: string;
   readonly rules: readonly RuleInfo[];
+  /** The settings this check reads, declared beside its rules (the project file, the CLI and the editor read them from here). */
+  readonly settings?: readonly SettingSpec[];
   /**
    * Runs once per analysis before any record (compile a schema, load an encoding).
    * Throws an Error with a clear message when the configuration cannot work.

@@ -4,7 +4,8 @@
 
 import type { CheckConfig } from '../config.js';
 import type { RecordIssue, RuleInfo } from '../findings.js';
-import { LAYOUT_RULES, readRecord, shardLayoutId, type RecordReading } from '../layouts/index.js';
+import { LAYOUT_IDS, LAYOUT_RULES, readRecord, shardLayoutId, type RecordReading } from '../layouts/index.js';
+import type { LayoutFields } from '../layouts/layout.js';
 import { isRelativePath, relativeFileExists } from '../sources/files.js';
 import type { Check, RecordResult, RecordUnderCheck } from './check.js';
 
@@ -89,6 +90,25 @@ function checkMedia(reading: RecordReading, config: CheckConfig, out: RecordIssu
 export const layoutCheck: Check = {
   name: 'layout',
   rules: [...LAYOUT_RULES, ...OWN_RULES],
+  settings: [
+    { key: 'text.fields', type: 'strings', summary: "fields looked for, in order, as a plain record's text", apply: (c, v) => (c.textFields = [...(v as string[])]) },
+    {
+      key: 'layout.default',
+      type: 'enum',
+      values: () => ['auto', ...LAYOUT_IDS],
+      summary: "how records are read ('auto': decided per shard)",
+      apply: (c, v) => (c.layout = { ...c.layout, id: v as string }),
+      editorReadsItself: true,
+    },
+    { key: 'layout.byGlob', type: 'map', values: () => ['auto', ...LAYOUT_IDS], summary: 'file glob → layout, before layout.default', editorReadsItself: true },
+    {
+      key: 'layout.fields',
+      type: 'fields',
+      summary: 'your field names: {"turns": [...], "role": [...], "content": [...]}',
+      apply: (c, v) => (c.layout = { ...c.layout, fields: { ...(v as LayoutFields) } }),
+      editorReadsItself: true,
+    },
+  ],
   checkRecord(rec: RecordUnderCheck, config: CheckConfig, out: RecordResult): void {
     const reading = readRecord(rec.value, config);
     if (reading === null) return;

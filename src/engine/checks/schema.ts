@@ -303,6 +303,8 @@ function validatorFor(config: CheckConfig): RecordValidator | null {
 export const schemaCheck: Check = {
   name: 'schema',
   rules: SCHEMA_RULES,
+  // The map is settled per file (its globs need the file's path), then the schema file is loaded.
+  settings: [{ key: 'schemas', type: 'map', summary: 'file glob → JSON Schema file every record must match', editorReadsItself: true }],
   prepare(config: CheckConfig): void {
     validatorFor(config);
   },

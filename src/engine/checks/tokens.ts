@@ -2,7 +2,7 @@
 // trained tokens where the model has a chat template, records that overflow the context window,
 // and text that spells a special token.
 
-import type { CheckConfig } from '../config.js';
+import { ENCODINGS, type CheckConfig, type EncodingName } from '../config.js';
 import type { RecordIssue, RuleInfo } from '../findings.js';
 import { findChatMarkerText, findSpecialTokenText, spellingFinder, type SpecialTokenHit } from '../tokens/counter.js';
 import { getTokenizer, loadTokenizer, tokenizerOf, type Tokenizer } from '../tokens/index.js';
@@ -97,6 +97,24 @@ function specialTextIssue(unit: TextPiece, tokenizer: Tokenizer): RecordIssue | 
 export const tokensCheck: Check = {
   name: 'tokens',
   rules: TOKENS_RULES,
+  settings: [
+    { key: 'tokens.encoding', type: 'enum', values: () => ENCODINGS, summary: 'token encoding for counts and the context check', apply: (c, v) => (c.encoding = v as EncodingName) },
+    {
+      key: 'tokens.tokenizer',
+      type: 'string',
+      summary: 'a built-in encoding or a model folder holding tokenizer.json (relative to the file that names it)',
+      apply: (c, v) => (c.tokenizer = v as string),
+      editorReadsItself: true,
+    },
+    {
+      key: 'tokens.contextLength',
+      type: 'integer',
+      min: 1,
+      max: 100_000_000,
+      summary: 'context window in tokens; longer records are findings',
+      apply: (c, v) => (c.contextLength = v as number),
+    },
+  ],
 
   async prepare(config: CheckConfig): Promise<void> {
     // A template that does not parse is a setup problem, said once, not a finding on every record.

@@ -7,6 +7,7 @@ import { sniff } from './sniff.js';
 import { ParquetSource } from './parquet.js';
 import { ArrowFileSource } from './arrowFile.js';
 import { ArrowStreamSource } from './arrowStream.js';
+import type { FormatTraits } from './traits.js';
 import { JsonArraySource } from './jsonArray.js';
 
 export interface OpenOptions {
@@ -30,6 +31,8 @@ export interface FormatEntry {
   readonly title: string;
   /** Lower-case file-name endings the format usually has (the editor claims these; the bytes decide). */
   readonly endings: readonly string[];
+  /** What the code outside sources/ asks instead of the format's name. */
+  readonly traits: FormatTraits;
   create(path: string, opts: OpenOptions, compression: Compression): RecordSource;
 }
 
@@ -38,19 +41,50 @@ export const FORMATS: readonly FormatEntry[] = [
   {
     format: 'jsonl',
     title: 'JSON Lines',
+    traits: { textual: true, oneLinePerEntry: true, entries: 'lines', group: null, wasmMemory: false },
     endings: ['.jsonl', '.ndjson', '.jsonl.gz', '.ndjson.gz', '.jsonl.zst', '.ndjson.zst'],
     create: (p, o, compression) => new JsonlSource(p, { ...o, compression }),
   },
   {
     format: 'json-array',
     title: 'a JSON array',
+    traits: { textual: true, oneLinePerEntry: false, entries: 'lines', group: null, wasmMemory: false },
     endings: ['.json', '.json.gz', '.json.zst'],
     create: (p, o, compression) => new JsonArraySource(p, { maxElementBytes: o.maxLineBytes, compression }),
   },
-  { format: 'parquet', title: 'Parquet', endings: ['.parquet'], create: (p, o) => new ParquetSource(p, { maxDecodedBytes: o.maxReaderBytes }) },
-  { format: 'arrow-file', title: 'an Arrow IPC file', endings: ['.arrow', '.feather'], create: (p, o) => new ArrowFileSource(p, { maxBatchBytes: o.maxReaderBytes }) },
-  { format: 'arrow-stream', title: 'an Arrow IPC stream', endings: ['.arrows', '.stream'], create: (p, o) => new ArrowStreamSource(p, { maxBatchBytes: o.maxReaderBytes }) },
+  {
+    format: 'parquet',
+    title: 'Parquet',
+    endings: ['.parquet'],
+    traits: { textual: false, oneLinePerEntry: false, entries: 'rows', group: { one: 'row group', many: 'row groups' }, wasmMemory: true },
+    create: (p, o) => new ParquetSource(p, { maxDecodedBytes: o.maxReaderBytes }),
+  },
+  {
+    format: 'arrow-file',
+    title: 'an Arrow IPC file',
+    endings: ['.arrow', '.feather'],
+    traits: { textual: false, oneLinePerEntry: false, entries: 'rows', group: { one: 'batch', many: 'batches' }, wasmMemory: false },
+    create: (p, o) => new ArrowFileSource(p, { maxBatchBytes: o.maxReaderBytes }),
+  },
+  {
+    format: 'arrow-stream',
+    title: 'an Arrow IPC stream',
+    endings: ['.arrows', '.stream'],
+    traits: { textual: false, oneLinePerEntry: false, entries: 'rows', group: { one: 'batch', many: 'batches' }, wasmMemory: false },
+    create: (p, o) => new ArrowStreamSource(p, { maxBatchBytes: o.maxReaderBytes }),
+  },
 ];
+
+const BY_FORMAT = new Map(FORMATS.map((f) => [f.format, f]));
+
+/** The traits of a format (each format's line of the table declares them). */
+export function traitsOf(format: FormatName): FormatTraits {
+  const f = BY_FORMAT.get(format);
+  if (!f) throw new Error(`unknown format "${format}"`);
+  return f.traits;
+}
+
+export const KNOWN_FORMATS: readonly FormatName[] = FORMATS.map((f) => f.format);
 
 /** The format a file's name suggests (the longest matching ending), or null. Only a hint: see `sniffFormat`. */
 export function formatOf(path: string): FormatName | null {
