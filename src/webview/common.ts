@@ -34,10 +34,42 @@ const STRINGS: Record<string, string> = (() => {
 })();
 
 /** A user-visible string in the display language (English when untranslated); `{0}`, `{1}`… take the args. */
+/** Numbers as the display language writes them (the host puts it in <html lang>). */
+const countFormat = (() => {
+  try {
+    return new Intl.NumberFormat((typeof document !== 'undefined' && document.documentElement.lang) || 'en');
+  } catch {
+    return new Intl.NumberFormat('en');
+  }
+})();
+
+const plainFormats = new Map<number, Intl.NumberFormat>();
+
+/** A number with at most `digits` decimals (exactly `digits` when `fixed`), the display language's decimal sign, no grouping. */
+function plainNumber(v: number, digits: number, fixed = false): string {
+  const key = fixed ? -1 - digits : digits;
+  let f = plainFormats.get(key);
+  if (!f) {
+    const opts: Intl.NumberFormatOptions = { useGrouping: false, maximumFractionDigits: digits, minimumFractionDigits: fixed ? digits : 0 };
+    try {
+      f = new Intl.NumberFormat((typeof document !== 'undefined' && document.documentElement.lang) || 'en', opts);
+    } catch {
+      f = new Intl.NumberFormat('en', opts);
+    }
+    plainFormats.set(key, f);
+  }
+  return f.format(v);
+}
+
 export function t(english: string, ...args: (string | number)[]): string {
   const text = Object.prototype.hasOwnProperty.call(STRINGS, english) ? STRINGS[english] : english;
   if (!args.length) return text;
-  return text.replace(/\{(\d+)\}/g, (m, i: string) => (Number(i) < args.length ? String(args[Number(i)]) : m));
+  return text.replace(/\{(\d+)\}/g, (m, i: string) => {
+    if (Number(i) >= args.length) return m;
+    const v = args[Number(i)];
+    // A number argument (a percentage, a share) is written as the display language writes it.
+    return typeof v === 'number' ? plainNumber(v, 1) : String(v);
+  });
 }
 
 /** Creates an element with an optional class list and text (set as text, never parsed). */
@@ -80,14 +112,6 @@ export function severityIcon(severity: Severity): HTMLSpanElement {
   return s;
 }
 
-/** Numbers as the display language writes them (the host puts it in <html lang>). */
-const countFormat = (() => {
-  try {
-    return new Intl.NumberFormat((typeof document !== 'undefined' && document.documentElement.lang) || 'en');
-  } catch {
-    return new Intl.NumberFormat('en');
-  }
-})();
 
 export function formatCount(n: number | null | undefined): string {
   if (n === null || n === undefined || !Number.isFinite(n)) return '–';
@@ -103,7 +127,7 @@ export function formatBytes(n: number | null | undefined): string {
     v /= 1024;
     u++;
   }
-  return u === 0 ? `${v} B` : `${v.toFixed(v < 10 ? 2 : v < 100 ? 1 : 0)} ${units[u]}`;
+  return u === 0 ? `${plainNumber(v, 0)} B` : `${plainNumber(v, v < 10 ? 2 : v < 100 ? 1 : 0, true)} ${units[u]}`;
 }
 
 /** Coerces host text to a string: the host is trusted to send strings, but a bad value must not throw. */
