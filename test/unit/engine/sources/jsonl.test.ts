@@ -210,12 +210,8 @@ describe('compressed shards', () => {
     expect(r.entries[1].value).toEqual({ b: 2 });
   });
 
-  it('reads the output of the zstd command when it is installed', async () => {
+  it('reads the output of the zstd command (the reference compressor)', async () => {
     const z = zstdCommand(content);
-    if (z === null) {
-      console.log('zstd command not installed: only raw-block frames were checked');
-      return;
-    }
     const plain = await both(shard(content));
     expect((await both(shard(z, '.jsonl.zst'))).entries).toEqual(plain.entries);
   });

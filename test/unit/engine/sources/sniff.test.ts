@@ -182,14 +182,19 @@ describe('JSON Lines or one JSON array, from the text itself (jsonlines.org; RFC
     expect(sniffFormat(write('lines.json.gz', gzipSync(Buffer.from(lines))))).toEqual({ format: 'jsonl', compression: 'gzip' });
   });
   it('zstd (RFC 8878) arrays and lines under any name read, decompressed', async () => {
-    // The Debian zstd command when present; else a frame of raw blocks, which every decoder reads.
-    const zstd = (s: string) => zstdCommand(Buffer.from(s)) ?? zstdRawFrame(Buffer.from(s));
-    const array = write('rows.json.zst', zstd(pretty));
-    expect(sniffFormat(array)).toEqual({ format: 'json-array', compression: 'zstd' });
-    expect(await opened(array)).toMatchObject({ format: 'json-array', entries: 25, findings: [] });
-    const noName = write('shard-zstd', zstd(lines));
-    expect(sniffFormat(noName)).toEqual({ format: 'jsonl', compression: 'zstd' });
-    expect(await opened(noName)).toMatchObject({ format: 'jsonl', entries: 25, findings: [] });
+    // Both the Debian zstd command's output and a frame of raw blocks, which every decoder reads.
+    const makers: [string, (s: string) => Uint8Array][] = [
+      ['command', (s) => zstdCommand(Buffer.from(s))],
+      ['raw', (s) => zstdRawFrame(Buffer.from(s))],
+    ];
+    for (const [how, zstd] of makers) {
+      const array = write(`rows-${how}.json.zst`, zstd(pretty));
+      expect(sniffFormat(array)).toEqual({ format: 'json-array', compression: 'zstd' });
+      expect(await opened(array)).toMatchObject({ format: 'json-array', entries: 25, findings: [] });
+      const noName = write(`shard-zstd-${how}`, zstd(lines));
+      expect(sniffFormat(noName)).toEqual({ format: 'jsonl', compression: 'zstd' });
+      expect(await opened(noName)).toMatchObject({ format: 'jsonl', entries: 25, findings: [] });
+    }
   });
   it('a cut-short .json.gz array keeps the elements before the break and reports it', async () => {
     const gz = gzipSync(Buffer.from(pretty));
