@@ -1,6 +1,6 @@
-// Installs the Debian packages the browser tests and the workbench need, only when missing:
-// Chromium (headless browser for the webview and workbench tests) and libkrb5-dev (code-server's
-// native build). Needs root and apt-get; otherwise says what to install and stops.
+// Installs the Debian packages the tests need, only when missing: Chromium (headless browser for
+// the webview and workbench tests), libkrb5-dev (code-server's native build) and zstd (the
+// reference compressor the zstd reader is compared with). Needs root and apt-get; otherwise says what to install and stops.
 import { execFileSync, spawnSync } from 'node:child_process';
 import { existsSync } from 'node:fs';
 
@@ -9,6 +9,8 @@ export function missingSystemPackages() {
   if (!existsSync('/usr/bin/chromium')) missing.push('chromium');
   const krb = spawnSync('dpkg', ['-s', 'libkrb5-dev'], { stdio: 'ignore' });
   if (krb.status !== 0) missing.push('libkrb5-dev');
+  const zstd = spawnSync('zstd', ['--version'], { stdio: 'ignore' });
+  if (zstd.status !== 0) missing.push('zstd');
   return missing;
 }
 
@@ -17,7 +19,7 @@ export function ensureSystemPackages() {
   if (!missing.length) return true;
   const root = typeof process.getuid === 'function' && process.getuid() === 0;
   if (!root || !existsSync('/usr/bin/apt-get')) {
-    console.error(`Shardwise needs these Debian packages for its browser and workbench tests: ${missing.join(' ')}\n` +
+    console.error(`Shardwise needs these Debian packages for its tests: ${missing.join(' ')}\n` +
       `Install them with: sudo apt-get install -y ${missing.join(' ')}`);
     return false;
   }

@@ -35,7 +35,7 @@ function run(cmd, args, opts = {}) {
 }
 
 import { ensureSystemPackages } from './ensure-system.mjs';
-if ((want('webview') || want('workbench')) && !ensureSystemPackages()) process.exit(1);
+if ((want('unit') || want('webview') || want('workbench')) && !ensureSystemPackages()) process.exit(1);
 
 const layers = [];
 let passed = 0;
