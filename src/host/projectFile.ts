@@ -6,7 +6,7 @@ import * as vscode from 'vscode';
 import { PROJECT_FILE, matchGlobMap, overlayValues, parseProjectFile, type ProjectFile } from '../engine/project.js';
 import type { HostSettings } from './settings.js';
 import { homedir } from 'node:os';
-import { resolveTokenizerValue } from '../engine/tokens/resolve.js';
+import { resolveTokenizerValue } from '../engine/tokens/kinds.js';
 
 async function exists(uri: vscode.Uri): Promise<boolean> {
   try {

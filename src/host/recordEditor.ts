@@ -12,7 +12,8 @@ import { readRecord } from '../engine/layouts/index.js';
 import type { ColumnInfo } from '../engine/sources/source.js';
 import type { DetailView, HostToRecordView, RecordViewToHost } from '../protocol.js';
 import { pairView, recordMediaViews, renderedViews, thumbnailBudget, turnViews } from './detailView.js';
-import { isEncodingName } from '../engine/tokens/tokenizer.js';
+import { tokenizerKindOf } from '../engine/tokens/kinds.js';
+import { tokenizerOf } from '../engine/tokens/tokenizer.js';
 import { isMessage } from '../protocol.js';
 import { openAtFinding } from './openText.js';
 import { ShardDocument } from './shardDocument.js';
@@ -445,8 +446,8 @@ export class RecordEditorProvider implements vscode.CustomReadonlyEditorProvider
       const media = safe(() => recordMediaViews(reading, cutText, budget));
       if (media && media.length) detail.media = media;
       if (reading.toolsPointer !== undefined) detail.toolsPointer = reading.toolsPointer;
-      // Only a model folder has a chat template; the reading worker renders it.
-      if (config.tokenizer && !isEncodingName(config.tokenizer)) {
+      // Only some tokenizer kinds carry a chat template (a model folder's); the reading worker renders it.
+      if (tokenizerKindOf(tokenizerOf(config)).chatTemplates) {
         const r = await document.session!.rendered(e.value, config).catch(() => null);
         if (r) detail.rendered = renderedViews(r, DETAIL_STRING_CHARS);
       }

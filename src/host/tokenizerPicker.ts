@@ -6,7 +6,7 @@ import * as vscode from 'vscode';
 import { ENCODINGS } from '../engine/config.js';
 import { findCachedModels } from '../engine/tokens/hubCache.js';
 import { modelFolderProblem } from '../engine/tokens/resolve.js';
-import { isEncodingName } from '../engine/tokens/tokenizer.js';
+import { isEncodingName } from '../engine/tokens/counter.js';
 
 type Item = vscode.QuickPickItem & { value?: string; browse?: true };
 

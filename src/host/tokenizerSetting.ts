@@ -3,7 +3,7 @@
 
 import { homedir } from 'node:os';
 import type * as vscode from 'vscode';
-import { resolveTokenizerValue } from '../engine/tokens/resolve.js';
+import { resolveTokenizerValue } from '../engine/tokens/kinds.js';
 
 export interface TokenizerSetting {
   /** What to put in CheckConfig.tokenizer (undefined: the encoding setting decides). */

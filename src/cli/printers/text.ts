@@ -1,7 +1,7 @@
 // `--format text`: findings grouped by file, each as `path:line:column` (terminals and editors make
 // it a link) or `path row N` for columnar rows, then one summary table over every file.
 
-import { tokenizerLabel } from '../../engine/tokens/tokenizer.js';
+import { tokenizerLabel } from '../../engine/tokens/kinds.js';
 import { formatPlace } from '../../engine/places.js';
 import type { FileReport, Printer, ReportFinding } from '../report.js';
 

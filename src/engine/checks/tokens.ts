@@ -4,7 +4,6 @@
 
 import { ENCODINGS, type CheckConfig, type EncodingName } from '../config.js';
 import type { RecordIssue, RuleInfo } from '../findings.js';
-import { findChatMarkerText, findSpecialTokenText, spellingFinder, type SpecialTokenHit } from '../tokens/counter.js';
 import { getTokenizer, loadTokenizer, tokenizerOf, type Tokenizer } from '../tokens/index.js';
 import { chatTemplateOf, countReading, renderReading } from '../tokens/recordTokens.js';
 import type { Check, RecordResult, RecordUnderCheck } from './check.js';
@@ -51,47 +50,9 @@ export const TOKENS_RULES: RuleInfo[] = [
   },
 ];
 
-const modelFinders = new WeakMap<Tokenizer, (text: string) => SpecialTokenHit[]>();
-
 function specialTextIssue(unit: TextPiece, tokenizer: Tokenizer): RecordIssue | null {
-  if (tokenizer.kind === 'model') {
-    let find = modelFinders.get(tokenizer);
-    if (!find) modelFinders.set(tokenizer, (find = spellingFinder(Object.keys(tokenizer.specialTokens))));
-    const hits = find(unit.text);
-    if (hits.length === 0) return null;
-    const names = [...new Set(hits.map((h) => h.token))].map((n) => `"${n}"`).join(', ');
-    return {
-      rule: 'tokens-special-text',
-      message:
-        `Text spells the control token${hits.length > 1 ? 's' : ''} ${names} of ${tokenizer.label} (${hits.length === 1 ? 'once' : `${hits.length} times`}); ` +
-        "the model's tokenizer reads a control token there, not the text.",
-      pointer: unit.pointer,
-    };
-  }
-  const encoding = tokenizer.name as Parameters<typeof findSpecialTokenText>[1];
-  const hits = findSpecialTokenText(unit.text, encoding);
-  if (hits.length === 0) {
-    const markers = findChatMarkerText(unit.text);
-    if (markers.length === 0) return null;
-    const names = [...new Set(markers.map((h) => h.token))].map((n) => `"${n}"`).join(', ');
-    return {
-      rule: 'tokens-special-text',
-      message:
-        `Text spells the chat-template marker${markers.length > 1 ? 's' : ''} ${names}; ` +
-        'a pipeline that renders chats through such a template would read a turn boundary here.',
-      pointer: unit.pointer,
-    };
-  }
-  const names = [...new Set(hits.map((h) => h.token))];
-  const spelled = names.map((n) => `"${n}"`).join(', ');
-  const times = hits.length === 1 ? 'once' : `${hits.length} times`;
-  return {
-    rule: 'tokens-special-text',
-    message:
-      `Text spells the ${encoding} special token${names.length > 1 ? 's' : ''} ${spelled} (${times}); ` +
-      'it is counted as ordinary text, but a trainer that encodes special tokens would read a control token here.',
-    pointer: unit.pointer,
-  };
+  const message = tokenizer.specialTextNote(unit.text);
+  return message === null ? null : { rule: 'tokens-special-text', message, pointer: unit.pointer };
 }
 
 export const tokensCheck: Check = {

@@ -1,8 +1,9 @@
 // Token counts for a named encoding, exact to the reference tokenizer. The rank tables come from
 // js-tiktoken and are large, so each is loaded on first use and kept for the process.
 
-import type { EncodingName } from '../config.js';
+import { ENCODINGS, type EncodingName } from '../config.js';
 import { BytePairEncoder, decodeRanks, type EncoderOptions, type RankTable } from './bpe.js';
+import type { TokenizerKind } from './kinds.js';
 import { PATTERNS, type PatternName } from './patterns.js';
 import type { Tokenizer } from './tokenizer.js';
 
@@ -137,6 +138,7 @@ export function createTokenCounter(encoding: EncodingName, table: RankTable, opt
     kind: 'encoding',
     specialsInContent: 'text',
     chatTemplate: null,
+    specialTextNote: (text) => encodingSpecialTextNote(text, encoding),
     ...bpe,
     countRendered: (text) => bpe.countWithSpecial(text),
     encodeRendered: (text) => bpe.encodeWithSpecial(text),
@@ -187,3 +189,44 @@ export function spellingFinder(spellings: readonly string[]): (text: string) => 
     return hits;
   };
 }
+
+/** Whether a value is the name of a built-in encoding. */
+export function isEncodingName(value: string): value is EncodingName {
+  return (ENCODINGS as readonly string[]).includes(value);
+}
+
+/**
+ * The encodings read special spellings in content as ordinary text; a trainer that encodes special
+ * tokens, or renders chats through a template, would read a control token there.
+ */
+function encodingSpecialTextNote(text: string, encoding: EncodingName): string | null {
+  const hits = findSpecialTokenText(text, encoding);
+  if (hits.length === 0) {
+    const markers = findChatMarkerText(text);
+    if (markers.length === 0) return null;
+    const names = [...new Set(markers.map((h) => h.token))].map((n) => `"${n}"`).join(', ');
+    return (
+      `Text spells the chat-template marker${markers.length > 1 ? 's' : ''} ${names}; ` +
+      'a pipeline that renders chats through such a template would read a turn boundary here.'
+    );
+  }
+  const names = [...new Set(hits.map((h) => h.token))];
+  const spelled = names.map((n) => `"${n}"`).join(', ');
+  const times = hits.length === 1 ? 'once' : `${hits.length} times`;
+  return (
+    `Text spells the ${encoding} special token${names.length > 1 ? 's' : ''} ${spelled} (${times}); ` +
+    'it is counted as ordinary text, but a trainer that encodes special tokens would read a control token here.'
+  );
+}
+
+/** The first tokenizer kind: a built-in encoding, named by its name. */
+export const encodingKind: TokenizerKind = {
+  kind: 'encoding',
+  written: `an encoding name (${ENCODINGS.join(', ')})`,
+  claims: isEncodingName,
+  resolve: (value) => value,
+  problem: () => null,
+  label: (value) => value,
+  chatTemplates: false,
+  load: (value) => loadTokenCounter(value as EncodingName),
+};

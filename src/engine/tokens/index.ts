@@ -1,13 +1,11 @@
-// Where a tokenizer value is dispatched to its kind, once: a built-in encoding name, else a model
-// folder. Each process loads a tokenizer once and keeps it.
+// Each process loads a tokenizer once and keeps it; its kind (kinds.ts) loads it.
 
 import type { CheckConfig } from '../config.js';
-import { loadTokenCounter } from './counter.js';
-import { loadModelTokenizer } from './model.js';
-import { isEncodingName, tokenizerOf, type Tokenizer } from './tokenizer.js';
+import { tokenizerKindOf } from './kinds.js';
+import { tokenizerOf, type Tokenizer } from './tokenizer.js';
 
-export { TokenizerError, tokenizerOf, tokenizerLabel, isEncodingName, type Tokenizer } from './tokenizer.js';
-export { resolveTokenizerValue, modelFolderProblem } from './resolve.js';
+export { TokenizerError, tokenizerOf, type Tokenizer } from './tokenizer.js';
+export { resolveTokenizerValue, tokenizerLabel, tokenizerKindOf, TOKENIZER_KINDS, type TokenizerKind } from './kinds.js';
 
 const loaded = new Map<string, Tokenizer>();
 const loading = new Map<string, Promise<Tokenizer>>();
@@ -18,7 +16,7 @@ export function loadTokenizer(value: string): Promise<Tokenizer> {
   if (ready) return Promise.resolve(ready);
   let pending = loading.get(value);
   if (!pending) {
-    pending = (isEncodingName(value) ? loadTokenCounter(value) : loadModelTokenizer(value)).then((t) => {
+    pending = tokenizerKindOf(value).load(value).then((t) => {
       loaded.set(value, t);
       loading.delete(value);
       return t;

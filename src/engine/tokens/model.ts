@@ -9,9 +9,10 @@ import { join } from 'node:path';
 import { Tokenizer as HfTokenizer } from '@huggingface/tokenizers';
 import type { ChatTemplateSpec } from './chatTemplate.js';
 import { spellingFinder } from './counter.js';
+import type { TokenizerKind } from './kinds.js';
 import { speedUpLongWords } from './longWords.js';
-import { modelFolderProblem } from './resolve.js';
-import { TokenizerError, tokenizerLabel, type Tokenizer } from './tokenizer.js';
+import { modelFolderLabel, modelFolderProblem, resolveModelFolder } from './resolve.js';
+import { TokenizerError, type Tokenizer } from './tokenizer.js';
 
 export interface ModelTokenizer extends Tokenizer {
   readonly kind: 'model';
@@ -151,6 +152,8 @@ export async function loadModelTokenizer(path: string): Promise<ModelTokenizer> 
   const shape = JSON.stringify([json.normalizer ?? null, json.pre_tokenizer ?? null]);
   const splitExact = added.every((t) => !t.lstrip && !t.rstrip && !t.single_word) && !/"(Metaspace|Prepend)"/.test(shape);
   const findAdded = spellingFinder(addedSpellings);
+  const findSpecial = spellingFinder(Object.keys(specialTokens));
+  const label = modelFolderLabel(isFile ? folder : path);
   const countRendered = (text: string): number => {
     if (!splitExact) return countPlain(text);
     let n = 0;
@@ -165,14 +168,35 @@ export async function loadModelTokenizer(path: string): Promise<ModelTokenizer> 
   };
   return {
     name: path,
-    label: tokenizerLabel(isFile ? folder : path),
+    label,
     kind: 'model',
     specialTokens,
     specialsInContent: 'control',
     chatTemplate: template,
+    specialTextNote: (text) => {
+      const hits = findSpecial(text);
+      if (hits.length === 0) return null;
+      const names = [...new Set(hits.map((h) => h.token))].map((n) => `"${n}"`).join(', ');
+      return (
+        `Text spells the control token${hits.length > 1 ? 's' : ''} ${names} of ${label} (${hits.length === 1 ? 'once' : `${hits.length} times`}); ` +
+        "the model's tokenizer reads a control token there, not the text."
+      );
+    },
     count: (text) => (splitExact ? countRendered(text) : cache.get(text, countPlain)),
     encode: ids,
     countRendered,
     encodeRendered: ids,
   };
 }
+
+/** The second tokenizer kind: a model folder holding tokenizer.json, or that file's path; claims every value the encodings leave. */
+export const modelFolderKind: TokenizerKind = {
+  kind: 'model',
+  written: 'a model folder holding tokenizer.json',
+  claims: () => true,
+  resolve: resolveModelFolder,
+  problem: modelFolderProblem,
+  label: modelFolderLabel,
+  chatTemplates: true,
+  load: loadModelTokenizer,
+};

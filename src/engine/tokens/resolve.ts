@@ -1,9 +1,10 @@
-// Naming a tokenizer: what a user writes (a setting, `--tokenizer`, the project file) checked and
+// Naming a model folder: what a user writes (a setting, `--tokenizer`, the project file) checked and
 // made absolute, without loading anything heavy — the extension host uses this too.
 
 import { existsSync, statSync } from 'node:fs';
 import { basename, isAbsolute, join, resolve } from 'node:path';
-import { isEncodingName, TokenizerError } from './tokenizer.js';
+import { ENCODINGS } from '../config.js';
+import { TokenizerError } from './tokenizer.js';
 
 /** Checks, without reading it whole, that `folder` is a model folder; returns a clear problem or null. */
 export function modelFolderProblem(folder: string): string | null {
@@ -21,23 +22,24 @@ export function modelFolderProblem(folder: string): string | null {
 }
 
 /**
- * Validates a user's tokenizer value (`--tokenizer`, a setting, the project file): a built-in
- * encoding name, or a model folder (or its tokenizer.json) resolved against `baseDir` (`~/`
- * against `home` when given). Returns what to put in `CheckConfig.tokenizer`; throws
- * TokenizerError with a clear message. Only checks that the folder exists and holds
- * tokenizer.json; a malformed file is reported when it is loaded.
+ * A model folder (or its tokenizer.json) named by a user, resolved against `baseDir` and checked to
+ * exist and hold tokenizer.json; throws TokenizerError with a clear message.
  */
-export function resolveTokenizerValue(value: string, baseDir: string, home?: string): string {
-  let v = value.trim();
-  // `~/models/x` as a shell would read it, when the caller knows the home folder.
-  if (home && (v === '~' || v.startsWith('~/'))) v = join(home, v.slice(1));
-  if (v === '') throw new TokenizerError('The tokenizer is empty: give an encoding name (cl100k_base, o200k_base) or a model folder holding tokenizer.json.');
-  if (isEncodingName(v)) return v;
-  const path = isAbsolute(v) ? v : resolve(baseDir, v);
+export function resolveModelFolder(value: string, baseDir: string): string {
+  const path = isAbsolute(value) ? value : resolve(baseDir, value);
   const problem = modelFolderProblem(path);
   if (problem) {
-    const hint = /^[a-z0-9_]+$/i.test(v) ? ' The built-in encodings are cl100k_base and o200k_base.' : '';
+    const hint = /^[a-z0-9_]+$/i.test(value) ? ` The built-in encodings are ${ENCODINGS.join(' and ')}.` : '';
     throw new TokenizerError(`Unknown tokenizer "${value}": ${problem}.${hint}`);
   }
   return path;
+}
+
+/** A model folder's short name: its own name, or for a hub cache snapshot the model's `org/name`. */
+export function modelFolderLabel(value: string): string {
+  const parts = value.replace(/[\\/]+$/, '').split(/[\\/]/);
+  // A hub cache snapshot is `models--org--name/snapshots/<hash>`: the model's name says more than the hash.
+  const snap = parts.lastIndexOf('snapshots');
+  if (snap > 0 && /^models--/.test(parts[snap - 1] ?? '')) return parts[snap - 1]!.slice('models--'.length).replace(/--/g, '/');
+  return parts[parts.length - 1] || value;
 }

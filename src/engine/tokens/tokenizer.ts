@@ -1,8 +1,9 @@
-// The one tokenizer interface. Each kind is one file: the built-in encodings (`counter.ts`) and a
-// model folder holding tokenizer.json (`model.ts`). A tokenizer is named by one string that crosses
-// to workers in the CheckConfig: an encoding name, or the absolute path of a model folder.
+// The one tokenizer interface. Each kind is one file listed in kinds.ts: the built-in encodings
+// (`counter.ts`) and a model folder holding tokenizer.json (`model.ts`). A tokenizer is named by one
+// string that crosses to workers in the CheckConfig: an encoding name, or the absolute path of a
+// model folder.
 
-import { ENCODINGS, type CheckConfig, type EncodingName } from '../config.js';
+import type { CheckConfig } from '../config.js';
 import type { ChatTemplateSpec } from './chatTemplate.js';
 
 export interface Tokenizer {
@@ -10,7 +11,8 @@ export interface Tokenizer {
   readonly name: string;
   /** A short name for screens: the encoding name, or the model folder's own name. */
   readonly label: string;
-  readonly kind: 'encoding' | 'model';
+  /** Its kind's name (kinds.ts). */
+  readonly kind: string;
   /** Tokens of a piece of content (no special tokens added around it). */
   count(text: string): number;
   /** Token ids of a piece of content, as `count` counts them. */
@@ -29,6 +31,11 @@ export interface Tokenizer {
   readonly specialsInContent: 'text' | 'control';
   /** The model's chat template, when its folder has one. */
   readonly chatTemplate: ChatTemplateSpec | null;
+  /**
+   * A sentence on a text that spells this tokenizer's control tokens (or markers a chat template
+   * would read as turn boundaries), for the `tokens-special-text` finding; null when it spells none.
+   */
+  specialTextNote(text: string): string | null;
 }
 
 /** A tokenizer that cannot be named or loaded: the message says what is wrong and where. */
@@ -36,21 +43,7 @@ export class TokenizerError extends Error {
   override readonly name = 'TokenizerError';
 }
 
-export function isEncodingName(value: string): value is EncodingName {
-  return (ENCODINGS as readonly string[]).includes(value);
-}
-
 /** The tokenizer a configuration names: `tokenizer` when set, else the built-in `encoding`. */
 export function tokenizerOf(config: Pick<CheckConfig, 'encoding' | 'tokenizer'>): string {
   return config.tokenizer && config.tokenizer.trim() !== '' ? config.tokenizer : config.encoding;
-}
-
-/** The short name of a tokenizer value, for screens: an encoding name, or a folder's last name. */
-export function tokenizerLabel(value: string): string {
-  if (isEncodingName(value)) return value;
-  const parts = value.replace(/[\\/]+$/, '').split(/[\\/]/);
-  // A hub cache snapshot is `models--org--name/snapshots/<hash>`: the model's name says more than the hash.
-  const snap = parts.lastIndexOf('snapshots');
-  if (snap > 0 && /^models--/.test(parts[snap - 1] ?? '')) return parts[snap - 1]!.slice('models--'.length).replace(/--/g, '/');
-  return parts[parts.length - 1] || value;
 }
