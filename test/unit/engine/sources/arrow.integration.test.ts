@@ -1,7 +1,8 @@
 // Arrow IPC file and stream sources against apache/arrow-testing's integration gold files
 // (../shared/testdata/arrow, SOURCES.md: arrow-testing data/arrow-ipc-stream, commit 9cfebfef):
-// each X.arrow_file and X.stream must equal X.json.gz (Arrow's integration JSON format) or give a
-// clear message; cases that give messages are listed in arrow.known-failures.json, which may only shrink.
+// each X.arrow_file and X.stream must equal X.json.gz (Arrow integration JSON format, arrow-testing
+// gold files; read by ./arrowGold.ts) value by value, for every type the files hold, or the case is
+// listed in arrow.known-failures.json with the reason and the problem it still shows.
 
 import { describe, expect, it } from 'vitest';
 import { readdirSync, readFileSync, statSync } from 'node:fs';
@@ -11,12 +12,15 @@ import { ArrowFileSource } from '../../../../src/engine/sources/arrowFile.js';
 import { ArrowStreamSource } from '../../../../src/engine/sources/arrowStream.js';
 import type { Entry, SourceInfo } from '../../../../src/engine/sources/source.js';
 import { requireTestdata } from './testdata.js';
+import { expecter, goldDictionaries, parseGold, type JDoc } from './arrowGold.js';
 
-const known = JSON.parse(readFileSync(new URL('./arrow.known-failures.json', import.meta.url), 'utf8')) as { cases: string[] };
-
-interface JField { name: string; type: { name: string; bitWidth?: number; precision?: string }; dictionary?: unknown; children?: JField[] }
-interface JColumn { name: string; count: number; VALIDITY?: number[]; DATA?: unknown[] }
-interface JDoc { schema: { fields: JField[] }; batches: { count: number; columns: JColumn[] }[] }
+interface KnownCase {
+  /** Why our sources cannot give the gold values. */
+  why: string;
+  /** Text the case's problem still contains: a listed case must keep failing this way. */
+  fails: string;
+}
+const known = JSON.parse(readFileSync(new URL('./arrow.known-failures.json', import.meta.url), 'utf8')) as { cases: Record<string, KnownCase> };
 
 async function readAll(path: string): Promise<{ info: SourceInfo; rows: Entry[] }> {
   const s = path.endsWith('.stream') ? new ArrowStreamSource(path) : new ArrowFileSource(path);
@@ -29,23 +33,6 @@ async function readAll(path: string): Promise<{ info: SourceInfo; rows: Entry[] 
   }
 }
 
-/** Compares one primitive value with its integration-JSON form; null when the type is not compared. */
-function sameValue(field: JField, ours: unknown, theirs: unknown): boolean | null {
-  const t = field.type.name;
-  if (field.dictionary) return null;
-  if (t === 'int') return String(ours) === String(theirs);
-  if (t === 'bool') return ours === theirs;
-  if (t === 'utf8' || t === 'largeutf8') return ours === theirs;
-  if (t === 'floatingpoint') {
-    const a = Number(ours);
-    const b = Number(theirs);
-    if (field.type.precision === 'DOUBLE') return Math.abs(a - b) <= 1e-9 * Math.max(1, Math.abs(b));
-    // Integration JSON prints float32/float16 values rounded; compare at a relative 1e-3.
-    return Math.abs(a - b) <= 1e-3 * Math.max(1, Math.abs(b));
-  }
-  return null;
-}
-
 /** Returns a problem description, or null when the source's rows equal the gold JSON. */
 async function compare(path: string, doc: JDoc): Promise<string | null> {
   const { info, rows } = await readAll(path);
@@ -56,59 +43,62 @@ async function compare(path: string, doc: JDoc): Promise<string | null> {
   if (JSON.stringify(names) !== JSON.stringify(expectNames)) return `field names ${names} != ${expectNames}`;
   const counts = (info.groups ?? []).map((g) => g.rows);
   if (JSON.stringify(counts) !== JSON.stringify(doc.batches.map((b) => b.count))) return `batch rows ${counts}`;
+  const total = doc.batches.reduce((n, b) => n + b.count, 0);
+  if (rows.length !== total) return `${rows.length} rows, the gold file has ${total}`;
+  if (new Set(expectNames).size !== expectNames.length) return `columns share a name (${expectNames.join(', ')}); a row as a JSON object cannot hold them all`;
+  const dicts = goldDictionaries(doc);
   let row = 0;
   for (const batch of doc.batches) {
+    const checks = batch.columns.map((col, c) => expecter(doc.schema.fields[c], col, dicts));
     for (let r = 0; r < batch.count; r++, row++) {
       const value = rows[row].value as Record<string, unknown>;
-      batch.columns.forEach((col, c) => {
-        const field = doc.schema.fields[c];
-        const valid = col.VALIDITY ? col.VALIDITY[r] === 1 : true;
-        const ours = Object.values(value)[c];
-        if (!valid) {
-          if (ours !== null) throw new Error(`${field.name} row ${row}: expected null, got ${JSON.stringify(ours)}`);
-          return;
-        }
-        if (!col.DATA) return;
-        const same = sameValue(field, ours, col.DATA[r]);
-        if (same === false) throw new Error(`${field.name} row ${row}: expected ${JSON.stringify(col.DATA[r])}, got ${JSON.stringify(ours)}`);
-      });
+      if (Object.keys(value).join('\u0000') !== expectNames.join('\u0000')) return `row ${row} has members ${Object.keys(value)}`;
+      doc.schema.fields.forEach((field, c) => checks[c](value[field.name], r, `row ${row} /${field.name}`));
     }
   }
   return null;
 }
 
+async function problemOf(path: string, gold: string): Promise<string | null> {
+  const doc = parseGold(gunzipSync(readFileSync(gold)).toString('utf8'));
+  try {
+    return await compare(path, doc);
+  } catch (e) {
+    return (e as Error).message || String(e);
+  }
+}
+
 const root = requireTestdata('arrow/ipc-stream/integration');
 const versions = readdirSync(root).filter((v) => statSync(join(root, v)).isDirectory() && !v.includes('bigendian'));
+const cases = versions.flatMap((v) =>
+  readdirSync(join(root, v))
+    .filter((n) => n.endsWith('.json.gz'))
+    .flatMap((f) => ['arrow_file', 'stream'].map((ext) => ({ v, base: f.slice(0, -'.json.gz'.length), ext }))),
+);
 
 describe('Arrow integration gold files (arrow-testing, little-endian folders)', () => {
-  const failing: string[] = [];
-  for (const v of versions) {
-    for (const f of readdirSync(join(root, v)).filter((n) => n.endsWith('.json.gz'))) {
-      const base = f.slice(0, -'.json.gz'.length);
-      for (const ext of ['arrow_file', 'stream']) {
-        const id = `${v}/${base}.${ext}`;
-        it(id, async () => {
-          const doc = JSON.parse(gunzipSync(readFileSync(join(root, v, f))).toString('utf8')) as JDoc;
-          let problem: string | null;
-          try {
-            problem = await compare(join(root, v, `${base}.${ext}`), doc);
-          } catch (e) {
-            problem = (e as Error).message;
-          }
-          if (problem) failing.push(id);
-          if (known.cases.includes(id)) {
-            // A listed case must at least fail with a message, never silently differ.
-            if (problem) expect(problem.length).toBeGreaterThan(0);
-          } else {
-            expect(problem).toBeNull();
-          }
-        });
+  for (const { v, base, ext } of cases) {
+    const id = `${v}/${base}.${ext}`;
+    it(id, async () => {
+      const problem = await problemOf(join(root, v, `${base}.${ext}`), join(root, v, `${base}.json.gz`));
+      const listed = known.cases[id];
+      if (!listed) {
+        expect(problem).toBeNull();
+        return;
       }
-    }
+      // A listed case checks itself: it still fails, with a message, and in the way the list says.
+      expect(problem, `${id} now equals its gold file: remove it from arrow.known-failures.json`).not.toBeNull();
+      expect(problem!.length).toBeGreaterThan(0);
+      expect(problem, `${id} fails otherwise than arrow.known-failures.json says`).toContain(listed.fails);
+    });
   }
-  it('the known-failures list only names cases that still fail (it may only shrink)', () => {
-    const fixed = known.cases.filter((c) => !failing.includes(c));
-    expect(fixed, 'these now pass: remove them from arrow.known-failures.json').toEqual([]);
+  it('the known-failures list names only cases that exist, each with a reason', () => {
+    const ids = new Set(cases.map(({ v, base, ext }) => `${v}/${base}.${ext}`));
+    expect(Object.keys(known.cases).filter((c) => !ids.has(c)), 'no such case').toEqual([]);
+    for (const [id, c] of Object.entries(known.cases)) {
+      expect(c.why.length, `${id}: why`).toBeGreaterThan(10);
+      expect(c.fails.length, `${id}: fails`).toBeGreaterThan(0);
+    }
   });
 });
 
