@@ -2,11 +2,10 @@
 // reads (known by their bytes), glob patterns, and folders a Python dataset library wrote with
 // `save_to_disk` (checked as one data set, each split named).
 
-import { closeSync, existsSync, openSync, readFileSync, readSync, readdirSync, statSync } from 'node:fs';
+import { existsSync, readFileSync, readdirSync, statSync } from 'node:fs';
 import { basename, join, relative, resolve, sep } from 'node:path';
-import { constants as zlibConstants, gunzipSync } from 'node:zlib';
 import { globToRegExp } from '../engine/globs.js';
-import { sniffFormat } from '../engine/sources/index.js';
+import { isShardFile } from '../engine/sources/index.js';
 
 export class InputError extends Error {
   constructor(message: string) {
@@ -103,47 +102,7 @@ function listFolder(dir: string, strict: boolean): { name: string; path: string;
 export function isDataFile(path: string): boolean {
   const name = basename(path);
   if (METADATA_NAMES.has(name) || name.endsWith('.schema.json')) return false;
-  try {
-    const { format, compression } = sniffFormat(path);
-    if (format === 'jsonl' && compression !== 'zstd' && isOneJsonDocument(path, compression === 'gzip')) return false;
-    return true;
-  } catch {
-    return false;
-  }
-}
-
-/**
- * A pretty-printed JSON object (a schema, a manifest, a settings file) reads as JSON Lines of broken
- * lines; a folder walk leaves it out: its first line opens an object that the line does not close.
- */
-function isOneJsonDocument(path: string, gzip: boolean): boolean {
-  const fd = openSync(path, 'r');
-  try {
-    const buf = Buffer.alloc(65536);
-    const n = readSync(fd, buf, 0, buf.length, 0);
-    let bytes = buf.subarray(0, n);
-    if (gzip) {
-      try {
-        // The start of the stream is enough: a partial inflate with a sync flush.
-        bytes = gunzipSync(bytes, { finishFlush: zlibConstants.Z_SYNC_FLUSH }).subarray(0, 65536);
-      } catch {
-        return false;
-      }
-    }
-    const head = bytes.toString('utf8').replace(/^\uFEFF/, '');
-    const first = head.trimStart();
-    if (!first.startsWith('{')) return false;
-    const nl = first.indexOf('\n');
-    if (nl === -1) return false;
-    try {
-      JSON.parse(first.slice(0, nl));
-      return false;
-    } catch {
-      return true;
-    }
-  } finally {
-    closeSync(fd);
-  }
+  return isShardFile(path);
 }
 
 /**

@@ -2,12 +2,72 @@
 // parsed here (RFC 1952) so a bad CRC or length in a trailer still keeps every byte that inflated,
 // as `gzip -dc` does; zstd frames are walked here (RFC 8878 §3.1.1) so each frame's content
 // checksum (XXH64, low 32 bits) is verified, which fzstd skips. Both stop at a cap on the ratio of
-// inflated to compressed bytes, so a bomb cannot fill memory or disk.
+// inflated to compressed bytes, so a bomb cannot fill memory or disk. Which compression a file has
+// is decided here from its first bytes, for any text source.
 
 import { open } from 'node:fs/promises';
-import { createInflateRaw, crc32 } from 'node:zlib';
+import { constants as zlib, createInflateRaw, crc32, gunzipSync } from 'node:zlib';
 import { Decompress } from 'fzstd';
 import { Xxh64 } from '../text/xxh64.js';
+
+/** How a text shard's bytes are wrapped. */
+export type Compression = 'none' | 'gzip' | 'zstd';
+
+/** The compressions, keyed by what their bytes start with (RFC 1952: 1f 8b; RFC 8878: 28 b5 2f fd) and, as a hint only, by name. */
+const CODECS: readonly { compression: Exclude<Compression, 'none'>; magic: readonly number[]; endings: readonly string[] }[] = [
+  { compression: 'gzip', magic: [0x1f, 0x8b], endings: ['.gz'] },
+  { compression: 'zstd', magic: [0x28, 0xb5, 0x2f, 0xfd], endings: ['.zst'] },
+];
+
+/** What a file's name suggests; only a hint, the bytes decide (`compressionOfBytes`). */
+export function compressionOf(path: string): Compression {
+  const lower = path.toLowerCase();
+  return CODECS.find((c) => c.endings.some((e) => lower.endsWith(e)))?.compression ?? 'none';
+}
+
+/** The compression the first bytes of a file show, or null for bytes no compression starts with. */
+export function compressionOfBytes(head: Uint8Array): Exclude<Compression, 'none'> | null {
+  return CODECS.find((c) => c.magic.every((b, k) => head[k] === b))?.compression ?? null;
+}
+
+/**
+ * The first `want` bytes of decompressed data from the start of a compressed file, read through
+ * `read(offset, length)`; a corrupt or cut-short stream gives what decoded before the damage.
+ * Input grows in steps (up to `maxInput` bytes) so no step can expand past a few MiB.
+ */
+export function decompressHead(
+  read: (offset: number, length: number) => Uint8Array,
+  size: number,
+  compression: Exclude<Compression, 'none'>,
+  want: number,
+  maxInput: number,
+): { data: Uint8Array; whole: boolean } {
+  let out: Uint8Array = new Uint8Array(0);
+  for (let input = 1024; ; input *= 4) {
+    const chunk = read(0, input);
+    const all = chunk.length >= size;
+    let got: Uint8Array | null = null;
+    try {
+      got = compression === 'gzip' ? gunzipSync(chunk, { finishFlush: zlib.Z_SYNC_FLUSH, maxOutputLength: 16 * want }) : unzstdHead(chunk, 16 * want);
+    } catch {
+      // Corrupt past this point (or more than the cap): keep the previous step's output.
+    }
+    if (got) out = got;
+    if (!got || out.length >= want || all || input >= maxInput) return { data: out.subarray(0, want), whole: all && got !== null && out.length <= want };
+  }
+}
+
+function unzstdHead(input: Uint8Array, cap: number): Uint8Array {
+  const parts: Uint8Array[] = [];
+  let n = 0;
+  const d = new Decompress((data) => {
+    parts.push(data.slice());
+    n += data.length;
+  });
+  // Small pushes, each checked: one push of RLE blocks could otherwise expand to gigabytes.
+  for (let o = 0; o < input.length && n < cap; o += 2048) d.push(input.subarray(o, Math.min(input.length, o + 2048)));
+  return Buffer.concat(parts);
+}
 
 /** A decompressed size beyond this many times the compressed bytes read so far is refused. */
 export const DEFAULT_MAX_INFLATE_RATIO = 200;
@@ -39,7 +99,7 @@ export interface DecompressOptions {
 }
 
 /** Chunks of the decompressed stream. Throws DecompressError after yielding all that decoded. */
-export async function* decompress(path: string, compression: 'gzip' | 'zstd', opts: DecompressOptions = {}): AsyncGenerator<Uint8Array> {
+export async function* decompress(path: string, compression: Exclude<Compression, 'none'>, opts: DecompressOptions = {}): AsyncGenerator<Uint8Array> {
   const ratio = opts.maxInflateRatio ?? DEFAULT_MAX_INFLATE_RATIO;
   let input = 0;
   let output = 0;

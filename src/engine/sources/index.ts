@@ -1,79 +1,18 @@
 // Dispatch on format once, at the edge: a file's bytes pick its source here and nowhere else; its
-// name is only a hint (see sniff.ts).
+// name is only a hint (see sniff.ts). The formats themselves are listed in formats.ts.
 
-import type { FormatName, RecordSource } from './source.js';
-import { JsonlSource, compressionOf, type Compression } from './jsonl.js';
+import { compressionOf, type Compression } from './decompress.js';
+import type { FormatEntry, OpenOptions } from './format.js';
+import { FORMATS } from './formats.js';
 import { sniff } from './sniff.js';
-import { ParquetSource } from './parquet.js';
-import { ArrowFileSource } from './arrowFile.js';
-import { ArrowStreamSource } from './arrowStream.js';
+import type { FormatName, RecordSource } from './source.js';
 import type { FormatTraits } from './traits.js';
-import { JsonArraySource } from './jsonArray.js';
 
-export interface OpenOptions {
-  /** Lines longer than this are findings and are not parsed. */
-  maxLineBytes?: number;
-  /**
-   * A read in a worker that makes no progress (no record, no byte) for this many seconds is
-   * stopped, with a `read-stalled` finding (default DEFAULT_STALL_SECONDS; 0 turns the watchdog off).
-   */
-  stallSeconds?: number;
-  /** The memory cap per reader: a page, row group or batch declaring more is refused with a finding. */
-  maxReaderBytes?: number;
-}
+export { FORMATS } from './formats.js';
+export type { FormatEntry, OpenOptions } from './format.js';
 
 /** How long a read may make no progress before its worker is stopped. */
 export const DEFAULT_STALL_SECONDS = 10;
-
-export interface FormatEntry {
-  readonly format: FormatName;
-  /** What people call it, for messages. */
-  readonly title: string;
-  /** Lower-case file-name endings the format usually has (the editor claims these; the bytes decide). */
-  readonly endings: readonly string[];
-  /** What the code outside sources/ asks instead of the format's name. */
-  readonly traits: FormatTraits;
-  create(path: string, opts: OpenOptions, compression: Compression): RecordSource;
-}
-
-/** The one list of formats and their usual endings; package.json's editor selectors and menu follow it (a unit test checks). */
-export const FORMATS: readonly FormatEntry[] = [
-  {
-    format: 'jsonl',
-    title: 'JSON Lines',
-    traits: { textual: true, oneLinePerEntry: true, entries: 'lines', group: null, wasmMemory: false },
-    endings: ['.jsonl', '.ndjson', '.jsonl.gz', '.ndjson.gz', '.jsonl.zst', '.ndjson.zst'],
-    create: (p, o, compression) => new JsonlSource(p, { ...o, compression }),
-  },
-  {
-    format: 'json-array',
-    title: 'a JSON array',
-    traits: { textual: true, oneLinePerEntry: false, entries: 'lines', group: null, wasmMemory: false },
-    endings: ['.json', '.json.gz', '.json.zst'],
-    create: (p, o, compression) => new JsonArraySource(p, { maxElementBytes: o.maxLineBytes, compression }),
-  },
-  {
-    format: 'parquet',
-    title: 'Parquet',
-    endings: ['.parquet'],
-    traits: { textual: false, oneLinePerEntry: false, entries: 'rows', group: { one: 'row group', many: 'row groups' }, wasmMemory: true },
-    create: (p, o) => new ParquetSource(p, { maxDecodedBytes: o.maxReaderBytes }),
-  },
-  {
-    format: 'arrow-file',
-    title: 'an Arrow IPC file',
-    endings: ['.arrow', '.feather'],
-    traits: { textual: false, oneLinePerEntry: false, entries: 'rows', group: { one: 'batch', many: 'batches' }, wasmMemory: false },
-    create: (p, o) => new ArrowFileSource(p, { maxBatchBytes: o.maxReaderBytes }),
-  },
-  {
-    format: 'arrow-stream',
-    title: 'an Arrow IPC stream',
-    endings: ['.arrows', '.stream'],
-    traits: { textual: false, oneLinePerEntry: false, entries: 'rows', group: { one: 'batch', many: 'batches' }, wasmMemory: false },
-    create: (p, o) => new ArrowStreamSource(p, { maxBatchBytes: o.maxReaderBytes }),
-  },
-];
 
 const BY_FORMAT = new Map(FORMATS.map((f) => [f.format, f]));
 
@@ -120,8 +59,21 @@ export function sniffFormat(path: string): { format: FormatName; compression: Co
 
 export function createSource(path: string, opts: OpenOptions = {}): RecordSource {
   const { format, compression } = sniffFormat(path);
-  const entry = FORMATS.find((f) => f.format === format)!;
-  return entry.create(path, opts, compression);
+  return BY_FORMAT.get(format)!.create(path, opts, compression);
+}
+
+/**
+ * Whether a file found in a folder is a shard: one of the formats reads its bytes, and the format
+ * does not take it for a document of another kind (a pretty-printed JSON settings file). False
+ * for a file that cannot be read.
+ */
+export function isShardFile(path: string): boolean {
+  try {
+    const { format, compression } = sniffFormat(path);
+    return !BY_FORMAT.get(format)!.notAShard?.(path, compression);
+  } catch {
+    return false;
+  }
 }
 
 export class UnsupportedFileError extends Error {

@@ -1,15 +1,13 @@
-// Which reader a file needs, from its first and last bytes; the name is only a hint. Magic numbers
-// from the formats' specifications: Parquet (`PAR1`; `PARE` for an encrypted footer), Arrow IPC
-// file (`ARROW1`, 6 bytes + 2 of padding) and stream (continuation marker 0xFFFFFFFF and a
-// metadata length; before Arrow 0.15 a bare little-endian length, then the flatbuffer message),
-// gzip (RFC 1952: 1f 8b), zstd (RFC 8878: 28 b5 2f fd). Only a bounded head is ever read.
+// Which reader a file needs, from its first and last bytes; the name is only a hint. Each binary
+// format declares its signs (format.ts) and the JSON text formats the shape of text they read; this
+// module asks them in FORMATS' order, and decides JSON Lines against one JSON array itself.
+// Compression (gzip, zstd) is recognised by decompress.ts from the first bytes. Only a bounded head
+// is ever read.
 
 import { closeSync, fstatSync, openSync, readSync } from 'node:fs';
-import { constants as zlib, gunzipSync } from 'node:zlib';
-import { Decompress } from 'fzstd';
-import { MESSAGE_SCHEMA, NEWEST_METADATA_VERSION, parseMessage } from './columnar/ipc.js';
-import { FbTable } from './columnar/flatbuf.js';
-import type { Compression } from './jsonl.js';
+import { compressionOfBytes, decompressHead, type Compression } from './decompress.js';
+import { bytesAt as startsWith, type FormatEntry, type Probe } from './format.js';
+import { FORMATS } from './formats.js';
 import type { FormatName } from './source.js';
 
 export type Sniffed = { format: FormatName; compression: Compression } | { format: null; what: string };
@@ -40,13 +38,6 @@ const KNOWN_OTHERS: { at?: number; bytes: number[] | string; what: string }[] = 
   { bytes: [0xfe, 0xff], what: 'UTF-16 text; JSON shards are UTF-8' },
   { at: 257, bytes: 'ustar', what: 'a tar archive' },
 ];
-
-function startsWith(buf: Uint8Array, magic: number[] | string, at = 0): boolean {
-  const m = typeof magic === 'string' ? [...magic].map((c) => c.charCodeAt(0)) : magic;
-  if (buf.length < at + m.length) return false;
-  for (let k = 0; k < m.length; k++) if (buf[at + k] !== m[k]) return false;
-  return true;
-}
 
 function hex(buf: Uint8Array, n = 8): string {
   return [...buf.subarray(0, n)].map((b) => b.toString(16).padStart(2, '0')).join(' ');
@@ -108,19 +99,19 @@ function textStart(head: Uint8Array): number {
  * pretty-printed array's first line is never whole, and a one-line array has no second value.
  * 'unsure' when the first line runs past a head that is not the whole text.
  */
-export function arrayOrLines(head: Uint8Array, start: number, whole: boolean): 'jsonl' | 'json-array' | 'unsure' {
+export function arrayOrLines(head: Uint8Array, start: number, whole: boolean): 'lines' | 'array' | 'unsure' {
   const nl = head.indexOf(0x0a, start);
-  if (nl === -1) return whole ? 'json-array' : 'unsure';
+  if (nl === -1) return whole ? 'array' : 'unsure';
   const decode = (a: number, b?: number) => new TextDecoder('utf-8', { fatal: false }).decode(head.subarray(a, b));
   try {
     JSON.parse(decode(start, nl));
   } catch {
-    return 'json-array';
+    return 'array';
   }
   let k = nl + 1;
   while (k < head.length && WS.has(head[k])) k++;
-  if (k >= head.length) return whole ? 'json-array' : 'unsure';
-  return VALUE_START.test(decode(k, k + 1)) ? 'jsonl' : 'json-array';
+  if (k >= head.length) return whole ? 'array' : 'unsure';
+  return VALUE_START.test(decode(k, k + 1)) ? 'lines' : 'array';
 }
 
 /** True when the first line (after a byte order mark) is one whole JSON value. */
@@ -135,96 +126,39 @@ function firstLineIsJson(head: Uint8Array, start: number): boolean {
   }
 }
 
-/** A stream written before Arrow 0.15: a bare metadata length, then a Schema message. */
-function isLegacyArrowStream(head: Uint8Array, size: number): boolean {
-  if (head.length < 8) return false;
-  const dv = new DataView(head.buffer, head.byteOffset, head.byteLength);
-  const len = dv.getInt32(0, true);
-  if (len < 8 || 4 + len > Math.min(size, head.length)) return false;
-  try {
-    const h = parseMessage(head.subarray(4, 4 + len), 0, 4 + len);
-    return h.type === MESSAGE_SCHEMA && h.version >= 0 && h.version <= NEWEST_METADATA_VERSION;
-  } catch {
-    return false;
-  }
+/** The JSON text format that reads text of this shape. */
+function ofShape(shape: 'lines' | 'array'): FormatEntry {
+  const f = FORMATS.find((x) => x.jsonText === shape);
+  if (!f) throw new Error(`no format reads JSON text as ${shape}`);
+  return f;
 }
 
-/**
- * A damaged stream with the same framing: a length that fits the file, then a flatbuffer whose root
- * table and vtable lie inside it. Text never starts so (it holds no NUL bytes); the stream reader
- * then names what is wrong with the message, instead of a refusal of unknown bytes.
- */
-function isDamagedArrowStream(head: Uint8Array, size: number): boolean {
-  if (head.length < 8) return false;
-  const dv = new DataView(head.buffer, head.byteOffset, head.byteLength);
-  const len = dv.getInt32(0, true);
-  if (len < 8 || 4 + len > Math.min(size, head.length)) return false;
-  try {
-    FbTable.root(head.subarray(4, 4 + len));
-    return true;
-  } catch {
-    return false;
-  }
-}
-
-/**
- * The first `want` bytes of decompressed data from the start of a compressed stream; a corrupt or
- * cut-short stream gives what decoded before the damage. Input grows in steps so no step can
- * expand past a few MiB.
- */
-function decompressHead(ends: Ends, compression: 'gzip' | 'zstd', want: number): { data: Buffer; whole: boolean } {
-  let out: Buffer = Buffer.alloc(0);
-  for (let input = 1024; ; input *= 4) {
-    const chunk = ends.read(0, input);
-    const all = chunk.length >= ends.size;
-    let got: Buffer | null = null;
-    try {
-      got = compression === 'gzip' ? gunzipSync(chunk, { finishFlush: zlib.Z_SYNC_FLUSH, maxOutputLength: 16 * want }) : unzstdHead(chunk, 16 * want);
-    } catch {
-      // Corrupt past this point (or more than the cap): keep the previous step's output.
-    }
-    if (got) out = got;
-    if (!got || out.length >= want || all || input >= TEXT_HEAD_MAX) return { data: out.subarray(0, want), whole: all && got !== null && out.length <= want };
-  }
-}
-
-function unzstdHead(input: Uint8Array, cap: number): Buffer {
-  const parts: Uint8Array[] = [];
-  let n = 0;
-  const d = new Decompress((data) => {
-    parts.push(data.slice());
-    n += data.length;
-  });
-  // Small pushes, each checked: one push of RLE blocks could otherwise expand to gigabytes.
-  for (let o = 0; o < input.length && n < cap; o += 2048) d.push(input.subarray(o, Math.min(input.length, o + 2048)));
-  return Buffer.concat(parts);
+/** The name's format when it is a JSON text format, else null. */
+function textHint(hint: NameHint): FormatEntry | null {
+  return FORMATS.find((f) => f.jsonText !== undefined && f.format === hint?.format) ?? null;
 }
 
 /** JSON Lines or a JSON array from the start of the (decompressed) text; null when it is not JSON text. */
-function textFormat(head: Uint8Array, whole: boolean, hint: NameHint, more: () => { head: Uint8Array; whole: boolean }): FormatName | null {
+function textFormat(head: Uint8Array, whole: boolean, hint: NameHint, more: () => { head: Uint8Array; whole: boolean }): FormatEntry | null {
   let start = textStart(head);
   // Only white space (or a byte order mark): the name decides; JSON Lines holds blank lines.
-  if (start === -1) return textFormatOfHint(hint) ?? 'jsonl';
-  if (head[start] === 0x7b) return 'jsonl';
+  if (start === -1) return textHint(hint) ?? ofShape('lines');
+  if (head[start] === 0x7b) return ofShape('lines');
   if (head[start] === 0x5b) {
-    let kind = arrayOrLines(head, start, whole);
-    if (kind === 'unsure') {
+    let shape = arrayOrLines(head, start, whole);
+    if (shape === 'unsure') {
       const bigger = more();
       start = textStart(bigger.head);
-      kind = arrayOrLines(bigger.head, start, bigger.whole);
+      shape = arrayOrLines(bigger.head, start, bigger.whole);
     }
     // A first line longer than the largest head read is far likelier one array than one line of many.
-    return kind === 'unsure' ? 'json-array' : kind;
+    return ofShape(shape === 'unsure' ? 'array' : shape);
   }
   // Other JSON values, one a line ("text", 12, null): records or not, the checks say so.
-  if (firstLineIsJson(head, start)) return 'jsonl';
+  if (firstLineIsJson(head, start)) return ofShape('lines');
   // A shard whose first line is broken still opens under a text name: the reader reports the line.
-  if (textFormatOfHint(hint) && isText(head.subarray(0, 4096))) return textFormatOfHint(hint);
+  if (textHint(hint) && isText(head.subarray(0, 4096))) return textHint(hint);
   return null;
-}
-
-function textFormatOfHint(hint: NameHint): 'jsonl' | 'json-array' | null {
-  return hint?.format === 'jsonl' || hint?.format === 'json-array' ? hint.format : null;
 }
 
 /** No NUL byte and valid UTF-8 (a sequence cut by the end of the sample allowed). */
@@ -265,35 +199,37 @@ export function sniff(path: string, hint: NameHint = null): Sniffed {
 function sniffOpen(ends: Ends, hint: NameHint): Sniffed {
   const { head, tail, size } = ends;
   // Nothing to go by: the name decides, and an empty shard without one holds no lines.
-  if (size === 0) return hint ?? { format: 'jsonl', compression: 'none' };
-  // Parquet: magic at both ends; an encrypted footer ends with "PARE" (so does its start).
-  if (startsWith(head, 'PAR1') || startsWith(head, 'PARE')) return { format: 'parquet', compression: 'none' };
-  if (startsWith(head, 'ARROW1')) return { format: 'arrow-file', compression: 'none' };
-  if (startsWith(head, [0xff, 0xff, 0xff, 0xff])) return { format: 'arrow-stream', compression: 'none' };
-  const compression: Compression | null = startsWith(head, [0x1f, 0x8b]) ? 'gzip' : startsWith(head, [0x28, 0xb5, 0x2f, 0xfd]) ? 'zstd' : null;
+  if (size === 0) return hint ?? { format: ofShape('lines').format, compression: 'none' };
+  const probe: Probe = { size, head, tail, looksText: isText(head.subarray(0, 4096)), knownOther: guess(head) !== '' };
+  const signed = (round: 'start' | 'damagedStart' | 'intactEnd'): Sniffed | null => {
+    const f = FORMATS.find((x) => x.signs?.[round]?.(probe));
+    return f ? { format: f.format, compression: 'none' } : null;
+  };
+  const byStart = signed('start');
+  if (byStart) return byStart;
+  const compression = compressionOfBytes(head);
   if (compression) {
-    const inner = decompressHead(ends, compression, HEAD_BYTES);
+    const read = (offset: number, length: number) => ends.read(offset, length);
+    const inner = decompressHead(read, size, compression, HEAD_BYTES, TEXT_HEAD_MAX);
     // Nothing decodes: the text reader reports the corrupt stream, keeping whatever came before.
-    if (inner.data.length === 0 && !inner.whole) return { format: textFormatOfHint(hint) ?? 'jsonl', compression };
+    if (inner.data.length === 0 && !inner.whole) return { format: (textHint(hint) ?? ofShape('lines')).format, compression };
     const format = textFormat(inner.data, inner.whole, hint, () => {
-      const r = decompressHead(ends, compression, TEXT_HEAD_MAX);
+      const r = decompressHead(read, size, compression, TEXT_HEAD_MAX, TEXT_HEAD_MAX);
       return { head: r.data, whole: r.whole };
     });
-    if (format) return { format, compression };
+    if (format) return { format: format.format, compression };
     return { format: null, what: `${compression}-compressed data that is not JSON text: it starts with bytes ${hex(inner.data)}${guess(inner.data)}` };
   }
-  if (isLegacyArrowStream(head, size)) return { format: 'arrow-stream', compression: 'none' };
-  if (!guess(head) && !isText(head.subarray(0, 4096)) && isDamagedArrowStream(head, size)) return { format: 'arrow-stream', compression: 'none' };
+  const damaged = signed('damagedStart');
+  if (damaged) return damaged;
   const format = textFormat(head, head.length >= size, hint, () => {
     const h = ends.grow(TEXT_HEAD_MAX);
     return { head: h, whole: h.length >= size };
   });
-  if (format) return { format, compression: 'none' };
-  // A damaged start with an intact end: the columnar reader names what is wrong with the start.
-  const tail4 = tail.subarray(Math.max(0, tail.length - 4));
-  if (size >= 12 && (startsWith(tail4, 'PAR1') || startsWith(tail4, 'PARE'))) return { format: 'parquet', compression: 'none' };
-  if (size >= 12 && startsWith(tail, 'ARROW1', tail.length - 6)) return { format: 'arrow-file', compression: 'none' };
-  const looksText = isText(head.subarray(0, 4096)) && !guess(head);
+  if (format) return { format: format.format, compression: 'none' };
+  const end = signed('intactEnd');
+  if (end) return end;
+  const looksText = probe.looksText && !probe.knownOther;
   return {
     format: null,
     what: looksText ? `text that is not JSON: it starts with ${quote(head)}` : `it starts with bytes ${hex(head)}${guess(head)}`,

@@ -3,7 +3,8 @@
 
 import type { Finding } from '../findings.js';
 
-export type FormatName = 'jsonl' | 'json-array' | 'parquet' | 'arrow-file' | 'arrow-stream';
+/** A format's name, as its line of FORMATS (formats.ts) gives it: `jsonl`, `parquet`, … An open set. */
+export type FormatName = string;
 
 /**
  * One place in the source, in file order: a line of a JSONL file, an element of a JSON array,
