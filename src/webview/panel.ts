@@ -4,7 +4,8 @@
 
 import type { Severity } from '../protocol.js';
 import { isMessage, type FindingView, type HostToPanel, type PanelToHost, type ShardSummary } from '../protocol.js';
-import { connect, formatBytes, formatCount, h, icon, iconButton, isSeverity, severityIcon, str, t } from './common.js';
+import { connect, formatBytes, formatCount, h, icon, isSeverity, severityIcon, str, t } from './common.js';
+import { findingSeverity, renderGroupedFindings } from './findingsList.js';
 
 /** Findings rendered at once; the rest wait behind a "show more" button. */
 const RENDER_BATCH = 500;
@@ -17,10 +18,6 @@ interface PanelState {
   /** Rule groups the person opened or closed (others follow the default: open unless large). */
   toggled?: Record<string, boolean>;
 }
-
-/** A rule group with more findings than this starts closed: its count says enough until opened. */
-const OPEN_UP_TO = 20;
-const SEVERITY_RANK: Record<Severity, number> = { error: 0, warning: 1, info: 2 };
 
 const vscode = connect<PanelToHost>();
 const saved = (vscode.getState() ?? {}) as Partial<PanelState>;
@@ -236,42 +233,22 @@ function renderFindings(): void {
     b.setAttribute('aria-pressed', String(on));
   }
   const needle = filterText.trim().toLowerCase();
-  const shown = findings.filter((f) => !hidden.has(isSeverity(f.severity) ? f.severity : 'info') && matches(f, needle));
+  const shown = findings.filter((f) => !hidden.has(findingSeverity(f)) && matches(f, needle));
   const focusedId = (document.activeElement as HTMLElement | null)?.closest?.('.sw-finding')?.getAttribute('data-id');
 
-  listEl.replaceChildren();
-  const frag = document.createDocumentFragment();
   // Grouped by rule, most severe first, then the largest; each group collapsible with its count.
-  const groups = new Map<string, FindingView[]>();
-  for (const f of shown) {
-    const g = groups.get(str(f.rule));
-    if (g) g.push(f);
-    else groups.set(str(f.rule), [f]);
-  }
-  const worst = (g: FindingView[]) => Math.min(...g.map((f) => SEVERITY_RANK[isSeverity(f.severity) ? f.severity : 'info']));
-  const byRule = (summary?.findingsByRule ?? {}) as Record<string, number>;
-  const ordered = [...groups.entries()].sort((a, b) => worst(a[1]) - worst(b[1]) || (byRule[b[0]] ?? b[1].length) - (byRule[a[0]] ?? a[1].length) || (a[0] < b[0] ? -1 : 1));
-  let budget = renderLimit;
-  let first = true;
-  for (const [rule, list] of ordered) {
-    const total = Math.max(list.length, Number(byRule[rule]) || 0);
-    const open = toggled.get(rule) ?? list.length <= OPEN_UP_TO;
-    frag.append(groupHead(rule, list, total, open));
-    if (!open) continue;
-    const body = h('div', 'sw-group-body');
-    body.setAttribute('role', 'group');
-    body.setAttribute('aria-label', rule);
-    for (const f of list.slice(0, Math.max(0, budget))) {
-      const item = findingItem(f);
-      // A roving tab index: one stop for the whole list, arrows move within it.
-      item.tabIndex = first ? 0 : -1;
-      first = false;
-      body.append(item);
-    }
-    budget -= list.length;
-    frag.append(body);
-  }
-  listEl.append(frag);
+  const budget = renderGroupedFindings(listEl, shown, {
+    totals: (summary?.findingsByRule ?? {}) as Record<string, number>,
+    toggled,
+    limit: renderLimit,
+    toggle: (rule, open) => {
+      toggled.set(rule, open);
+      saveState();
+      renderFindings();
+    },
+    activate: (f) => vscode.postMessage({ type: 'reveal', id: f.id }),
+    openText: (f) => vscode.postMessage({ type: 'openText', id: f.id }),
+  });
   if (!shown.length) {
     const none = h('div', 'sw-muted sw-no-findings');
     if (findings.length) none.append(icon('filter'), h('span', '', t('No finding matches the filter.')));
@@ -289,83 +266,6 @@ function renderFindings(): void {
   capNote.hidden = notes.length === 0;
 
   if (focusedId) (listEl.querySelector(`.sw-finding[data-id="${Number(focusedId)}"]`) as HTMLElement | null)?.focus();
-}
-
-/** Moves the tab stop to the next or previous finding or rule heading of the list. */
-function stepFocus(from: HTMLElement, direction: 1 | -1): void {
-  const all = [...listEl.querySelectorAll<HTMLElement>('.sw-finding, .sw-group-head')];
-  const to = all[all.indexOf(from) + direction];
-  if (to) moveFocus(to);
-}
-
-/** Moves the list's one tab stop to `el` and focuses it. */
-function moveFocus(el: HTMLElement): void {
-  for (const x of listEl.querySelectorAll<HTMLElement>('[tabindex="0"]')) x.tabIndex = -1;
-  el.tabIndex = 0;
-  el.focus();
-}
-
-function groupHead(rule: string, list: FindingView[], total: number, open: boolean): HTMLElement {
-  const sev: Severity = list.reduce<Severity>((w, f) => (isSeverity(f.severity) && SEVERITY_RANK[f.severity] < SEVERITY_RANK[w] ? f.severity : w), 'info');
-  const head = h('button', 'sw-group-head');
-  head.type = 'button';
-  head.tabIndex = -1;
-  head.dataset.rule = rule;
-  head.setAttribute('aria-expanded', String(open));
-  head.append(icon(open ? 'chevron-down' : 'chevron-right', 'sw-group-chevron'), severityIcon(sev), h('span', 'sw-rule', rule), h('span', 'sw-group-count', formatCount(total)));
-  head.title = t(total === 1 ? '{0} finding of {1}' : '{0} findings of {1}', formatCount(total), rule) + (list.length < total ? t(' ({0} listed)', formatCount(list.length)) : '');
-  const toggle = () => {
-    toggled.set(rule, !open);
-    saveState();
-    renderFindings();
-    (listEl.querySelector(`.sw-group-head[data-rule="${CSS.escape(rule)}"]`) as HTMLElement | null)?.focus();
-  };
-  head.addEventListener('click', toggle);
-  head.addEventListener('keydown', (ev) => {
-    if (ev.key === 'ArrowRight' && !open) toggle();
-    else if (ev.key === 'ArrowLeft' && open) toggle();
-    else if (ev.key === 'ArrowDown' || ev.key === 'ArrowUp') {
-      ev.preventDefault();
-      stepFocus(head, ev.key === 'ArrowDown' ? 1 : -1);
-    }
-  });
-  return head;
-}
-
-function findingItem(f: FindingView): HTMLElement {
-  const sev: Severity = isSeverity(f.severity) ? f.severity : 'info';
-  const item = h('div', 'sw-finding');
-  item.tabIndex = -1;
-  item.setAttribute('role', 'option');
-  item.dataset.id = String(f.id);
-  item.dataset.severity = sev;
-  item.dataset.rule = str(f.rule);
-  item.title = t('Show this record');
-  const text = h('div', 'sw-finding-text');
-  const top = h('div', 'sw-finding-top');
-  top.append(h('span', 'sw-rule', str(f.rule)), h('span', 'sw-place', str(f.place)));
-  const message = h('div', 'sw-message', str(f.message));
-  // The field path, as the CLI prints it ("at /messages/3/content").
-  if (f.pointer) message.append(h('span', 'sw-pointer', t(' at {0}', str(f.pointer))));
-  text.append(top, message);
-  const open = iconButton('go-to-file', t('Open at line'), 'sw-open-text');
-  open.addEventListener('click', (ev) => {
-    ev.stopPropagation();
-    vscode.postMessage({ type: 'openText', id: f.id });
-  });
-  item.append(severityIcon(sev), text, open);
-  item.addEventListener('click', () => vscode.postMessage({ type: 'reveal', id: f.id }));
-  item.addEventListener('keydown', (ev) => {
-    if (ev.target !== item) return;
-    if (ev.key === 'Enter' || ev.key === ' ') {
-      ev.preventDefault();
-      vscode.postMessage({ type: 'reveal', id: f.id });
-    } else if (ev.key === 'ArrowDown' || ev.key === 'ArrowUp') {
-      ev.preventDefault();
-      stepFocus(item, ev.key === 'ArrowDown' ? 1 : -1);
-    }
-  });
-  return item;
 }
 
 // ---- messages ----

@@ -5,8 +5,8 @@ import { crc32, deflateSync } from 'node:zlib';
 import { openView, screenshot, useBrowser } from './harness.mjs';
 import { chatDetail, HOSTILE, HOSTILE_TEXT, initMessage, rowFor, rowsAnswer, scriptedHost } from './fixtures.mjs';
 
-const ROW_HEIGHT = 24; // recordView.ts ROW_HEIGHT
-const PAGE = 128; // recordView.ts PAGE
+const ROW_HEIGHT = 24; // ROW_HEIGHT of src/webview/recordView/gridGeometry.ts
+const PAGE = 128; // PAGE of src/webview/recordView/gridGeometry.ts
 
 const env = useBrowser();
 

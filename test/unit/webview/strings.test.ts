@@ -1,6 +1,6 @@
 // Every user-visible string of the webviews goes through t(), so the host's localisation bundle can
 // translate it. The scan finds literals in the places the views put text; a missed one fails here.
-import { readFileSync } from 'node:fs';
+import { readdirSync, readFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
 
@@ -54,9 +54,15 @@ describe('webview strings', () => {
     for (const src of good) expect(unwrappedLiterals(src), src).toEqual([]);
   });
 
-  for (const file of ['common.ts', 'panel.ts', 'recordView.ts']) {
+  // Every source of the webviews, the record view's parts included.
+  const dir = join(__dirname, '../../../src/webview');
+  const files = (readdirSync(dir, { recursive: true }) as string[]).filter((f) => f.endsWith('.ts')).sort();
+  it('scans the views and the parts they are made of', () => {
+    for (const f of ['common.ts', 'panel.ts', 'recordView.ts', 'findingsList.ts', join('recordView', 'rows.ts'), join('recordView', 'detail.ts')]) expect(files).toContain(f);
+  });
+  for (const file of files) {
     it(`${file} passes every user-visible literal through t()`, () => {
-      const source = readFileSync(join(__dirname, '../../../src/webview', file), 'utf8');
+      const source = readFileSync(join(dir, file), 'utf8');
       expect(unwrappedLiterals(source)).toEqual([]);
     });
   }
