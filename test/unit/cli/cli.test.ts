@@ -1,10 +1,10 @@
 // The `shardwise` CLI, run as users run it: the built bin under node, in a child process.
 import { spawnSync } from 'node:child_process';
-import { mkdtempSync, writeFileSync, mkdirSync } from 'node:fs';
+import { mkdtempSync, rmSync, writeFileSync, mkdirSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { get_encoding } from 'tiktoken';
-import { beforeAll, describe, expect, it } from 'vitest';
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { buildBundles } from '../helpers/build';
 
 let cli = '';
@@ -13,6 +13,7 @@ beforeAll(() => {
   cli = join(buildBundles(), 'cli.js');
   dir = mkdtempSync(join(tmpdir(), 'shardwise-cli-'));
 });
+afterAll(() => rmSync(dir, { recursive: true, force: true }));
 
 function shardwise(...args: string[]) {
   const r = spawnSync(process.execPath, [cli, ...args], { encoding: 'utf8' });

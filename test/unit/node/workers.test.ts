@@ -1,9 +1,9 @@
 // The worker threads behind the editor: whole-shard analysis split across workers (cancellable),
 // and a record view's reading worker that serves pages while it is still indexing.
-import { appendFileSync, copyFileSync, mkdtempSync, truncateSync, writeFileSync } from 'node:fs';
+import { appendFileSync, copyFileSync, mkdtempSync, rmSync, truncateSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
-import { beforeAll, describe, expect, it } from 'vitest';
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import type { EntryOutcome } from '../../../src/engine/analyze';
 import { withDefaults } from '../../../src/engine/config';
 import type { Progress } from '../../../src/engine/sources/source';
@@ -27,6 +27,7 @@ beforeAll(() => {
   shard = join(dir, 'big.jsonl');
   writeFileSync(shard, rows.join('\n') + '\n');
 });
+afterAll(() => rmSync(dir, { recursive: true, force: true }));
 
 describe('analysis across worker threads', () => {
   it('every entry is analysed exactly once, whatever the number of workers', async () => {

@@ -63,7 +63,6 @@ export function zstdFrame(blocks: Array<{ raw: Uint8Array } | { rle: number; cou
   return Buffer.concat(out);
 }
 
-/** The Debian `zstd` command when installed (a real compressor); null otherwise. */
 /**
  * Compresses with the zstd command (Debian package zstd, the reference implementation). A missing
  * command fails the test that asks for it: the machine is set up with it, and a check it cannot

@@ -7,7 +7,7 @@ import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { gzipSync } from 'node:zlib';
 import { build } from 'esbuild';
-import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { afterAll, afterEach, beforeAll, describe, expect, it } from 'vitest';
 
 let dir = '';
 let child = '';
@@ -21,13 +21,27 @@ beforeAll(async () => {
 });
 afterAll(() => rmSync(dir, { recursive: true, force: true }));
 
+// What a test started, ended and removed after it, passed or failed: a holding child left running
+// (it waits for good) and the copies it made.
+const children: ReturnType<typeof spawn>[] = [];
+const copies: string[] = [];
+afterEach(() => {
+  for (const proc of children.splice(0)) if (proc.exitCode === null && proc.signalCode === null) proc.kill('SIGKILL');
+  for (const copy of copies.splice(0)) rmSync(copy, { recursive: true, force: true });
+});
+
 function start(...args: string[]): Promise<{ proc: ReturnType<typeof spawn>; line: string }> {
   const proc = spawn(process.execPath, [child, ...args], { stdio: ['ignore', 'pipe', 'inherit'] });
+  children.push(proc);
   return new Promise((resolve, reject) => {
     let out = '';
     proc.stdout!.on('data', (c) => {
       out += c;
-      if (out.includes('\n')) resolve({ proc, line: out.trim() });
+      if (out.includes('\n')) {
+        const line = out.trim();
+        for (const name of line.replace(/^READY /, '').split(',').filter(Boolean)) copies.push(join(tmpdir(), name));
+        resolve({ proc, line });
+      }
     });
     proc.on('exit', (code) => reject(new Error(`child ended early (${code}): ${out}`)));
   });
