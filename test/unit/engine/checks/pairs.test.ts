@@ -17,8 +17,18 @@ const u = (content: string) => ({ role: 'user', content });
 const a = (content: string) => ({ role: 'assistant', content });
 
 describe('pair rules', () => {
-  it('lists its rules', () => {
-    expect(PAIR_RULES.map((r) => r.id)).toEqual(['pair-side-missing', 'pair-side-empty', 'pair-identical', 'pair-prompt-mismatch']);
+  it('lists each rule once, and every rule it lists is raised by some record (none is dead, none unlisted)', () => {
+    const ids = PAIR_RULES.map((r) => r.id);
+    expect(new Set(ids).size).toBe(ids.length);
+    const raised = new Set(
+      [
+        { prompt: 'Q', chosen: 'A' },
+        { prompt: 'Q', chosen: '  ', rejected: 'B' },
+        { prompt: 'Q', chosen: 'same', rejected: 'same' },
+        { chosen: [u('Q1'), a('A')], rejected: [u('Q2'), a('B')] },
+      ].flatMap(rules),
+    );
+    expect([...raised].sort()).toEqual([...ids].sort());
   });
 
   it('well-formed pairs have no issues, in both layouts', () => {

@@ -1,4 +1,6 @@
 // The tokens check: record counts are sums of the reference tokenizer's counts over the record's text.
+import { readdirSync, readFileSync, statSync } from 'node:fs';
+import { join } from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { get_encoding, type Tiktoken as ReferenceEncoder } from 'tiktoken';
 import { withDefaults, type CheckConfig } from '../../../../src/engine/config.js';
@@ -6,6 +8,7 @@ import type { RecordResult } from '../../../../src/engine/checks/check.js';
 import { TOKENS_RULES, tokensCheck } from '../../../../src/engine/checks/tokens.js';
 import { turnTokenCounts } from '../../../../src/engine/tokens/recordTokens.js';
 import { CHAT_TEMPLATE_MARKERS, findChatMarkerText } from '../../../../src/engine/tokens/counter.js';
+import { projectRoot } from '../../helpers/build';
 
 let cl100k: ReferenceEncoder;
 let o200k: ReferenceEncoder;
@@ -32,11 +35,16 @@ describe('tokensCheck', () => {
     expect(() => run({ text: 'hi' }, withDefaults({ encoding: 'o200k_base' }))).toThrow(/not loaded yet/);
   });
 
-  it('declares its rules in the tokens family', async () => {
+  it('declares its rules in the tokens family: each once, each raised by the engine, and every tokens rule the engine raises declared', async () => {
     await tokensCheck.prepare!(withDefaults());
     expect(tokensCheck.rules).toBe(TOKENS_RULES);
-    expect(TOKENS_RULES.map((r) => r.id).sort()).toEqual(['tokens-no-text', 'tokens-no-trainable', 'tokens-over-context', 'tokens-rendered-over-context', 'tokens-special-text', 'tokens-template-error']);
+    const ids = TOKENS_RULES.map((r) => r.id);
+    expect(new Set(ids).size).toBe(ids.length);
     expect(TOKENS_RULES.every((r) => r.family === 'tokens')).toBe(true);
+    // Where the engine raises a finding it names the rule (`rule: 'id'`): those are read from its source.
+    const walk = (d: string): string[] => readdirSync(d).flatMap((n) => (statSync(join(d, n)).isDirectory() ? walk(join(d, n)) : n.endsWith('.ts') ? [join(d, n)] : []));
+    const raised = new Set(walk(join(projectRoot, 'src', 'engine')).flatMap((f) => [...readFileSync(f, 'utf8').matchAll(/\brule: '(tokens-[a-z0-9-]+)'/g)].map((m) => m[1])));
+    expect([...raised].sort()).toEqual([...ids].sort());
   });
 
   it('counts a chat record as the sum of its turns', async () => {
