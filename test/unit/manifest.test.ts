@@ -53,6 +53,10 @@ describe('commands', () => {
       else expect(entry?.when, cmd.command).toBeTruthy();
     });
   }
+  it('every command said to apply everywhere is a contributed command', () => {
+    const ids = new Set((pkg.contributes.commands as { command: string }[]).map((c) => c.command));
+    for (const id of Object.keys(everywhere)) expect(ids.has(id), id).toBe(true);
+  });
   it('titles that ask for input end in "…"', () => {
     const title = (id: string) => nls[(pkg.contributes.commands as { command: string; title: string }[]).find((c) => c.command === id)!.title.slice(1, -1)];
     for (const id of ['shardwise.goTo', 'shardwise.chooseEncoding', 'shardwise.setContextLength']) expect(title(id), id).toMatch(/…$/);

@@ -4,12 +4,13 @@
 import { mkdtempSync, rmSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
-import { afterAll, describe, expect, it, vi } from 'vitest';
+import { afterAll, describe, expect, it, vi, type MockInstance } from 'vitest';
 import { withDefaults, type CheckConfig } from '../../../src/engine/config';
 import type { EntryOutcome } from '../../../src/engine/analyze';
 import type { Finding } from '../../../src/engine/findings';
 import { ShardTally } from '../../../src/engine/stats/tally';
 import { analyzeInThread } from '../../../src/node/inThread';
+import { tokensCheck } from '../../../src/engine/checks/tokens';
 import { onlyContextLengthChanged, recontext, recordsNeedingPlaces, type RecordPlace } from '../../../src/host/recontext';
 
 const dir = mkdtempSync(join(tmpdir(), 'shardwise-recontext-'));
@@ -54,13 +55,26 @@ describe('a new context length from the kept counts', () => {
         const entry = before.entries.get(r)!;
         places.set(r, { entry, line: entry + 1, column: 1 });
       }
-      // No tokenizer may be reached while the findings are made again.
+      // No tokenizer may be reached while the findings are made again: neither the module that
+      // hands tokenizers out nor the tokenizer the checks above loaded and counted with.
       const tokens = await import('../../../src/engine/tokens/index');
-      const spies = Object.keys(tokens).filter((k) => typeof (tokens as Record<string, unknown>)[k] === 'function').map((k) => vi.spyOn(tokens as never, k as never));
-      const next = recontext(snap, to, places, { tokenizer: 'cl100k_base', rendered: false })!;
-      for (const s of spies) expect(s).not.toHaveBeenCalled();
+      const loaded = tokens.getTokenizer(withDefaults());
+      const spies = [
+        ...Object.keys(tokens).filter((k) => typeof (tokens as Record<string, unknown>)[k] === 'function').map((k) => vi.spyOn(tokens as never, k as never)),
+        ...(['count', 'encode', 'countRendered', 'encodeRendered'] as const).map((m) => vi.spyOn(loaded, m)),
+      ] as MockInstance[];
+      let next: ReturnType<typeof recontext>;
+      try {
+        next = recontext(snap, to, places, { tokenizer: 'cl100k_base', rendered: false });
+        for (const s of spies) expect(s).not.toHaveBeenCalled();
+        // The spies do see a record counted the way a check counts it.
+        tokensCheck.checkRecord({ record: 0, value: { text: 'true the wheel' } }, withDefaults({ contextLength: to }), { issues: [] });
+        expect(spies.some((s) => s.mock.calls.length > 0)).toBe(true);
+      } finally {
+        for (const s of spies) s.mockRestore();
+      }
       expect(next).not.toBeNull();
-      const again = ShardTally.restore(next);
+      const again = ShardTally.restore(next!);
       // A record newly over the length whose longest sequence is one of several (a pair's prompt +
       // chosen or prompt + rejected) is named without that sequence: which one it was is not kept.
       const newly = new Set(places.keys());

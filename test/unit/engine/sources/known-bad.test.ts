@@ -49,7 +49,9 @@ function check(files: string[]): Promise<{ code: number | null; report: Report; 
   });
 }
 
+const grouped: string[] = [];
 function group(name: string, files: string[]): void {
+  grouped.push(...files);
   describe(name, () => {
     it(`${files.length} files: each a read error in plain words, exit 1, under 10 s a file`, async () => {
       const { code, report, ms, stderr } = await check(files);
@@ -88,3 +90,8 @@ group('arrow-testing forward compatibility and big-endian files', [
   ...files(join(arrow, 'forward-compatibility'), (n) => n.endsWith('.arrow')),
   ...files(join(arrow, 'ipc-stream/integration/1.0.0-bigendian'), (n) => n.endsWith('.arrow_file') || n.endsWith('.stream')),
 ]);
+
+it('every file said to read cleanly is one of the files above, so its expectation is checked', () => {
+  const names = new Set(grouped.map((f) => f.split('/').pop()!));
+  for (const name of Object.keys(READS_CLEANLY)) expect(names.has(name), name).toBe(true);
+});
