@@ -5,7 +5,7 @@ import type { Check, RecordResult } from './checks/check.js';
 import type { CheckConfig } from './config.js';
 import type { Finding, RecordIssue, RuleInfo } from './findings.js';
 import type { Entry, Progress, RecordSource } from './sources/source.js';
-import { locatePointer } from './json/scan.js';
+import { TextLocator } from './json/locate.js';
 import { settleConfig } from './stats/shape.js';
 import { applyPolicyAll, hash64, recordKey, stableJson } from './policy.js';
 import { CancelledError, SetupError, isFatal } from './errors.js';
@@ -112,7 +112,7 @@ export async function analyzeSource(source: RecordSource, options: AnalyzeOption
 export function analyzeEntry(entry: Entry, checks: readonly Check[], config: CheckConfig): EntryOutcome {
   const findings: Finding[] = [...entry.findings];
   const kind: EntryOutcome['kind'] =
-    entry.value !== undefined ? 'record' : entry.findings.some((f) => f.rule === 'line-blank') ? 'blank' : 'invalid';
+    entry.value !== undefined ? 'record' : entry.blank ? 'blank' : 'invalid';
   if (entry.value === undefined || entry.record === null) {
     const kept = applyPolicyAll(findings, config.rules);
     return { entry: entry.entry, record: entry.record, tokens: null, kind, findings: kept, ...(kept.length ? { key: `@${hash64(entry.text ?? '')}` } : {}) };
@@ -126,7 +126,9 @@ export function analyzeEntry(entry: Entry, checks: readonly Check[], config: Che
     }
   }
   const rules = ruleTable(checks);
-  for (const issue of result.issues) findings.push(locateIssue(entry, issue, rules.get(issue.rule)));
+  // One locator for all of the record's issues: its text is read once, not once per issue.
+  const locator = result.issues.length && entry.text !== undefined ? new TextLocator(entry.text) : undefined;
+  for (const issue of result.issues) findings.push(locateIssue(entry, issue, rules.get(issue.rule), locator));
   const kept = applyPolicyAll(findings, config.rules);
   return {
     ...(kept.length ? { key: recordKey(entry.value, entry.text) } : {}),
@@ -171,26 +173,19 @@ function ruleTable(checks: readonly Check[]): Map<string, RuleInfo> {
   return t;
 }
 
-/** Turns a check's issue into a Finding at the line and column of the offending value. */
-export function locateIssue(entry: Entry, issue: RecordIssue, rule: RuleInfo | undefined): Finding {
+/**
+ * Turns a check's issue into a Finding at the line and column of the offending value. `locator` is
+ * the entry's text's, made once for all of a record's issues (one is made here when it is absent).
+ */
+export function locateIssue(entry: Entry, issue: RecordIssue, rule: RuleInfo | undefined, locator?: TextLocator): Finding {
   const pointer = issue.pointer ?? '';
   let line = entry.line;
   let column = entry.column;
   if (entry.text !== undefined && entry.line !== null) {
-    const at = safeLocate(entry.text, pointer);
-    if (at) {
-      // `at` is 1-based in the entry's text; an entry spanning lines (a JSON array element) moves the line.
-      const offset = at - 1;
-      const before = entry.text.lastIndexOf('\n', offset - 1);
-      if (before === -1) {
-        column = (entry.column ?? 1) + offset;
-      } else {
-        let nl = 0;
-        for (let i = entry.text.indexOf('\n'); i !== -1 && i < offset; i = entry.text.indexOf('\n', i + 1)) nl++;
-        line = entry.line + nl;
-        column = offset - before;
-      }
-    }
+    const loc = locator ?? new TextLocator(entry.text);
+    const at = safeLocate(loc, pointer);
+    // `at` is 1-based in the entry's text; an entry spanning lines (a JSON array element) moves the line.
+    if (at) ({ line, column } = loc.placeAt(at, entry.line, entry.column ?? 1));
   }
   return {
     rule: issue.rule,
@@ -206,9 +201,9 @@ export function locateIssue(entry: Entry, issue: RecordIssue, rule: RuleInfo | u
   };
 }
 
-function safeLocate(text: string, pointer: string): number | null {
+function safeLocate(locator: TextLocator, pointer: string): number | null {
   try {
-    return locatePointer(text, pointer)?.column ?? null;
+    return locator.locate(pointer)?.column ?? null;
   } catch {
     return null;
   }

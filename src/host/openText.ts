@@ -3,7 +3,7 @@
 
 import * as vscode from 'vscode';
 import { stat } from 'node:fs/promises';
-import { locatePointer } from '../engine/json/scan.js';
+import { locatePointer } from '../engine/json/locate.js';
 import type { Finding } from '../engine/findings.js';
 import type { ShardDocument } from './shardDocument.js';
 

@@ -19,7 +19,7 @@ import { traitsOf } from '../engine/sources/traits.js';
 import { ResultsStore, type KeptResults } from './resultsStore.js';
 import { FileFollower } from './fileWatch.js';
 import { onlyContextLengthChanged, recontext, recordsNeedingPlaces, type RecordPlace } from './recontext.js';
-import { locatePointer } from '../engine/json/scan.js';
+import { locatePointer } from '../engine/json/locate.js';
 import { formatPlace, targetIndex, type PlaceTarget } from '../engine/places.js';
 import { initialProgress, nextProgress, panelText, windowText, type ProgressEvent, type ProgressState } from '../engine/progress.js';
 import { isCancelled } from '../engine/errors.js';

@@ -1,8 +1,10 @@
-// A strict RFC 8259 scanner that knows where things are: the column of the first error, and notes
-// (duplicate names, unsafe integers, lone surrogates) with the JSON Pointer of the value concerned.
-// Iterative with an explicit stack, so nesting depth cannot overflow the call stack.
+// Validation: a strict RFC 8259 scanner that knows where things are — the column of the first error,
+// and notes (duplicate names, unsafe integers, lone surrogates) with the JSON Pointer of the value
+// concerned. Every text format's records pass through it (see sources/textEntry.ts). Iterative
+// with an explicit stack, so nesting depth cannot overflow the call stack. Finding where a pointer's
+// value sits in a record's text is locate.ts.
 
-import { pointerToken, splitPointer } from '../findings.js';
+import { pointerToken } from '../findings.js';
 
 export type ScanNoteKind = 'duplicate-key' | 'unsafe-number' | 'lone-surrogate';
 
@@ -317,106 +319,6 @@ export function parseLine(text: string): ParseLineResult {
     // Should not happen once the scan passed; kept so a reader quirk becomes a finding, not a crash.
     return { error: { column: 1, message: `the value could not be read: ${(e as Error).message}` }, notes: r.notes };
   }
-}
-
-// ---- locating a pointer in well-formed text ----
-
-function skipWsAt(text: string, i: number): number {
-  while (i < text.length && isWs(text.charCodeAt(i))) i++;
-  return i;
-}
-
-/** Index after the closing quote of the string whose opening quote is at i (text is well-formed). */
-function skipStringAt(text: string, i: number): number {
-  let j = i + 1;
-  for (;;) {
-    const q = text.indexOf('"', j);
-    if (q < 0) return text.length;
-    let b = q - 1;
-    while (b > i && text.charCodeAt(b) === 0x5c) b--;
-    if ((q - 1 - b) % 2 === 0) return q + 1;
-    j = q + 1;
-  }
-}
-
-/** Index after the value starting at i (text is well-formed). */
-function skipValueAt(text: string, i: number): number {
-  const c = text.charCodeAt(i);
-  if (c === 0x22) return skipStringAt(text, i);
-  if (c === 0x7b || c === 0x5b) {
-    let depth = 0;
-    let j = i;
-    const n = text.length;
-    while (j < n) {
-      const t = text.charCodeAt(j);
-      if (t === 0x22) {
-        j = skipStringAt(text, j);
-        continue;
-      }
-      if (t === 0x7b || t === 0x5b) depth++;
-      else if (t === 0x7d || t === 0x5d) {
-        depth--;
-        if (depth === 0) return j + 1;
-      }
-      j++;
-    }
-    return n;
-  }
-  let j = i;
-  while (j < text.length) {
-    const t = text.charCodeAt(j);
-    if (t === 0x2c || t === 0x7d || t === 0x5d || isWs(t)) break;
-    j++;
-  }
-  return j;
-}
-
-/**
- * The 1-based column of the value an RFC 6901 pointer names. When the path does not exist, the
- * column of the deepest existing ancestor with found=false; null when the text is not one JSON value.
- * A duplicated name resolves to its last member, as JSON.parse does.
- */
-export function locatePointer(text: string, pointer: string): { column: number; found: boolean } | null {
-  if (!scanJson(text).ok) return null;
-  let tokens: string[];
-  try {
-    tokens = splitPointer(pointer);
-  } catch {
-    return { column: skipWsAt(text, 0) + 1, found: false };
-  }
-  let i = skipWsAt(text, 0);
-  for (const token of tokens) {
-    const c = text.charCodeAt(i);
-    let target = -1;
-    if (c === 0x7b) {
-      let j = skipWsAt(text, i + 1);
-      while (text.charCodeAt(j) !== 0x7d) {
-        const keyEnd = skipStringAt(text, j);
-        const raw = text.slice(j + 1, keyEnd - 1);
-        const key = raw.includes('\\') ? (JSON.parse(text.slice(j, keyEnd)) as string) : raw;
-        j = skipWsAt(text, skipWsAt(text, keyEnd) + 1);
-        if (key === token) target = j;
-        j = skipWsAt(text, skipValueAt(text, j));
-        if (text.charCodeAt(j) === 0x2c) j = skipWsAt(text, j + 1);
-      }
-    } else if (c === 0x5b && /^(0|[1-9][0-9]*)$/.test(token)) {
-      const want = Number(token);
-      let j = skipWsAt(text, i + 1);
-      let k = 0;
-      while (text.charCodeAt(j) !== 0x5d) {
-        if (k === want) {
-          target = j;
-          break;
-        }
-        j = skipWsAt(text, skipValueAt(text, j));
-        if (text.charCodeAt(j) === 0x2c) j = skipWsAt(text, j + 1);
-        k++;
-      }
-    }
-    if (target < 0) return { column: i + 1, found: false };
-    i = target;
-  }
-  return { column: i + 1, found: true };
 }
 
 /**

@@ -1,7 +1,8 @@
 // JSON array shards (.json holding one array of records): a streaming tokenizer finds each
 // top-level element's byte range, line and column without parsing the file whole; each element is
-// then parsed alone (RFC 8259), so a broken element is one finding, not a lost file. A gzip or
-// zstd file is decompressed once, while indexing, into a temporary file that pages then read.
+// then parsed alone (RFC 8259, `buildElementEntry` in textEntry.ts), so a broken element is one
+// finding, not a lost file. A gzip or zstd file is decompressed once, while indexing, into a
+// temporary file that pages then read.
 
 import { open, rm } from 'node:fs/promises';
 import { join } from 'node:path';
@@ -12,24 +13,8 @@ import { openFileReader, type ReaderFactory } from './columnar/byteReader.js';
 import { EMPTY_FILE_MESSAGE, FileShrankError, compressionOf, decompressedChunks, type Compression } from './jsonl.js';
 import { DecompressError } from './decompress.js';
 import { DiskSpaceError, MIN_FREE_BYTES, freeBytes, makeTempDir } from './tempFiles.js';
-import { MAX_DEPTH, depthBeyond, parseLine, type ScanNote } from '../json/scan.js';
+import { buildElementEntry, type ElementSpan } from './textEntry.js';
 import { isCancelled } from '../errors.js';
-
-const NOTE_RULE: Record<ScanNote['kind'], string> = {
-  'duplicate-key': 'key-duplicate',
-  'unsafe-number': 'number-unsafe',
-  'lone-surrogate': 'surrogate-unpaired',
-};
-
-/** The line and column of a 1-based offset into an element's text that starts at `at`. */
-function placeIn<T extends { line: number; column: number }>(text: string, offset: number, at: T): T {
-  const before = text.slice(0, Math.max(0, offset - 1));
-  const nl = before.lastIndexOf('\n');
-  if (nl === -1) return { ...at, column: at.column + offset - 1 };
-  let lines = 0;
-  for (let i = before.indexOf('\n'); i !== -1; i = before.indexOf('\n', i + 1)) lines++;
-  return { ...at, line: at.line + lines, column: offset - 1 - nl };
-}
 
 export interface JsonArraySourceOptions {
   openReader?: ReaderFactory;
@@ -41,25 +26,15 @@ export interface JsonArraySourceOptions {
   compression?: Compression;
 }
 
-interface Span {
-  offset: number;
-  length: number;
-  line: number;
-  column: number;
-  /** Findings the tokenizer raised inside this element (unsafe integers, a cut-short end). */
-  findings?: Finding[];
-}
-
-const MAX_SAFE = 2n ** 53n - 1n;
+const DEFAULT_MAX_ELEMENT_BYTES = 64 * 1024 * 1024;
 const WS = new Set([0x20, 0x09, 0x0a, 0x0d]);
 
 export class JsonArraySource implements RecordSource {
   readonly format = 'json-array' as const;
   private reader: ByteReader | null = null;
-  private spans: Span[] = [];
+  private spans: ElementSpan[] = [];
   private current: SourceInfo;
   private indexing: Promise<SourceInfo> | null = null;
-  private readonly decoder = new TextDecoder('utf-8', { fatal: true });
   readonly compression: Compression;
   /** The decompressed copy of a compressed file, once indexing has written it. */
   private tempDir: string | null = null;
@@ -103,37 +78,14 @@ export class JsonArraySource implements RecordSource {
     let escaped = false;
     let line = 1;
     let column = 1;
-    let cur: Span | null = null;
+    let cur: ElementSpan | null = null;
     let lastNonWs = -1;
-    let num = '';
-    let numLine = 0;
-    let numColumn = 0;
     let sawBom = false;
     const finishElement = () => {
       if (!cur) return;
       cur.length = lastNonWs + 1 - cur.offset;
       this.spans.push(cur);
       cur = null;
-    };
-    const flushNumber = () => {
-      if (num && !/[.eE]/.test(num) && num.replace('-', '').length >= 16) {
-        try {
-          const v = BigInt(num);
-          if ((v > MAX_SAFE || v < -MAX_SAFE) && cur) {
-            (cur.findings ??= []).push(
-              readFinding('number-unsafe', `integer ${num} is beyond ±(2^53−1); most JSON readers lose its exact value (RFC 8259 §6)`, {
-                line: numLine,
-                column: numColumn,
-                record: this.spans.length,
-                entry: this.spans.length,
-              }),
-            );
-          }
-        } catch {
-          // Not an integer literal after all; the element's own parse reports it.
-        }
-      }
-      num = '';
     };
     const broken = (message: string) => {
       fileFindings.push(readFinding('array-structure', message, { line, column }));
@@ -156,15 +108,12 @@ export class JsonArraySource implements RecordSource {
             else if (b === 0x22) inString = false;
             lastNonWs = pos;
           } else if (b === 0x22) {
-            flushNumber();
             inString = true;
             lastNonWs = pos;
           } else if (b === 0x5b || b === 0x7b) {
-            flushNumber();
             depth++;
             lastNonWs = pos;
           } else if (b === 0x5d || b === 0x7d) {
-            flushNumber();
             if (depth === 0 && b === 0x5d) {
               finishElement();
               state = 'closed';
@@ -173,19 +122,11 @@ export class JsonArraySource implements RecordSource {
               lastNonWs = pos;
             }
           } else if (b === 0x2c && depth === 0) {
-            flushNumber();
             finishElement();
             state = 'open';
           } else if (!WS.has(b)) {
-            if ((b >= 0x30 && b <= 0x39) || b === 0x2d || b === 0x2b || b === 0x2e || b === 0x65 || b === 0x45) {
-              if (!num) {
-                numLine = line;
-                numColumn = column;
-              }
-              num += String.fromCharCode(b);
-            } else flushNumber();
             lastNonWs = pos;
-          } else flushNumber();
+          }
         } else if (!WS.has(b)) {
           if (state === 'before') {
             if (b === 0x5b) state = 'open';
@@ -217,13 +158,10 @@ export class JsonArraySource implements RecordSource {
       if ((state as string) === 'broken') break;
     }
     if (state === 'element') {
-      flushNumber();
-      const cut = cur as Span | null;
+      const cut = cur as ElementSpan | null;
       if (cut) {
         cut.length = size - cut.offset;
-        (cut.findings ??= []).push(
-          readFinding('read-truncated', 'the file ends inside this element', { line: cut.line, column: cut.column, record: this.spans.length, entry: this.spans.length }),
-        );
+        cut.truncated = true;
         this.spans.push(cut);
       }
       fileFindings.push(readFinding('array-structure', 'the file ends before the array is closed with "]"', { line, column }));
@@ -304,7 +242,7 @@ export class JsonArraySource implements RecordSource {
     const s = Math.max(0, start);
     const e = Math.min(end, this.spans.length);
     const out: Entry[] = [];
-    const max = this.opts.maxElementBytes ?? 64 * 1024 * 1024;
+    const max = this.opts.maxElementBytes ?? DEFAULT_MAX_ELEMENT_BYTES;
     // Read runs of small elements in one go; a huge element is never read.
     let k = s;
     while (k < e) {
@@ -332,48 +270,7 @@ export class JsonArraySource implements RecordSource {
   }
 
   private entryOf(k: number, bytes: Uint8Array | null): Entry {
-    const sp = this.spans[k];
-    const place = { record: k, entry: k, line: sp.line, column: sp.column };
-    const findings = [...(sp.findings ?? [])];
-    const entry: Entry = { entry: k, record: k, line: sp.line, column: sp.column, byteOffset: sp.offset, findings };
-    if (!bytes) {
-      findings.push(readFinding('array-element-syntax', `the element is ${sp.length} bytes, beyond the ${this.opts.maxElementBytes ?? 64 * 1024 * 1024}-byte limit; it is not parsed`, place));
-      entry.record = null;
-      return entry;
-    }
-    let text: string;
-    try {
-      text = this.decoder.decode(bytes);
-    } catch {
-      findings.push(readFinding('array-element-syntax', 'the element is not valid UTF-8 (RFC 8259 §8.1)', place));
-      entry.record = null;
-      return entry;
-    }
-    entry.text = text;
-    if (findings.some((f) => f.rule === 'read-truncated')) {
-      entry.record = null;
-      return entry;
-    }
-    // Checked before parsing: the same cap as a JSON Lines line, and no parser recursion to exhaust.
-    const deep = depthBeyond(text, MAX_DEPTH);
-    if (deep >= 0) {
-      findings.push(readFinding('array-element-syntax', `the element nests deeper than ${MAX_DEPTH} levels (at character ${deep + 1} of the element); it is not read`, place));
-      entry.record = null;
-      return entry;
-    }
-    // The strict scanner, as for a JSON Lines line: duplicate names and lone surrogates are
-    // findings here too (unsafe integers were already found while the array was indexed).
-    const parsed = parseLine(text);
-    if ('value' in parsed) entry.value = parsed.value;
-    else {
-      findings.push(readFinding('array-element-syntax', `the element is not valid JSON: ${parsed.error.message}`, placeIn(text, parsed.error.column, place)));
-      entry.record = null;
-    }
-    for (const note of parsed.notes) {
-      if (note.kind === 'unsafe-number') continue;
-      findings.push(readFinding(NOTE_RULE[note.kind], note.detail, { ...placeIn(text, note.column, place), pointer: note.pointer }));
-    }
-    return entry;
+    return buildElementEntry(k, this.spans[k], bytes, this.opts.maxElementBytes ?? DEFAULT_MAX_ELEMENT_BYTES);
   }
 
   async *scan(opts: ScanOptions = {}): AsyncIterable<Entry> {

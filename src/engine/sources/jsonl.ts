@@ -1,14 +1,15 @@
-// JSONL shards (plain, gzip, zstd): a streaming line index for random access, and entries with the
-// source's own findings (syntax, blank lines, encoding, over-long lines) already located.
+// JSONL shards (plain, gzip, zstd): the source behind `RecordSource` — opening, a streaming line
+// index for random access (lineIndex.ts), a decompressed copy for compressed files, growth of a
+// file still being written, page reads and whole-file scans. Each line's entry, with the source's
+// own findings (syntax, blank lines, encoding, over-long lines) already located, is built by
+// textEntry.ts.
 
-import { readSync } from 'node:fs';
 import { open, rm, stat, type FileHandle } from 'node:fs/promises';
 import { join } from 'node:path';
 import type { Finding } from '../findings.js';
-import { MAX_DEPTH, parseLine, scanJson, type ScanNote } from '../json/scan.js';
 import { LineSplitter } from '../text/lines.js';
-import { LineFinder, LineIndex, type LineIndexSnapshot } from './lineIndex.js';
-import { decodeLine, hasBom } from '../text/utf8.js';
+import { LONG_LINE_BYTES, LineFinder, LineIndex, indexFileRange, nextTurn, walkLines, type LineIndexSnapshot, type LineReader } from './lineIndex.js';
+import { buildEntry, classifyLine, formatBytes } from './textEntry.js';
 import { jsonlRule, type JsonlRuleId } from './jsonlRules.js';
 import type { Entry, FileChange, Progress, RecordSource, ScanOptions, SourceInfo } from './source.js';
 import { DecompressError, decompress } from './decompress.js';
@@ -48,154 +49,16 @@ const CHUNK_BYTES = 4 * 1024 * 1024;
 const SCAN_SLICE_BYTES = 64 * 1024;
 /** Free disk space is checked again after this many bytes of a temporary copy. */
 const DISK_CHECK_BYTES = 64 * 1024 * 1024;
-/** A read() groups neighbouring lines into one positional read up to this size. */
-const READ_SEGMENT_BYTES = 8 * 1024 * 1024;
 /** A read parses up to this many bytes of not yet parsed lines before it, to number its records exactly. */
 const EXACT_CATCH_UP_BYTES = 64 * 1024 * 1024;
-
-// The line index is sparse: one start offset every BLOCK_LINES lines; a read scans within a block.
-// Lines are classified lazily: the index finds line ends and blank lines only (no decoding, no
-// parse); a line that is not JSON is learnt when a page, a scan or the analysis parses it.
-const BLOCK_LINES = 32;
-/** Lines longer than this are kept in the index with their start and length, and read on their own. */
-const LONG_LINE_BYTES = 1024 * 1024;
-/** The index reads the file through a reused buffer of this size (measured faster than larger ones). */
-const INDEX_CHUNK_BYTES = 1024 * 1024;
-/** The index gives the event loop a turn (progress, cancelling, page reads) every this many bytes. */
-const INDEX_YIELD_BYTES = 16 * 1024 * 1024;
 /** The indexed bytes' last this many are kept, to tell an appended file from a rewritten one. */
 const TAIL_BYTES = 4096;
-const strictDecoder = new TextDecoder('utf-8', { fatal: true, ignoreBOM: true });
-const lenientDecoder = new TextDecoder('utf-8', { fatal: false, ignoreBOM: true });
 
 export function compressionOf(path: string): Compression {
   const lower = path.toLowerCase();
   if (lower.endsWith('.gz')) return 'gzip';
   if (lower.endsWith('.zst')) return 'zstd';
   return 'none';
-}
-
-function abortError(what: string): Error {
-  return new CancelledError(`${what} was cancelled`);
-}
-
-function formatBytes(n: number): string {
-  if (n < 1024) return `${n} bytes`;
-  if (n < 1024 * 1024) return `${(n / 1024).toFixed(1)} KiB`;
-  if (n < 1024 * 1024 * 1024) return `${(n / (1024 * 1024)).toFixed(1)} MiB`;
-  return `${(n / (1024 * 1024 * 1024)).toFixed(2)} GiB`;
-}
-
-function isBlank(text: string): boolean {
-  for (let i = 0; i < text.length; i++) {
-    const c = text.charCodeAt(i);
-    if (c !== 0x20 && c !== 0x09 && c !== 0x0d && c !== 0x0a) return false;
-  }
-  return true;
-}
-
-function typeName(v: unknown): string {
-  if (v === null) return 'null';
-  if (Array.isArray(v)) return 'an array';
-  if (typeof v === 'string') return 'a string';
-  if (typeof v === 'number') return 'a number';
-  if (typeof v === 'boolean') return 'a boolean';
-  return typeof v;
-}
-
-export type LineKind = 'record' | 'blank' | 'invalid';
-
-/**
- * Whether a line's bytes hold a record, decided the same way `buildEntry` decides it but without
- * building findings: native JSON.parse first, the strict scan only where the depth cap could matter.
- */
-export function classifyLine(bytes: Uint8Array): LineKind {
-  let body = hasBom(bytes) ? bytes.subarray(3) : bytes;
-  let end = body.length;
-  while (end > 0 && (body[end - 1] === 0x20 || body[end - 1] === 0x09 || body[end - 1] === 0x0d)) end--;
-  let start = 0;
-  while (start < end && (body[start] === 0x20 || body[start] === 0x09 || body[start] === 0x0d)) start++;
-  if (start === end) return 'blank';
-  body = body.subarray(start, end);
-  let text: string;
-  try {
-    text = strictDecoder.decode(body);
-  } catch {
-    text = lenientDecoder.decode(body);
-  }
-  try {
-    JSON.parse(text);
-  } catch {
-    return 'invalid';
-  }
-  // Nesting beyond the cap needs more characters than the cap; only then is the scan needed.
-  if (text.length > MAX_DEPTH && !scanJson(text).ok) return 'invalid';
-  return 'record';
-}
-
-interface Located {
-  entry: number;
-  line: number;
-  record: number | null;
-}
-
-function makeFinding(rule: JsonlRuleId, message: string, at: Located, column: number | null, pointer: string | null): Finding {
-  const r = jsonlRule(rule);
-  return { rule, family: r.family, severity: r.severity, message, record: at.record, line: at.line, column, pointer, entry: at.entry };
-}
-
-const NOTE_RULE: Record<ScanNote['kind'], JsonlRuleId> = {
-  'duplicate-key': 'key-duplicate',
-  'unsafe-number': 'number-unsafe',
-  'lone-surrogate': 'surrogate-unpaired',
-};
-
-/**
- * Turns one line into an Entry. `record` is the record index the line gets if it holds a value.
- * `bytes` is null for a line over the limit, whose `length` alone is reported.
- */
-export function buildEntry(entry: number, byteOffset: number, bytes: Uint8Array | null, length: number, record: number, maxLineBytes: number): Entry {
-  const line = entry + 1;
-  if (bytes === null) {
-    const at = { entry, line, record: null };
-    return {
-      entry, record: null, line, column: 1, byteOffset,
-      findings: [makeFinding('line-too-long', `line is ${formatBytes(length)}, over the ${formatBytes(maxLineBytes)} limit; it was not read`, at, 1, null)],
-    };
-  }
-  const decoded = decodeLine(bytes);
-  const text = decoded.text;
-  const early: Array<[JsonlRuleId, string, number | null]> = [];
-  if (decoded.bom) early.push(['bom-present', 'line starts with a UTF-8 byte order mark (U+FEFF); it was skipped', 1]);
-  if (decoded.invalid) {
-    early.push(['utf8-invalid', `invalid UTF-8 at byte ${decoded.invalid.byteOffset} of the line; shown as U+FFFD`, decoded.invalid.column]);
-  }
-  const result: Entry = { entry, record: null, line, column: 1, byteOffset, text, findings: [] };
-  if (isBlank(text)) {
-    const at = { entry, line, record: null };
-    for (const [rule, msg, col] of early) result.findings.push(makeFinding(rule, msg, at, col, null));
-    result.findings.push(makeFinding('line-blank', 'blank line: a JSON Lines line holds one JSON value', at, 1, null));
-    return result;
-  }
-  const parsed = parseLine(text);
-  const isRecord = 'value' in parsed;
-  const at = { entry, line, record: isRecord ? record : null };
-  for (const [rule, msg, col] of early) result.findings.push(makeFinding(rule, msg, at, col, null));
-  if (!isRecord) {
-    result.findings.push(makeFinding('json-syntax', `not a JSON value: ${parsed.error.message}`, at, parsed.error.column, null));
-  }
-  for (const note of parsed.notes) result.findings.push(makeFinding(NOTE_RULE[note.kind], note.detail, at, note.column, note.pointer));
-  if (isRecord) {
-    result.record = record;
-    result.value = parsed.value;
-    const v = parsed.value;
-    if (v === null || typeof v !== 'object' || Array.isArray(v)) {
-      let col = 1;
-      while (col <= text.length && isBlank(text[col - 1])) col++;
-      result.findings.push(makeFinding('record-not-object', `record is ${typeName(v)}, not a JSON object`, at, col, ''));
-    }
-  }
-  return result;
 }
 
 /**
@@ -401,35 +264,19 @@ export class JsonlSource implements RecordSource {
     const finder = new LineFinder(this.idx);
     const progress = (done: number) => onProgress?.({ done, total: this.sizeBytes, entries: this.idx.lines } satisfies Progress);
     const check = () => {
-      if (signal?.aborted) throw abortError('indexing');
+      if (signal?.aborted) throw new CancelledError('indexing was cancelled');
       if (this.closed) throw new Error(`${this.path}: the source was closed while indexing`);
     };
     check();
     if (this.compression === 'none') {
-      let done = 0;
-      try {
-        // Synchronous reads into one reused buffer (the fastest plain way to find line ends), with
-        // a turn of the event loop every few MiB so that cancelling and page reads get through.
-        const buf = new Uint8Array(INDEX_CHUNK_BYTES);
-        const fd = this.handle!.fd;
-        let sinceYield = 0;
-        while (done < this.sizeBytes) {
-          const n = readSync(fd, buf, 0, Math.min(buf.length, this.sizeBytes - done), done);
-          if (n === 0) throw new FileShrankError(this.path, done, this.sizeBytes);
-          finder.push(buf.subarray(0, n));
-          done += n;
-          if ((sinceYield += n) >= INDEX_YIELD_BYTES) {
-            sinceYield = 0;
-            progress(done);
-            await new Promise<void>((resolve) => setImmediate(resolve));
-            check();
-          }
-        }
-        progress(done);
-      } catch (e) {
-        if (!(e instanceof FileShrankError)) throw e;
-        this.findings.push(this.fileFinding('read-corrupt', e.message));
-      }
+      const done = await indexFileRange(this.handle!.fd, finder, 0, this.sizeBytes, async (at) => {
+        progress(at);
+        await nextTurn();
+        check();
+      });
+      // Short of the size seen at open: the file shrank or was replaced underneath us.
+      if (done < this.sizeBytes) this.findings.push(this.fileFinding('read-corrupt', new FileShrankError(this.path, done, this.sizeBytes).message));
+      else progress(done);
       finder.end();
       this.decompressedSize = done;
     } else {
@@ -552,23 +399,11 @@ export class JsonlSource implements RecordSource {
       await Promise.allSettled([...this.reading]);
       let from = idx.end;
       if (idx.lastUnterminated) {
-        from = await this.lastLineStart(handle);
+        from = await idx.lastLineStart(this.lineReader(handle));
         idx.dropLast(from);
       }
       const finder = new LineFinder(idx, from);
-      const buf = new Uint8Array(INDEX_CHUNK_BYTES);
-      let done = from;
-      let sinceYield = 0;
-      while (done < st.size) {
-        const n = readSync(handle.fd, buf, 0, Math.min(buf.length, st.size - done), done);
-        if (n === 0) break;
-        finder.push(buf.subarray(0, n));
-        done += n;
-        if ((sinceYield += n) >= INDEX_YIELD_BYTES) {
-          sinceYield = 0;
-          await new Promise<void>((resolve) => setImmediate(resolve));
-        }
-      }
+      const done = await indexFileRange(handle.fd, finder, from, st.size);
       finder.end();
       this.sizeBytes = this.decompressedSize = done;
       this.tail = await readTail(handle, done);
@@ -578,21 +413,6 @@ export class JsonlSource implements RecordSource {
     } finally {
       await fresh?.close().catch(() => undefined);
     }
-  }
-
-  /** Byte offset where the index's final (unterminated) line starts. */
-  private async lastLineStart(handle: FileHandle): Promise<number> {
-    const idx = this.idx;
-    const last = idx.lines - 1;
-    if (idx.longEntries.last() === last) return idx.longStarts.last()!;
-    // A line not kept as long is at most the long-line size: its start is within that many bytes.
-    const block = idx.blockOf(last).offset;
-    const from = Math.max(block, idx.end - idx.longLineBytes - 1);
-    const bytes = Buffer.from(await readAt(handle, from, idx.end - from));
-    const nl = bytes.lastIndexOf(10);
-    if (nl >= 0) return from + nl + 1;
-    if (from === block) return block;
-    throw this.changedError();
   }
 
   private corruptFinding(e: unknown, decompressed: number): Finding {
@@ -630,15 +450,17 @@ export class JsonlSource implements RecordSource {
     return e;
   }
 
-  private async readExact(handle: FileHandle, offset: number, length: number): Promise<Uint8Array> {
-    const buf = new Uint8Array(length);
-    let got = 0;
-    while (got < length) {
-      const { bytesRead } = await handle.read(buf, got, length - got, offset + got);
-      if (bytesRead === 0) throw this.changedError();
-      got += bytesRead;
-    }
-    return buf;
+  /** The index's way to read `handle`'s bytes back. */
+  private lineReader(handle: FileHandle): LineReader {
+    return {
+      readAt: (offset, length) => readAt(handle, offset, length),
+      readExact: async (offset, length) => {
+        const buf = await readAt(handle, offset, length);
+        if (buf.length < length) throw this.changedError();
+        return buf;
+      },
+      changed: () => this.changedError(),
+    };
   }
 
   private changedError(): Error {
@@ -683,67 +505,13 @@ export class JsonlSource implements RecordSource {
   /** Entries [start, end) (built, or only classified); parsing them in order extends `exactThrough`. */
   private async walk(start: number, end: number, build: boolean, signal?: AbortSignal): Promise<Entry[]> {
     const idx = this.idx;
-    const handle = this.handle!;
     const learning = idx.exactThrough >= start;
     const out: Entry[] = [];
-    const take = (line: number, at: number, bytes: Uint8Array | null, length: number) => {
-      if (line < start) return;
+    await walkLines(idx, start, end, this.lineReader(this.handle!), (line, at, bytes, length) => {
       if (build) out.push(this.built(line, at, bytes, length));
       else if (bytes !== null && classifyLine(bytes) !== 'record') idx.learnInvalid(line);
       if (learning) idx.exactThrough = Math.max(idx.exactThrough, line + 1);
-    };
-    // From the start of the block holding `start`: at most BLOCK_LINES - 1 lines are read for nothing.
-    const block = idx.blockOf(start);
-    let line = block.line;
-    let pos = block.offset;
-    let long = idx.longFrom(line);
-    const average = idx.end / Math.max(1, idx.lines);
-    let least = 64 * 1024;
-    while (line < end) {
-      if (signal?.aborted) throw abortError('reading');
-      const nextLong = long < idx.longEntries.length ? idx.longEntries.get(long) : Number.POSITIVE_INFINITY;
-      if (line === nextLong) {
-        // A very long line is read on its own (or, over the limit, not at all).
-        const at = idx.longStarts.get(long);
-        const length = idx.longLengths.get(long);
-        if (line >= start) take(line, at, length > this.maxLineBytes ? null : await this.readExact(handle, at, length), length);
-        pos = at + length + (line === idx.lines - 1 && idx.lastUnterminated ? 0 : 1);
-        line++;
-        long++;
-        continue;
-      }
-      // One positional read for a run of neighbouring lines, sized from the average line.
-      const stopAt = nextLong === Number.POSITIVE_INFINITY ? idx.end : idx.longStarts.get(long);
-      const want = Math.max(least, Math.ceil((Math.min(end, nextLong) - line) * average * 1.25) + 4096);
-      const segEnd = Math.min(stopAt, pos + Math.min(READ_SEGMENT_BYTES, want));
-      const buf = Buffer.from(await this.readExact(handle, pos, segEnd - pos));
-      let i = 0;
-      while (line < end && line < nextLong) {
-        const nl = buf.indexOf(10, i);
-        if (nl < 0) {
-          // The file's final line has no `\n`.
-          if (segEnd === idx.end && line === idx.lines - 1 && idx.lastUnterminated && i < buf.length) {
-            take(line, pos + i, buf.subarray(i), buf.length - i);
-            line++;
-            i = buf.length;
-          }
-          break;
-        }
-        take(line, pos + i, buf.subarray(i, nl), nl - i);
-        line++;
-        i = nl + 1;
-      }
-      if (i === 0 && line < end) {
-        // A line longer than the estimate: read again with room for any line under the long-line size.
-        if (segEnd < stopAt && least < READ_SEGMENT_BYTES) {
-          least = READ_SEGMENT_BYTES;
-          continue;
-        }
-        throw this.changedError();
-      }
-      least = 64 * 1024;
-      pos += i;
-    }
+    }, signal);
     return out;
   }
 
@@ -805,7 +573,7 @@ export class JsonlSource implements RecordSource {
         // In slices: a chunk of tiny lines is millions of entries, never all built at once, and
         // progress (what the watchdog watches) comes every slice.
         for (let o = 0; o < chunk.length; o += SCAN_SLICE_BYTES) {
-          if (signal?.aborted) throw abortError('scanning');
+          if (signal?.aborted) throw new CancelledError('scanning was cancelled');
           const slice = chunk.subarray(o, Math.min(chunk.length, o + SCAN_SLICE_BYTES));
           splitter.push(slice);
           decompressed += slice.length;

@@ -1,10 +1,24 @@
 // The line index of a text shard: sparse and lazy. It keeps one start offset every BLOCK_LINES
 // lines (a read scans within a block), the blank lines and the very long lines as sorted exception
 // lists, and the lines learnt not to hold JSON. Finding line ends needs no decoding and no parse:
-// `LineFinder` runs `Buffer.indexOf` over the bytes and looks at a line's first bytes only.
+// `LineFinder` runs `Buffer.indexOf` over the bytes and looks at a line's first bytes only;
+// `indexFileRange` feeds it a plain file. Lines are classified lazily: a line that is not JSON is
+// learnt when a page, a scan or the analysis parses it. `walkLines` reads lines back through the
+// index.
+
+import { readSync } from 'node:fs';
+import { CancelledError } from '../errors.js';
 
 /** One start offset is kept every this many lines. */
 export const BLOCK_LINES = 32;
+/** Lines longer than this are kept in the index with their start and length, and read on their own. */
+export const LONG_LINE_BYTES = 1024 * 1024;
+/** The index reads the file through a reused buffer of this size (measured faster than larger ones). */
+const INDEX_CHUNK_BYTES = 1024 * 1024;
+/** The index gives the event loop a turn (progress, cancelling, page reads) every this many bytes. */
+const INDEX_YIELD_BYTES = 16 * 1024 * 1024;
+/** A walk groups neighbouring lines into one positional read up to this size. */
+const READ_SEGMENT_BYTES = 8 * 1024 * 1024;
 
 /** A growable list of numbers (offsets past 4 GiB need doubles), usually sorted ascending. */
 export class NumberList {
@@ -253,6 +267,125 @@ export class LineIndex {
   /** Bytes the index holds. */
   get bytes(): number {
     return [this.blockStarts, this.blanks, this.tooLong, this.longEntries, this.longStarts, this.longLengths, this.invalid].reduce((n, l) => n + l.bytes, 0);
+  }
+
+  /** Byte offset where the final (unterminated) line starts, found from its block with `io`. */
+  async lastLineStart(io: LineReader): Promise<number> {
+    const last = this.lines - 1;
+    if (this.longEntries.last() === last) return this.longStarts.last()!;
+    // A line not kept as long is at most the long-line size: its start is within that many bytes.
+    const block = this.blockOf(last).offset;
+    const from = Math.max(block, this.end - this.longLineBytes - 1);
+    const bytes = Buffer.from(await io.readAt(from, this.end - from));
+    const nl = bytes.lastIndexOf(10);
+    if (nl >= 0) return from + nl + 1;
+    if (from === block) return block;
+    throw io.changed();
+  }
+}
+
+/** How the index reads the (decompressed) file's bytes back. */
+export interface LineReader {
+  /** `length` bytes at `offset`, fewer where the file ends first. */
+  readAt(offset: number, length: number): Promise<Uint8Array>;
+  /** Exactly `length` bytes at `offset`; throws `changed()` where the file ends first. */
+  readExact(offset: number, length: number): Promise<Uint8Array>;
+  /** The error for a file that no longer matches its index (changed while open). */
+  changed(): Error;
+}
+
+/**
+ * Feeds bytes [from, to) of a plain file to `finder`: synchronous reads into one reused buffer (the
+ * fastest plain way to find line ends), and every INDEX_YIELD_BYTES a `pause` (by default a turn of
+ * the event loop, so that cancelling and page reads get through; it may throw to stop). Returns
+ * where the reads stopped: `to`, or before it where the file ended first.
+ */
+export async function indexFileRange(fd: number, finder: LineFinder, from: number, to: number, pause: (done: number) => Promise<void> = nextTurn): Promise<number> {
+  const buf = new Uint8Array(INDEX_CHUNK_BYTES);
+  let done = from;
+  let sinceYield = 0;
+  while (done < to) {
+    const n = readSync(fd, buf, 0, Math.min(buf.length, to - done), done);
+    if (n === 0) break;
+    finder.push(buf.subarray(0, n));
+    done += n;
+    if ((sinceYield += n) >= INDEX_YIELD_BYTES) {
+      sinceYield = 0;
+      await pause(done);
+    }
+  }
+  return done;
+}
+
+/** A turn of the event loop. */
+export function nextTurn(): Promise<void> {
+  return new Promise<void>((resolve) => setImmediate(resolve));
+}
+
+/**
+ * Reads lines [start, end) through the index and hands each to `take` in order: its number, start,
+ * bytes (null for a line over the index's line limit, which is never read) and length. Reads start
+ * at the block holding `start` (at most BLOCK_LINES - 1 lines are read for nothing); neighbouring
+ * lines come in one positional read sized from the average line, a very long line on its own.
+ */
+export async function walkLines(
+  idx: LineIndex,
+  start: number,
+  end: number,
+  io: LineReader,
+  take: (line: number, at: number, bytes: Uint8Array | null, length: number) => void,
+  signal?: AbortSignal,
+): Promise<void> {
+  const block = idx.blockOf(start);
+  let line = block.line;
+  let pos = block.offset;
+  let long = idx.longFrom(line);
+  const average = idx.end / Math.max(1, idx.lines);
+  let least = 64 * 1024;
+  while (line < end) {
+    if (signal?.aborted) throw new CancelledError('reading was cancelled');
+    const nextLong = long < idx.longEntries.length ? idx.longEntries.get(long) : Number.POSITIVE_INFINITY;
+    if (line === nextLong) {
+      // A very long line is read on its own (or, over the limit, not at all).
+      const at = idx.longStarts.get(long);
+      const length = idx.longLengths.get(long);
+      if (line >= start) take(line, at, length > idx.maxLineBytes ? null : await io.readExact(at, length), length);
+      pos = at + length + (line === idx.lines - 1 && idx.lastUnterminated ? 0 : 1);
+      line++;
+      long++;
+      continue;
+    }
+    // One positional read for a run of neighbouring lines, sized from the average line.
+    const stopAt = nextLong === Number.POSITIVE_INFINITY ? idx.end : idx.longStarts.get(long);
+    const want = Math.max(least, Math.ceil((Math.min(end, nextLong) - line) * average * 1.25) + 4096);
+    const segEnd = Math.min(stopAt, pos + Math.min(READ_SEGMENT_BYTES, want));
+    const buf = Buffer.from(await io.readExact(pos, segEnd - pos));
+    let i = 0;
+    while (line < end && line < nextLong) {
+      const nl = buf.indexOf(10, i);
+      if (nl < 0) {
+        // The file's final line has no `\n`.
+        if (segEnd === idx.end && line === idx.lines - 1 && idx.lastUnterminated && i < buf.length) {
+          if (line >= start) take(line, pos + i, buf.subarray(i), buf.length - i);
+          line++;
+          i = buf.length;
+        }
+        break;
+      }
+      if (line >= start) take(line, pos + i, buf.subarray(i, nl), nl - i);
+      line++;
+      i = nl + 1;
+    }
+    if (i === 0 && line < end) {
+      // A line longer than the estimate: read again with room for any line under the long-line size.
+      if (segEnd < stopAt && least < READ_SEGMENT_BYTES) {
+        least = READ_SEGMENT_BYTES;
+        continue;
+      }
+      throw io.changed();
+    }
+    least = 64 * 1024;
+    pos += i;
   }
 }
 

@@ -31,6 +31,8 @@ export interface Entry {
   value?: unknown;
   /** Findings the source itself raised (read, encoding, json families), already located. */
   findings: Finding[];
+  /** The entry is empty or white space only (a blank JSON Lines line): it holds no record and is no syntax error. */
+  blank?: true;
   /**
    * The file's final line, without its `\n` and not (yet) a JSON value, while the file is growing
    * (a job still writing it): shown as incomplete, its syntax finding held back until it settles.

@@ -42,3 +42,39 @@ it('duplicate names and lone surrogates in a pretty-printed array, at their plac
   expect(la.findings.map((f) => f.rule)).toEqual(a.findings.map((f) => f.rule));
   expect(lb.findings.map((f) => f.rule)).toEqual(b.findings.map((f) => f.rule));
 });
+
+it('unsafe integers come from the same scanner too: the same findings as on JSON Lines lines, at their places in the file', async () => {
+  // Each value at a place String.indexOf finds: an unsafe integer (RFC 8259 §6) among other notes.
+  const text = '[\n  {"id": 9007199254740993, "k": 1, "k": 2},\n  {\n    "n": [1,\n      -9007199254740993],\n    "t": "\\udc00"\n  }\n]\n';
+  const p = join(dir, 'numbers.json');
+  writeFileSync(p, text);
+  const [a, b] = await entriesOf(p);
+  const lines = join(dir, 'numbers.jsonl');
+  writeFileSync(lines, '{"id": 9007199254740993, "k": 1, "k": 2}\n{"n": [1, -9007199254740993], "t": "\\udc00"}\n');
+  const [la, lb] = await entriesOf(lines);
+  const what = (e: Entry) => e.findings.map((f) => [f.rule, f.message, f.pointer, f.record]);
+  expect(what(a)).toEqual(what(la));
+  expect(what(b)).toEqual(what(lb));
+  expect(what(b).map((x) => x[0])).toEqual(['number-unsafe', 'surrogate-unpaired']);
+  const at = (e: Entry, rule: string) => {
+    const f = e.findings.find((x) => x.rule === rule)!;
+    return { line: f.line, column: f.column };
+  };
+  expect(at(a, 'number-unsafe')).toEqual(placeOf(text, text.indexOf('9007199254740993')));
+  expect(at(a, 'key-duplicate')).toEqual(placeOf(text, text.lastIndexOf('"k"')));
+  expect(at(b, 'number-unsafe')).toEqual(placeOf(text, text.indexOf('-9007199254740993')));
+  expect(at(b, 'surrogate-unpaired')).toEqual(placeOf(text, text.indexOf('\\udc00')));
+});
+
+it('an element the file cuts short keeps the scanner findings before the cut', async () => {
+  const text = '[{"a": 1}, {"b": [1, 9007199254740993, 2';
+  const p = join(dir, 'cut.json');
+  writeFileSync(p, text);
+  const [, cut] = await entriesOf(p);
+  expect(cut.record).toBeNull();
+  expect(cut.findings.map((f) => [f.rule, f.pointer])).toEqual([
+    ['read-truncated', null],
+    ['number-unsafe', '/b/1'],
+  ]);
+  expect(cut.findings[1]).toMatchObject(placeOf(text, text.indexOf('9007199254740993')));
+});

@@ -4,7 +4,8 @@
 // the test: split the bytes on 0x0A and JSON.parse each piece (ECMA-404 / RFC 8259 via V8).
 
 import { afterAll, describe, expect, it } from 'vitest';
-import { JsonlSource, classifyLine } from '../../../../src/engine/sources/jsonl.js';
+import { JsonlSource } from '../../../../src/engine/sources/jsonl.js';
+import { classifyLine } from '../../../../src/engine/sources/textEntry.js';
 import { LineFinder, LineIndex, NumberList } from '../../../../src/engine/sources/lineIndex.js';
 import { mulberry32, tempDir, writeShard } from './jsonl-helpers.js';
 
