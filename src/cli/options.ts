@@ -1,10 +1,9 @@
-// The command line's options: one table, read by every verb's parser and its --help. Options that
-// mirror a setting write the setting's key, so a project file and a flag mean the same thing.
+// The command line's options: one table, read by every verb's parser and its --help. The options
+// that set a setting are declared with the setting (its `cli`, beside the check that owns it) and
+// write the setting's key, so a project file and a flag mean the same thing.
 
-import { ENCODINGS } from '../engine/config.js';
-import { LAYOUT_IDS } from '../engine/layouts/index.js';
-import { RULE_LEVELS } from '../engine/policy.js';
-import { FAIL_LEVELS, checkValue, settingSpec, type SettingValues } from '../engine/project.js';
+import { SETTINGS, checkValue, settingSpec, type SettingValues } from '../engine/project.js';
+import type { CliFlag } from '../engine/settings.js';
 
 export class UsageError extends Error {
   constructor(message: string) {
@@ -32,7 +31,7 @@ export interface Parsed {
 
 interface OptionDef {
   flag: string;
-  alias?: string[];
+  alias?: readonly string[];
   value?: string;
   help: string;
   /** The setting it sets, if any. */
@@ -45,30 +44,47 @@ interface OptionDef {
 
 const CHECKING = ['check', 'stats'] as const;
 const RECORDS = ['sample', 'head', 'slice'] as const;
+const VERB_SETS: Record<NonNullable<CliFlag['verbs']>, readonly string[]> = { checking: CHECKING, reading: [...CHECKING, ...RECORDS], gate: ['check'] };
 const listOf = (v: string) => v.split(',').map((s) => s.trim()).filter(Boolean);
 
+/** The options each setting declares (its `cli`), in the settings' order. */
+function settingOptions(): OptionDef[] {
+  return SETTINGS.flatMap((spec) =>
+    (spec.cli ?? []).map((c): OptionDef => {
+      const byType = (v: string, prev: unknown): unknown => {
+        if (!c.value) return true;
+        if (spec.type === 'integer') return Number(v);
+        if (spec.type === 'strings') return c.repeat ? [...((prev as string[]) ?? []), v] : listOf(v);
+        return v;
+      };
+      const convert = c.convert ?? byType;
+      return {
+        flag: c.flag,
+        alias: c.alias,
+        value: c.value,
+        help: c.help,
+        setting: spec.key,
+        repeat: c.repeat,
+        verbs: VERB_SETS[c.verbs ?? 'checking'],
+        convert: (v, prev) => {
+          try {
+            return convert(v, prev);
+          } catch (e) {
+            throw new UsageError(`${c.flag} ${(e as Error).message}`);
+          }
+        },
+      };
+    }),
+  );
+}
+
+/** Every option: the command line's own, and those the settings declare. */
 export const OPTIONS: readonly OptionDef[] = [
   { flag: '--config', value: 'FILE', help: 'use this project file for every data file instead of looking for shardwise.json', verbs: [...CHECKING] },
   { flag: '--no-config', help: 'ignore every project file', verbs: [...CHECKING] },
   { flag: '--schema', value: 'FILE', help: 'validate every record against this JSON Schema (draft 2020-12 or draft-07), whatever the project file maps', setting: 'schema.file', verbs: [...CHECKING], convert: (v) => v },
-  { flag: '--encoding', value: 'NAME', help: `token encoding: ${ENCODINGS.join(', ')} (default cl100k_base)`, setting: 'tokens.encoding', verbs: [...CHECKING] },
-  { flag: '--tokenizer', value: 'ENCODING|PATH', help: 'a built-in encoding or a model folder holding tokenizer.json (and tokenizer_config.json with a chat template)', setting: 'tokens.tokenizer', verbs: [...CHECKING] },
-  { flag: '--context-length', alias: ['--context'], value: 'N', help: 'context length in tokens; longer records are findings (default 8192)', setting: 'tokens.contextLength', verbs: [...CHECKING] },
-  { flag: '--text-field', value: 'NAME', repeat: true, help: "field holding a plain record's text (repeatable; default: text, content, document, body, passage)", setting: 'text.fields', verbs: [...CHECKING], convert: (v, prev) => [...((prev as string[]) ?? []), v] },
-  { flag: '--layout', value: 'ID', help: `how records are read: auto (decided from the shard's first records) or one of ${LAYOUT_IDS.join(', ')}`, setting: 'layout.default', verbs: [...CHECKING] },
-  { flag: '--turns-field', value: 'NAME', repeat: true, help: 'a key holding a list of turns, tried before messages/conversations/conversation/dialog (repeatable)', setting: 'layout.fields', verbs: [...CHECKING], convert: (v, prev) => addField(prev, 'turns', v) },
-  { flag: '--role-field', value: 'NAME', repeat: true, help: 'a turn key holding the role, tried before role/from (repeatable)', setting: 'layout.fields', verbs: [...CHECKING], convert: (v, prev) => addField(prev, 'role', v) },
-  { flag: '--content-field', value: 'NAME', repeat: true, help: 'a turn key holding the content, tried before content/value/text (repeatable)', setting: 'layout.fields', verbs: [...CHECKING], convert: (v, prev) => addField(prev, 'content', v) },
-  { flag: '--roles', value: 'LIST', help: 'allowed chat roles, comma-separated (default system,user,assistant,tool)', setting: 'chat.roles', verbs: [...CHECKING], convert: listOf },
-  { flag: '--allow-repeated-roles', help: 'do not report the same role twice in a row', setting: 'chat.allowRepeatedRoles', verbs: [...CHECKING], convert: () => true },
-  { flag: '--require-conversation', value: 'auto|always|never', help: "report records without a conversation (default auto: when the shard's first records are chats)", setting: 'chat.requireConversation', verbs: [...CHECKING] },
-  { flag: '--max-line-mib', value: 'N', help: 'lines longer than N MiB are findings and are not parsed (default 64)', setting: 'lines.maxMiB', verbs: [...CHECKING, ...RECORDS] },
-  { flag: '--memory-mib', value: 'N', help: 'memory cap per reader: a Parquet page or row group, or an Arrow batch, declaring more than N MiB is a read-limit finding, not decoded (default 1024)', setting: 'reading.memoryMiB', verbs: [...CHECKING, ...RECORDS] },
-  { flag: '--max-line-bytes', value: 'N', help: 'the same limit to the byte (default 67108864)', setting: 'lines.maxBytes', verbs: [...CHECKING, ...RECORDS], convert: (v) => exactBytes(v) },
-  { flag: '--checks', value: 'LIST', help: 'record checks that run, comma-separated: layout, chat, pairs, schema, tokens (default all; without tokens nothing is counted); reading the records always runs', setting: 'checks', verbs: [...CHECKING], convert: listOf },
-  { flag: '--rule', value: 'ID=LEVEL', repeat: true, help: `set a rule's severity: ${RULE_LEVELS.join(', ')} (repeatable; \`shardwise rules\` lists the ids)`, setting: 'rules', verbs: [...CHECKING], convert: addRule },
-  { flag: '--fail-on', value: FAIL_LEVELS.join('|'), help: 'exit 1 when a finding at or above this severity is found (default error)', setting: 'check.failOn', verbs: ['check'] },
-  { flag: '--max-findings', value: 'N', help: 'list at most N findings per file; all are still counted (default 10000)', setting: 'check.maxFindings', verbs: ['check'] },
+  ...settingOptions(),
+  { flag: '--max-line-bytes', value: 'N', help: 'the line limit of --max-line-mib to the byte (default 67108864)', setting: 'lines.maxBytes', verbs: [...CHECKING, ...RECORDS], convert: (v) => exactBytes(v) },
   { flag: '--baseline', value: 'FILE', help: 'fail only on findings that are not in this baseline (matched by rule, file and record identity)', verbs: ['check'] },
   { flag: '--write-baseline', value: 'FILE', help: 'write the findings of this run as a baseline file', verbs: ['check'] },
   { flag: '--stall-seconds', value: 'N', help: 'stop reading a file that makes no progress (no record, no byte) for N seconds, with a read-stalled error (default 10; 0 never stops)', verbs: [...CHECKING] },
@@ -87,18 +103,6 @@ function exactBytes(v: string): number {
   const n = Number(v);
   if (!Number.isSafeInteger(n) || n < 16 || n > 2 ** 31 - 1) throw new UsageError(`--max-line-bytes takes a whole number from 16 to ${2 ** 31 - 1}, not "${v}"`);
   return n;
-}
-
-function addField(prev: unknown, key: 'turns' | 'role' | 'content', v: string): unknown {
-  const f = { ...((prev as Record<string, string[]>) ?? {}) };
-  f[key] = [...(f[key] ?? []), v];
-  return f;
-}
-
-function addRule(v: string, prev: unknown): unknown {
-  const eq = v.indexOf('=');
-  if (eq <= 0) throw new UsageError(`--rule takes ID=LEVEL (e.g. chat-role-repeated=off), not "${v}"`);
-  return { ...((prev as Record<string, string>) ?? {}), [v.slice(0, eq)]: v.slice(eq + 1) };
 }
 
 export const VERBS: Record<string, { usage: string; summary: string }> = {
@@ -146,7 +150,6 @@ export function parseCommandLine(argv: readonly string[]): Parsed | 'help' | { h
       const prev = parsed.settings[def.setting];
       let v: unknown = def.convert ? def.convert(value as string, prev) : value;
       const spec = settingSpec(def.setting);
-      if (spec && !def.convert && (spec.type === 'integer')) v = Number(value);
       if (spec) v = checkValue(spec, v, (m) => new UsageError(`${def.flag} ${m}`));
       parsed.settings[def.setting] = v;
     } else {

@@ -21,7 +21,15 @@ export type FailLevel = (typeof FAIL_LEVELS)[number];
 
 /** The settings of the core (reading, rule levels, which checks run, the CI gate); each check declares its own. */
 const CORE_SETTINGS: readonly SettingSpec[] = [
-  { key: 'lines.maxMiB', type: 'integer', min: 1, max: 2047, summary: 'lines longer than this many MiB are findings and are not parsed', apply: (c, v) => (c.maxLineBytes = (v as number) * MIB) },
+  {
+    key: 'lines.maxMiB',
+    type: 'integer',
+    min: 1,
+    max: 2047,
+    summary: 'lines longer than this many MiB are findings and are not parsed',
+    apply: (c, v) => (c.maxLineBytes = (v as number) * MIB),
+    cli: [{ flag: '--max-line-mib', value: 'N', verbs: 'reading', help: 'lines longer than N MiB are findings and are not parsed (default 64)' }],
+  },
   {
     key: 'reading.memoryMiB',
     type: 'integer',
@@ -29,18 +37,60 @@ const CORE_SETTINGS: readonly SettingSpec[] = [
     max: 3072,
     summary: 'memory cap per reader in MiB: a Parquet page or row group, or an Arrow batch, declaring more is a read-limit finding, not decoded',
     apply: (c, v) => (c.maxReaderBytes = (v as number) * MIB),
+    cli: [
+      {
+        flag: '--memory-mib',
+        value: 'N',
+        verbs: 'reading',
+        help: 'memory cap per reader: a Parquet page or row group, or an Arrow batch, declaring more than N MiB is a read-limit finding, not decoded (default 1024)',
+      },
+    ],
   },
-  { key: 'rules', type: 'map', values: () => RULE_LEVELS, summary: 'rule id → error, warning, info or off', apply: (c, v) => (c.rules = { ...(c.rules ?? {}), ...(v as Record<string, RuleLevel>) }) },
+  {
+    key: 'rules',
+    type: 'map',
+    values: () => RULE_LEVELS,
+    summary: 'rule id → error, warning, info or off',
+    apply: (c, v) => (c.rules = { ...(c.rules ?? {}), ...(v as Record<string, RuleLevel>) }),
+    cli: [{ flag: '--rule', value: 'ID=LEVEL', repeat: true, help: `set a rule's severity: ${RULE_LEVELS.join(', ')} (repeatable; \`shardwise rules\` lists the ids)`, convert: addRule }],
+  },
   {
     key: 'checks',
     type: 'strings',
     values: () => CHECK_NAMES,
     summary: `record checks that run (default all: ${CHECK_NAMES.join(', ')}); reading the records always runs`,
     apply: (c, v) => (c.checks = [...(v as string[])]),
+    cli: [
+      {
+        flag: '--checks',
+        value: 'LIST',
+        help: `record checks that run, comma-separated: ${CHECK_NAMES.join(', ')} (default all; without tokens nothing is counted); reading the records always runs`,
+      },
+    ],
   },
-  { key: 'check.failOn', type: 'enum', values: () => FAIL_LEVELS, summary: 'the severity that fails a CI run (error, warning or never)' },
-  { key: 'check.maxFindings', type: 'integer', min: 1, max: 100_000_000, summary: 'most findings listed per file (all are counted)' },
+  {
+    key: 'check.failOn',
+    type: 'enum',
+    values: () => FAIL_LEVELS,
+    summary: 'the severity that fails a CI run (error, warning or never)',
+    cli: [{ flag: '--fail-on', value: FAIL_LEVELS.join('|'), verbs: 'gate', help: 'exit 1 when a finding at or above this severity is found (default error)' }],
+  },
+  {
+    key: 'check.maxFindings',
+    type: 'integer',
+    min: 1,
+    max: 100_000_000,
+    summary: 'most findings listed per file (all are counted)',
+    cli: [{ flag: '--max-findings', value: 'N', verbs: 'gate', help: 'list at most N findings per file; all are still counted (default 10000)' }],
+  },
 ];
+
+/** `--rule ID=LEVEL`, added to the rules given before it. */
+function addRule(v: string, prev: unknown): unknown {
+  const eq = v.indexOf('=');
+  if (eq <= 0) throw new Error(`takes ID=LEVEL (e.g. chat-role-repeated=off), not "${v}"`);
+  return { ...((prev as Record<string, string>) ?? {}), [v.slice(0, eq)]: v.slice(eq + 1) };
+}
 
 /** Every setting a project file may hold: the checks' own, in check order, then the core's. */
 export const SETTINGS: readonly SettingSpec[] = [...ALL_CHECKS.flatMap((c) => c.settings ?? []), ...CORE_SETTINGS];

@@ -23,4 +23,25 @@ export interface SettingSpec {
   apply?(config: CheckConfig, value: unknown): void;
   /** The editor reads this setting itself (it names files or depends on the file's path), not through `apply`. */
   editorReadsItself?: boolean;
+  /** The command line's options that set it (`shardwise VERB --help` lists them). */
+  cli?: readonly CliFlag[];
+}
+
+/** One command-line option that sets a setting. */
+export interface CliFlag {
+  flag: string;
+  alias?: readonly string[];
+  /** The value's placeholder in help; absent for a switch, which sets true. */
+  value?: string;
+  help: string;
+  /** The option may be given more than once. */
+  repeat?: boolean;
+  /** The verbs that take it: check and stats (the default), those and the record verbs, or check alone. */
+  verbs?: 'checking' | 'reading' | 'gate';
+  /**
+   * The option's text (with the value it built so far) → the setting's value. By default, by the
+   * setting's type: a number for an integer, true for a switch, a comma-separated list for strings
+   * (appended to when repeatable), the text itself otherwise. Throws Error with a clear message.
+   */
+  convert?: (text: string, prev: unknown) => unknown;
 }

@@ -193,14 +193,27 @@ export const chatCheck: Check = {
   name: 'chat',
   rules: CHAT_RULES,
   settings: [
-    { key: 'chat.roles', type: 'strings', summary: 'roles a turn may have', apply: (c, v) => (c.chat.roles = [...(v as string[])]) },
-    { key: 'chat.allowRepeatedRoles', type: 'boolean', summary: 'allow the same role twice in a row', apply: (c, v) => (c.chat.allowRepeatedRoles = v as boolean) },
+    {
+      key: 'chat.roles',
+      type: 'strings',
+      summary: 'roles a turn may have',
+      apply: (c, v) => (c.chat.roles = [...(v as string[])]),
+      cli: [{ flag: '--roles', value: 'LIST', help: 'allowed chat roles, comma-separated (default system,user,assistant,tool)' }],
+    },
+    {
+      key: 'chat.allowRepeatedRoles',
+      type: 'boolean',
+      summary: 'allow the same role twice in a row',
+      apply: (c, v) => (c.chat.allowRepeatedRoles = v as boolean),
+      cli: [{ flag: '--allow-repeated-roles', help: 'do not report the same role twice in a row' }],
+    },
     {
       key: 'chat.requireConversation',
       type: 'enum',
       values: () => ['auto', 'always', 'never'],
       summary: 'whether a record without a conversation is reported',
       apply: (c, v) => (c.chat.requireConversation = v === 'always' ? true : v === 'never' ? false : 'auto'),
+      cli: [{ flag: '--require-conversation', value: 'auto|always|never', help: "report records without a conversation (default auto: when the shard's first records are chats)" }],
     },
   ],
   checkRecord(rec: RecordUnderCheck, config: CheckConfig, out: RecordResult): void {

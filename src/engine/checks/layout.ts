@@ -87,11 +87,24 @@ function checkMedia(reading: RecordReading, config: CheckConfig, out: RecordIssu
   }
 }
 
+/** One more name for one of the layout's field lists (`--turns-field`, `--role-field`, `--content-field`). */
+function addField(prev: unknown, key: 'turns' | 'role' | 'content', v: string): unknown {
+  const f = { ...((prev as Record<string, string[]>) ?? {}) };
+  f[key] = [...(f[key] ?? []), v];
+  return f;
+}
+
 export const layoutCheck: Check = {
   name: 'layout',
   rules: [...LAYOUT_RULES, ...OWN_RULES],
   settings: [
-    { key: 'text.fields', type: 'strings', summary: "fields looked for, in order, as a plain record's text", apply: (c, v) => (c.textFields = [...(v as string[])]) },
+    {
+      key: 'text.fields',
+      type: 'strings',
+      summary: "fields looked for, in order, as a plain record's text",
+      apply: (c, v) => (c.textFields = [...(v as string[])]),
+      cli: [{ flag: '--text-field', value: 'NAME', repeat: true, help: "field holding a plain record's text (repeatable; default: text, content, document, body, passage)" }],
+    },
     {
       key: 'layout.default',
       type: 'enum',
@@ -99,6 +112,7 @@ export const layoutCheck: Check = {
       summary: "how records are read ('auto': decided per shard)",
       apply: (c, v) => (c.layout = { ...c.layout, id: v as string }),
       editorReadsItself: true,
+      cli: [{ flag: '--layout', value: 'ID', help: `how records are read: auto (decided from the shard's first records) or one of ${LAYOUT_IDS.join(', ')}` }],
     },
     { key: 'layout.byGlob', type: 'map', values: () => ['auto', ...LAYOUT_IDS], summary: 'file glob → layout, before layout.default', editorReadsItself: true },
     {
@@ -107,6 +121,11 @@ export const layoutCheck: Check = {
       summary: 'your field names: {"turns": [...], "role": [...], "content": [...]}',
       apply: (c, v) => (c.layout = { ...c.layout, fields: { ...(v as LayoutFields) } }),
       editorReadsItself: true,
+      cli: [
+        { flag: '--turns-field', value: 'NAME', repeat: true, help: 'a key holding a list of turns, tried before messages/conversations/conversation/dialog (repeatable)', convert: (v, prev) => addField(prev, 'turns', v) },
+        { flag: '--role-field', value: 'NAME', repeat: true, help: 'a turn key holding the role, tried before role/from (repeatable)', convert: (v, prev) => addField(prev, 'role', v) },
+        { flag: '--content-field', value: 'NAME', repeat: true, help: 'a turn key holding the content, tried before content/value/text (repeatable)', convert: (v, prev) => addField(prev, 'content', v) },
+      ],
     },
   ],
   checkRecord(rec: RecordUnderCheck, config: CheckConfig, out: RecordResult): void {

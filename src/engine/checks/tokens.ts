@@ -59,13 +59,21 @@ export const tokensCheck: Check = {
   name: 'tokens',
   rules: TOKENS_RULES,
   settings: [
-    { key: 'tokens.encoding', type: 'enum', values: () => ENCODINGS, summary: 'token encoding for counts and the context check', apply: (c, v) => (c.encoding = v as EncodingName) },
+    {
+      key: 'tokens.encoding',
+      type: 'enum',
+      values: () => ENCODINGS,
+      summary: 'token encoding for counts and the context check',
+      apply: (c, v) => (c.encoding = v as EncodingName),
+      cli: [{ flag: '--encoding', value: 'NAME', help: `token encoding: ${ENCODINGS.join(', ')} (default cl100k_base)` }],
+    },
     {
       key: 'tokens.tokenizer',
       type: 'string',
       summary: 'a built-in encoding or a model folder holding tokenizer.json (relative to the file that names it)',
       apply: (c, v) => (c.tokenizer = v as string),
       editorReadsItself: true,
+      cli: [{ flag: '--tokenizer', value: 'ENCODING|PATH', help: 'a built-in encoding or a model folder holding tokenizer.json (and tokenizer_config.json with a chat template)' }],
     },
     {
       key: 'tokens.contextLength',
@@ -74,6 +82,7 @@ export const tokensCheck: Check = {
       max: 100_000_000,
       summary: 'context window in tokens; longer records are findings',
       apply: (c, v) => (c.contextLength = v as number),
+      cli: [{ flag: '--context-length', alias: ['--context'], value: 'N', help: 'context length in tokens; longer records are findings (default 8192)' }],
     },
   ],
 
