@@ -688,6 +688,8 @@ async function main() {
     const copy = join(tmpdir(), `shardwise-untrusted-demo-${process.pid}`);
     rmSync(copy, { recursive: true, force: true });
     cpSync(demoDir, copy, { recursive: true });
+    // Removed by the run's cleanup too, should the server below not start.
+    cleanups.push(async () => rmSync(copy, { recursive: true, force: true }));
     const srv = await startUntrustedCodeServer({ vsix, folder: copy, log: (x) => console.log(`[workbench] ${x}`) });
     const page2 = await context.newPage();
     const main = wb;

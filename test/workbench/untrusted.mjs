@@ -44,7 +44,10 @@ export async function startUntrustedCodeServer({ vsix, folder, log = () => {} })
   });
   const common = ['--config', config, '--user-data-dir', userData, '--extensions-dir', extensions];
   log(`installing ${vsix} for the Restricted Mode run`);
-  await run(node, [entry, ...common, '--install-extension', vsix], { env, label: 'code-server --install-extension', quiet: true });
+  await run(node, [entry, ...common, '--install-extension', vsix], { env, label: 'code-server --install-extension', quiet: true }).catch((e) => {
+    rmSync(workDir, { recursive: true, force: true });
+    throw e;
+  });
   // No --disable-workspace-trust here: that flag is what the main run uses to skip trust.
   const args = [entry, ...common, '--bind-addr', `127.0.0.1:${port}`, '--auth', 'none', '--disable-telemetry', '--disable-update-check', '--disable-getting-started-override', '--ignore-last-opened', folder];
   const child = spawn(node, args, { env, detached: true, stdio: ['ignore', 'pipe', 'pipe'] });
