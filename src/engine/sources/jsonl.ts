@@ -12,7 +12,7 @@ import { LONG_LINE_BYTES, LineFinder, LineIndex, indexFileRange, nextTurn, walkL
 import { buildEntry, classifyLine, formatBytes } from './textEntry.js';
 import { jsonlRule, type JsonlRuleId } from './jsonlRules.js';
 import type { Entry, FileChange, Progress, RecordSource, ScanOptions, SourceInfo } from './source.js';
-import { DecompressError, decompress } from './decompress.js';
+import { DecompressError, compressionOf, decompress, type Compression } from './decompress.js';
 import { DiskSpaceError, MIN_FREE_BYTES, freeBytes, makeTempDir } from './tempFiles.js';
 import { CancelledError, isCancelled } from '../errors.js';
 
@@ -29,7 +29,6 @@ export interface JsonlOptions {
   exactCatchUpBytes?: number;
 }
 
-export type Compression = 'none' | 'gzip' | 'zstd';
 
 /** A finished JSONL line index kept between sessions. */
 export interface JsonlIndexSnapshot {
@@ -53,13 +52,6 @@ const DISK_CHECK_BYTES = 64 * 1024 * 1024;
 const EXACT_CATCH_UP_BYTES = 64 * 1024 * 1024;
 /** The indexed bytes' last this many are kept, to tell an appended file from a rewritten one. */
 const TAIL_BYTES = 4096;
-
-export function compressionOf(path: string): Compression {
-  const lower = path.toLowerCase();
-  if (lower.endsWith('.gz')) return 'gzip';
-  if (lower.endsWith('.zst')) return 'zstd';
-  return 'none';
-}
 
 /**
  * Chunks of the decompressed stream; `onInput` reports compressed bytes consumed. Throws a
