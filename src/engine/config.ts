@@ -57,9 +57,6 @@ export interface CheckConfig {
   checks?: string[];
 }
 
-/** The record checks by name, in the order they run (checks/index.ts lists them; a test keeps both alike). */
-export const CHECK_NAMES = ['layout', 'chat', 'pairs', 'schema', 'tokens'] as const;
-
 export const DEFAULT_CONFIG: CheckConfig = {
   layout: { id: 'auto', fields: {} },
   encoding: 'cl100k_base',

@@ -3,8 +3,8 @@
 // per setting (its key, type, bounds and summary) serves the file, the CLI options and the
 // editor's settings. Pure: reading files and matching globs against paths is the caller's I/O.
 
-import { ALL_CHECKS } from './checks/index.js';
-import { CHECK_NAMES, withDefaults, type CheckConfig } from './config.js';
+import { ALL_CHECKS, CHECK_NAMES } from './checks/index.js';
+import { withDefaults, type CheckConfig } from './config.js';
 import { globToRegExp } from './globs.js';
 import type { LayoutFields } from './layouts/layout.js';
 import { RULE_LEVELS, type RuleLevel } from './policy.js';

@@ -8,3 +8,6 @@ import { schemaCheck } from './schema.js';
 import { tokensCheck } from './tokens.js';
 
 export const ALL_CHECKS: readonly Check[] = [layoutCheck, chatCheck, pairCheck, schemaCheck, tokensCheck];
+
+/** The record checks by name, in the order they run: what `--checks` and the project file's `checks` take. */
+export const CHECK_NAMES: readonly string[] = ALL_CHECKS.map((c) => c.name);
