@@ -20,13 +20,11 @@ import { Baseline, writeBaseline } from './baseline.js';
 import { InputError, expandInputs, type InputFile } from './inputs.js';
 import { InputProblem, parseCommandLine, verbHelp, UsageError, VERBS, type Parsed } from './options.js';
 export { InputProblem };
-import { jsonPrinter } from './printers/json.js';
-import { sarifPrinter } from './printers/sarif.js';
-import { textPrinter } from './printers/text.js';
+import { PRINTERS, printerNames } from './printers/index.js';
 import { ProgressBar } from './progress.js';
 import { ProjectFiles } from './projectFiles.js';
 import { printRecords } from './records.js';
-import type { FileExtras, FileReport, Printer, Report, ReportFinding, TotalReport } from './report.js';
+import type { FileExtras, FileReport, Report, ReportFinding, TotalReport } from './report.js';
 import { mergeReports, statsDocument, printStatsText, type StatsFile } from './stats.js';
 
 declare const SHARDWISE_VERSION: string | undefined;
@@ -184,9 +182,8 @@ async function checkVerb(parsed: Parsed, out: NodeJS.WritableStream, err: NodeJS
   const stats = parsed.verb === 'stats';
   const format = (parsed.opts.format as string | undefined) ?? 'text';
   const rules = registry();
-  const printers: Record<string, Printer> = stats ? {} : { text: textPrinter, json: jsonPrinter, sarif: sarifPrinter(rules, VERSION) };
-  if (!(stats ? ['text', 'json'].includes(format) : printers[format])) {
-    throw new UsageError(`unknown format "${format}" for ${parsed.verb} (${stats ? 'text or json' : 'text, json or sarif'})`);
+  if (!(stats ? ['text', 'json'].includes(format) : PRINTERS[format])) {
+    throw new UsageError(`unknown format "${format}" for ${parsed.verb} (${stats ? 'text or json' : printerNames()})`);
   }
   if (parsed.positional.length === 0) throw new UsageError(`no file given (try: shardwise ${parsed.verb} PATH...)`);
   const workers = workerCount(parsed);
@@ -247,7 +244,7 @@ async function checkVerb(parsed: Parsed, out: NodeJS.WritableStream, err: NodeJS
     return 0;
   }
   const report: Report = { files: results.map((r) => r.report), total: totalOf(total, results) };
-  printers[format].print(report, results.map((r) => r.extras), out);
+  PRINTERS[format]!({ rules, version: VERSION }).print(report, results.map((r) => r.extras), out);
   return results.some((r) => r.failing > 0) ? 1 : 0;
 }
 

@@ -4,6 +4,7 @@
 
 import { SETTINGS, checkValue, settingSpec, type SettingValues } from '../engine/project.js';
 import type { CliFlag } from '../engine/settings.js';
+import { printerNames } from './printers/index.js';
 
 export class UsageError extends Error {
   constructor(message: string) {
@@ -90,7 +91,7 @@ export const OPTIONS: readonly OptionDef[] = [
   { flag: '--stall-seconds', value: 'N', help: 'stop reading a file that makes no progress (no record, no byte) for N seconds, with a read-stalled error (default 10; 0 never stops)', verbs: [...CHECKING] },
   { flag: '--workers', value: 'auto|N', help: 'worker threads (default auto: one per core, up to 4)', verbs: [...CHECKING] },
   { flag: '--in-thread', help: 'check in this thread, without worker threads (small files, debugging); a reader that stops making progress ends the process with a message instead of a report', verbs: [...CHECKING] },
-  { flag: '--format', value: 'FORMAT', help: 'output: text or json (check also sarif)', verbs: [...CHECKING, 'merge', 'rules'] },
+  { flag: '--format', value: 'FORMAT', help: `output: text or json (check: ${printerNames()})`, verbs: [...CHECKING, 'merge', 'rules'] },
   { flag: '--output', alias: ['-o'], value: 'FILE', help: 'write the report to FILE instead of standard output (never over the data)', verbs: [...CHECKING, 'merge', ...RECORDS] },
   { flag: '--quiet', alias: ['-q'], help: 'no progress bar on standard error', verbs: [...CHECKING] },
   { flag: '--count', alias: ['-n'], value: 'N', help: 'how many records (sample, head: default 10)', verbs: ['sample', 'head'] },
