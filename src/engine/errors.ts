@@ -3,7 +3,7 @@
 // made again as the same class on the other side (`errorFromWire`).
 
 /** What kind of failure an error is, as it crosses a thread boundary. */
-export type ErrorKind = 'cancelled' | 'setup' | 'decoder-trap' | 'other';
+export type ErrorKind = 'cancelled' | 'setup' | 'decoder-trap' | 'unsupported' | 'read-failure' | 'other';
 
 /** The work was stopped on purpose (the user cancelled, a newer request replaced it). */
 export class CancelledError extends Error {
@@ -34,6 +34,36 @@ export class DecoderTrap extends Error {
 }
 
 /**
+ * The data uses something this reader cannot read (a codec, an encoding, a type, encryption),
+ * found by our own reading of the file's metadata before a decoding library sees the bytes: a
+ * `read-unsupported` finding. `feature` names what it is, `column` the column that carries it.
+ */
+export class UnsupportedFeature extends Error {
+  readonly kind = 'unsupported';
+  constructor(
+    message: string,
+    readonly feature = '',
+    readonly column?: string,
+  ) {
+    super(message);
+    this.name = 'UnsupportedFeature';
+  }
+}
+
+/**
+ * A decoding library refused bytes our own checks let through, so the data is damaged: a
+ * `read-corrupt` finding (or the format's own rule for a footer or header). The message is the
+ * library's own, in one line, for the finding to quote; `cause` keeps what was thrown.
+ */
+export class ReadFailure extends Error {
+  readonly kind = 'read-failure';
+  constructor(message: string, options?: { cause?: unknown }) {
+    super(message, options);
+    this.name = 'ReadFailure';
+  }
+}
+
+/**
  * True for a cancellation: ours, or the standard `AbortError` DOMException an `AbortSignal`'s
  * `throwIfAborted()` throws when no reason was given.
  */
@@ -51,6 +81,8 @@ export function errorKind(err: unknown): ErrorKind {
   if (isCancelled(err)) return 'cancelled';
   if (err instanceof SetupError) return 'setup';
   if (err instanceof DecoderTrap) return 'decoder-trap';
+  if (err instanceof UnsupportedFeature) return 'unsupported';
+  if (err instanceof ReadFailure) return 'read-failure';
   return 'other';
 }
 
@@ -63,6 +95,10 @@ export function errorFromWire(kind: ErrorKind, message: string): Error {
       return new SetupError(message);
     case 'decoder-trap':
       return new DecoderTrap(message);
+    case 'unsupported':
+      return new UnsupportedFeature(message);
+    case 'read-failure':
+      return new ReadFailure(message);
     default:
       return new Error(message);
   }

@@ -4,6 +4,11 @@
 // writer wrote a page index); a whole-file scan decodes by row group. Before the decoder sees a
 // column chunk, the headers of the pages it will decode are read and their declared sizes compared
 // with the memory cap. Decoded rows are cached within a byte budget.
+//
+// What the decoder cannot read (a codec, an encoding, encryption) is decided from the footer by our
+// own reading of it (columnar/parquetFeatures.ts) before the decoder sees the bytes, and becomes
+// `read-unsupported`; whatever the decoder refuses after that is damage (a ReadFailure or a
+// DecoderTrap from guardWasm), whatever its words.
 
 import { tableFromIPC, type RecordBatch, type Schema } from 'apache-arrow';
 import type { Finding } from '../findings.js';
@@ -14,7 +19,8 @@ import { chunkPlaces, pageLocations, readPageHeader, PAGE_TYPE_NAMES, type Chunk
 import { ByteBudgetCache, batchEntries, groupOf, lostEntries } from './columnar/rows.js';
 import { schemaColumns } from './columnar/toJson.js';
 import { guardWasm } from './columnar/wasmGuard.js';
-import { structFieldIds } from './columnar/thrift.js';
+import { chunkRefusal, footerFeatures, footerRefusal, isEncrypted, type FooterFeatures } from './columnar/parquetFeatures.js';
+import { UnsupportedFeature } from '../errors.js';
 import { EMPTY_FILE_MESSAGE } from './jsonl.js';
 
 export { wasmFaults } from './columnar/wasmGuard.js';
@@ -47,7 +53,7 @@ export interface ParquetSourceOptions {
   maxDecodedBytes?: number;
 }
 
-/** Parquet Thrift `CompressionCodec` names, lower-case (parquet-format). */
+/** Codec names by parquet-wasm's `Compression` enum (which numbers them apart from parquet-format's Thrift enum). */
 const CODEC_NAMES = ['uncompressed', 'snappy', 'gzip', 'brotli', 'lz4 (hadoop framing)', 'zstd', 'lz4 raw', 'lzo'];
 
 const MAGIC = [0x50, 0x41, 0x52]; // "PAR"
@@ -80,6 +86,9 @@ interface Decoded {
 /** A page whose header declares more than the memory cap; its rows are refused, not decoded. */
 class PageLimitError extends Error {}
 
+/** Rows whose requested columns decode to more than the budget for one row group: refused, not decoded. */
+class OverBudgetError extends Error {}
+
 export class ParquetSource implements RecordSource {
   readonly format = 'parquet' as const;
   private reader: ByteReader | null = null;
@@ -99,6 +108,10 @@ export class ParquetSource implements RecordSource {
   private offsetIndexes = new Map<number, PageLocation[] | null>();
   /** Page headers read so far, by their byte offset. */
   private headers = new Map<number, PageHeaderFacts | null>();
+  /** Codecs, encodings and encryption each column chunk declares, from our own reading of the footer; null when it does not decode. */
+  private features: FooterFeatures | null = null;
+  /** Set when the schema does not convert to Arrow types: no row can be decoded then. */
+  private schemaRefusal: UnsupportedFeature | null = null;
 
   constructor(
     readonly path: string,
@@ -121,6 +134,12 @@ export class ParquetSource implements RecordSource {
       return this.info();
     }
     await this.readFooter(size);
+    const refusal = this.features ? footerRefusal(this.features) : null;
+    if (refusal) {
+      // The decoder would refuse the whole footer for it; said as what it is, and the decoder is not asked.
+      findings.push(readFinding('read-unsupported', refusal.message));
+      return this.info();
+    }
     let pw: ParquetWasm;
     try {
       pw = await loadWasm();
@@ -132,9 +151,9 @@ export class ParquetSource implements RecordSource {
     try {
       file = await guardWasm(() => pw.ParquetFile.fromFile(blobOf(this.reader!) as unknown as Blob));
     } catch (e) {
-      const text = errorText(e);
-      if (await this.plaintextFooterEncrypted(size)) findings.push(readFinding('read-unsupported', ENCRYPTED_COLUMNS));
-      else findings.push(readFinding(/encrypt/i.test(text) ? 'read-unsupported' : 'read-footer-invalid', `the footer does not decode: ${text}`));
+      // Encryption is what our own reading of the footer says, not what the decoder's message mentions.
+      if (this.features && isEncrypted(this.features)) findings.push(readFinding('read-unsupported', ENCRYPTED_COLUMNS));
+      else findings.push(readFinding('read-footer-invalid', `the footer does not decode: ${errorText(e)}`));
       return this.info();
     }
     this.file = file;
@@ -160,30 +179,17 @@ export class ParquetSource implements RecordSource {
       this.fieldNames = schema.fields.map((f) => f.name);
       this.current.columns = schemaColumns(schema);
     } catch (e) {
-      findings.push(readFinding('read-unsupported', `the schema does not convert to Arrow types: ${errorText(e)}`));
+      this.schemaRefusal = new UnsupportedFeature(`the schema does not convert to Arrow types: ${errorText(e)}`, 'schema');
+      findings.push(readFinding('read-unsupported', this.schemaRefusal.message));
     }
     return this.info();
   }
 
   /**
-   * True when the footer is a FileMetaData carrying `encryption_algorithm` (field 8): Parquet
-   * modular encryption with a plaintext footer, whose columns are encrypted (parquet-format,
-   * Encryption.md).
-   */
-  private async plaintextFooterEncrypted(size: number): Promise<boolean> {
-    try {
-      const tail = await this.reader!.read(size - 8, 4);
-      const len = new DataView(tail.buffer, tail.byteOffset, 4).getUint32(0, true);
-      if (len === 0 || len > size - 12) return false;
-      return structFieldIds(await this.reader!.read(size - 8 - len, len)).includes(8);
-    } catch {
-      return false;
-    }
-  }
-
-  /**
-   * Reads the footer once: our Thrift reader places the column chunks from it, and the decoder's
-   * own read of the same range is answered from these bytes.
+   * Reads the footer once: our Thrift reader places the column chunks from it and lists what each
+   * declares (codec, encodings, encryption), and the decoder's own read of the same range is
+   * answered from these bytes. Encrypted files with a plaintext footer carry `encryption_algorithm`
+   * (FileMetaData field 8; parquet-format, Encryption.md).
    */
   private async readFooter(size: number): Promise<void> {
     const tail = await this.reader!.read(size - 8, 8);
@@ -198,6 +204,12 @@ export class ParquetSource implements RecordSource {
     } catch {
       // The decoder reads the footer too and names what is wrong with it.
       this.places = null;
+    }
+    try {
+      this.features = footerFeatures(footer);
+    } catch {
+      // Nothing is known to be unreadable; the decoder names what is wrong with the footer.
+      this.features = null;
     }
   }
 
@@ -320,8 +332,10 @@ export class ParquetSource implements RecordSource {
         continue;
       }
       if (decoded instanceof Error) {
-        const rule = /unsupported|not supported|not yet implemented|encrypt|budget/i.test(decoded.message) ? 'read-unsupported' : 'read-corrupt';
-        out.push(...lostEntries(k, g.firstRow, from, to, rule, `row group ${k} does not decode: ${errorText(decoded)}`));
+        // Refused from what the file declares, or damage the decoder met: told apart by class.
+        const rule = decoded instanceof UnsupportedFeature || decoded instanceof OverBudgetError ? 'read-unsupported' : 'read-corrupt';
+        const why = decoded instanceof UnsupportedFeature ? decoded.message : errorText(decoded);
+        out.push(...lostEntries(k, g.firstRow, from, to, rule, `row group ${k} does not decode: ${why}`));
         continue;
       }
       for (let b = 0; b < decoded.batches.length; b++) {
@@ -370,9 +384,12 @@ export class ParquetSource implements RecordSource {
     if (this.refusedGroups.has(k)) {
       result = new RefusedGroupError(`its footer-declared size is over the ${formatSize(budget)} limit for one row group`);
     } else if (whole && needs > budget) {
-      result = new Error(`its columns decode to ${needs} bytes, beyond the ${budget}-byte budget for one row group`);
+      result = new OverBudgetError(`its columns decode to ${needs} bytes, beyond the ${budget}-byte budget for one row group`);
     } else {
       try {
+        // What the decoder cannot read is known from the footer: it is not handed these bytes.
+        const unreadable = this.schemaRefusal ?? (this.features ? chunkRefusal(this.features, k, columns) : null);
+        if (unreadable) throw unreadable;
         const refused = await this.checkPages(k, from, to, columns, budget);
         if (refused) throw new PageLimitError(refused);
         const table = await guardWasm(() =>

@@ -1,17 +1,22 @@
 // What the Arrow file and stream sources share: a layout of messages (schema, dictionaries, batches)
 // found by reading headers only, and decoding of one batch by handing the library just the messages
 // that batch needs.
+//
+// What the library cannot read (a column type, a body codec) is decided from the metadata by our own
+// reading of it (ipc.ts) before the library sees the bytes, and becomes `read-unsupported`; whatever
+// the library throws after that is damage (a ReadFailure quoting it), whatever its words.
 
-import { DataType, RecordBatchReader, type RecordBatch, type Schema } from 'apache-arrow';
+import { DataType, RecordBatchReader, compressionRegistry, type RecordBatch, type Schema } from 'apache-arrow';
 
 /** Rows a scan turns into entries at a time. */
 const SCAN_SLICE_ROWS = 4096;
 import type { Finding } from '../../findings.js';
 import type { ByteReader, Entry, FormatName, GroupInfo, RecordSource, ScanOptions, SourceInfo } from '../source.js';
 import { errorText, readFinding } from '../columnarRules.js';
+import { ReadFailure, UnsupportedFeature } from '../../errors.js';
 import { openFileReader, type ReaderFactory } from './byteReader.js';
 import { registerIpcCodecs } from './codecs.js';
-import { END_OF_STREAM, IpcFormatError, MESSAGE_DICTIONARY, unreadableColumns, validateSchemaMessage, type MessageHeader } from './ipc.js';
+import { CODECS, END_OF_STREAM, IpcFormatError, MESSAGE_DICTIONARY, bodyCodec, unreadableColumns, validateSchemaMessage, type MessageHeader } from './ipc.js';
 import { ByteBudgetCache, batchEntries, groupOf, lostEntries } from './rows.js';
 import { readRowSlice, sliceable } from './rowSlice.js';
 import { schemaColumns } from './toJson.js';
@@ -56,6 +61,7 @@ export function ipcFinding(e: unknown, where: string): Finding {
     const rule = e.kind === 'truncated' ? 'read-truncated' : e.kind === 'unsupported' ? 'read-unsupported' : 'read-corrupt';
     return readFinding(rule, `${where}: ${e.message}`);
   }
+  if (e instanceof UnsupportedFeature) return readFinding('read-unsupported', `${where}: ${e.message}`);
   return readFinding('read-corrupt', `${where}: ${errorText(e)}`);
 }
 
@@ -133,16 +139,20 @@ export abstract class ArrowSourceBase implements RecordSource {
     if ((layout.schema || layout.schemaMessage) && !this.arrowSchema) {
       try {
         this.schemaBytes = layout.schemaMessage ?? (await this.messageBytes(layout.schema!, false));
-        // Checked by hand first: a fuzzed schema must never reach the library's decoder unchecked.
+        // Checked by hand first: a type the library cannot read is named from the schema itself, and
+        // a fuzzed schema must never reach the library's decoder unchecked.
+        const odd = unreadableColumns(this.schemaBytes);
+        if (odd.length) {
+          throw new UnsupportedFeature(
+            `column${odd.length > 1 ? 's' : ''} ${odd.map((c) => `"${c.name}" (${c.type})`).join(', ')}: a type this reader cannot read`,
+            odd[0].type,
+            odd[0].name,
+          );
+        }
         validateSchemaMessage(this.schemaBytes);
         this.arrowSchema = decodeSchema(this.schemaBytes);
       } catch (e) {
-        const odd = this.schemaBytes ? unreadableColumns(this.schemaBytes) : [];
-        findings.push(
-          odd.length
-            ? readFinding('read-unsupported', `column${odd.length > 1 ? 's' : ''} ${odd.map((c) => `"${c.name}" (${c.type})`).join(', ')}: a type this reader cannot read`)
-            : ipcFinding(e, 'schema message'),
-        );
+        findings.push(e instanceof UnsupportedFeature ? readFinding('read-unsupported', e.message) : ipcFinding(e, 'schema message'));
         layout.refused ??= 'the schema does not decode';
       }
     }
@@ -209,19 +219,29 @@ export abstract class ArrowSourceBase implements RecordSource {
         }
         parts.push(bytes);
       }
-      parts.push(await this.messageBytes(b, true), END_OF_STREAM);
+      parts.push(await this.messageBytes(b, true));
+      // A body codec the library has no decoder for is named here; the library is not handed the bytes.
+      for (let p = 1; p < parts.length; p++) {
+        const codec = bodyCodec(parts[p]);
+        if (codec === null || typeof compressionRegistry.get(codec)?.decode === 'function') continue;
+        const what = p === parts.length - 1 ? 'its body' : `the dictionary batch it needs (at byte ${layout.dictionaries[p - 1].offset})`;
+        const name = CODECS[codec] ? `${CODECS[codec]} (codec number ${codec})` : `codec number ${codec}`;
+        throw new UnsupportedFeature(`${what} is compressed with ${name}, which this reader cannot decompress (it reads ${CODECS.join(' and ')})`, `codec ${codec}`);
+      }
+      parts.push(END_OF_STREAM);
       const reader = RecordBatchReader.from(concat(parts));
       const batch = reader.next().value as RecordBatch | undefined;
-      if (!batch) throw new Error('the batch message holds no batch');
-      if (batch.numRows !== b.rows) throw new Error(`the batch holds ${batch.numRows} rows where its header says ${b.rows}`);
+      if (!batch) throw new ReadFailure('the batch message holds no batch');
+      if (batch.numRows !== b.rows) throw new ReadFailure(`the batch holds ${batch.numRows} rows where its header says ${b.rows}`);
       batch.data.children.forEach((child, c) => {
         if (child.length < batch.numRows) {
-          throw new Error(`column "${batch.schema.fields[c]?.name ?? c}" holds ${child.length} values where the batch declares ${batch.numRows} rows`);
+          throw new ReadFailure(`column "${batch.schema.fields[c]?.name ?? c}" holds ${child.length} values where the batch declares ${batch.numRows} rows`);
         }
       });
       result = batch;
     } catch (e) {
-      result = e instanceof Error ? e : new Error(String(e));
+      // Ours (the cap, a feature named above) keep their class; whatever the library threw is damage.
+      result = e instanceof BatchLimitError || e instanceof UnsupportedFeature || e instanceof ReadFailure ? e : new ReadFailure(errorText(e), { cause: e });
     }
     this.cache.set(k, result, b.bodyLength + b.metaLength);
     return result;
@@ -279,7 +299,8 @@ export abstract class ArrowSourceBase implements RecordSource {
       if (batch instanceof BatchLimitError) {
         out.push(...lostEntries(k, first, from, to, 'read-limit', `batch ${k}: ${batch.message}`));
       } else if (batch instanceof Error) {
-        out.push(...lostEntries(k, first, from, to, unsupportedOrCorrupt(batch), `batch ${k} does not decode: ${describeArrowError(batch, this.arrowSchema)}`));
+        const unsupported = batch instanceof UnsupportedFeature;
+        out.push(...lostEntries(k, first, from, to, unsupported ? 'read-unsupported' : 'read-corrupt', `batch ${k} does not decode: ${unsupported ? batch.message : errorText(batch)}`));
       } else {
         out.push(...batchEntries(batch, k, first, from, to, opts.columns));
       }
@@ -346,18 +367,6 @@ function concat(parts: Uint8Array[]): Uint8Array {
     o += p.length;
   }
   return out;
-}
-
-function unsupportedOrCorrupt(e: Error): string {
-  return /unrecognized|not supported|unsupported|unknown type|codec/i.test(e.message) ? 'read-unsupported' : 'read-corrupt';
-}
-
-/** The library's error, plus the columns whose types it is known not to read. */
-function describeArrowError(e: Error, schema: Schema | null): string {
-  const text = errorText(e);
-  if (!schema) return text;
-  const odd = schema.fields.filter((f) => /view|run.?end/i.test(String(f.type))).map((f) => `"${f.name}"`);
-  return odd.length ? `${text} (columns of a type this reader may not read: ${odd.join(', ')})` : text;
 }
 
 export function headerBlock(h: MessageHeader): Block {

@@ -42,7 +42,29 @@ export class IpcFormatError extends Error {
   }
 }
 
-const CODECS = ['lz4 frame', 'zstd'];
+/** Arrow `CompressionType` (Message.fbs), by number. */
+export const CODECS = ['lz4 frame', 'zstd'];
+
+/**
+ * The body codec number of a record batch or dictionary batch message (with its prefix, as a
+ * file's block or a stream places it); null when the body is not compressed, or when the metadata
+ * does not decode (the library then names the damage).
+ */
+export function bodyCodec(message: Uint8Array): number | null {
+  try {
+    const dv = new DataView(message.buffer, message.byteOffset, message.byteLength);
+    const pre = message.length >= 8 && dv.getInt32(0, true) === -1 ? 8 : 4;
+    const msg = FbTable.root(message.subarray(pre));
+    const type = msg.uint8(1);
+    const header = msg.table(2);
+    const batch = type === MESSAGE_RECORD_BATCH ? header : type === MESSAGE_DICTIONARY ? (header?.table(1) ?? null) : null;
+    const comp = batch?.table(3);
+    return comp ? comp.uint8(0) : null;
+  } catch (e) {
+    if (e instanceof FlatbufError || e instanceof RangeError) return null;
+    throw e;
+  }
+}
 
 /** Parses a message's flatbuffer (without its prefix). */
 export function parseMessage(meta: Uint8Array, offset: number, metaLength: number): MessageHeader {

@@ -1,7 +1,6 @@
 // Just enough of Thrift's compact protocol (the encoding of Parquet's footer and page headers):
-// list a struct's top-level field ids (to name what a footer holds when the Parquet reader refuses
-// it) and decode a struct into plain values (to read column chunk places and page headers before
-// anything reaches the decoder).
+// decode a struct into plain values, to read column chunk places, what each chunk declares (codec,
+// encodings, encryption) and page headers before anything reaches the decoder.
 
 const STOP = 0;
 const TRUE = 1;
@@ -37,80 +36,6 @@ class Cursor {
     if (n < 0 || this.at + n > this.b.length) throw new RangeError('cut short');
     this.at += n;
   }
-}
-
-function skipValue(c: Cursor, type: number, depth: number): void {
-  if (depth > 64) throw new RangeError('nested too deep');
-  switch (type) {
-    case TRUE:
-    case FALSE:
-      return; // in a struct the value is the field type itself
-    case BYTE:
-      return c.skip(1);
-    case I16:
-    case I32:
-    case I64:
-      c.varint();
-      return;
-    case DOUBLE:
-      return c.skip(8);
-    case BINARY:
-      return c.skip(c.varint());
-    case LIST:
-    case SET: {
-      const h = c.byte();
-      const n = h >> 4 === 15 ? c.varint() : h >> 4;
-      const elem = h & 0x0f;
-      for (let k = 0; k < n; k++) {
-        if (elem === TRUE || elem === FALSE) c.skip(1);
-        else skipValue(c, elem, depth + 1);
-      }
-      return;
-    }
-    case MAP: {
-      const n = c.varint();
-      if (n === 0) return;
-      const kv = c.byte();
-      for (let k = 0; k < n; k++) {
-        for (const t of [kv >> 4, kv & 0x0f]) {
-          if (t === TRUE || t === FALSE) c.skip(1);
-          else skipValue(c, t, depth + 1);
-        }
-      }
-      return;
-    }
-    case STRUCT:
-      fields(c, depth + 1);
-      return;
-    default:
-      throw new RangeError(`unknown compact type ${type}`);
-  }
-}
-
-function fields(c: Cursor, depth: number, ids?: number[]): void {
-  let last = 0;
-  for (;;) {
-    const h = c.byte();
-    const type = h & 0x0f;
-    if (type === STOP) return;
-    const delta = h >> 4;
-    let id: number;
-    if (delta) id = last + delta;
-    else {
-      const z = c.varint();
-      id = z % 2 ? -(z + 1) / 2 : z / 2;
-    }
-    last = id;
-    ids?.push(id);
-    skipValue(c, type, depth);
-  }
-}
-
-/** The field ids of the struct encoded at the start of `bytes`; throws RangeError if it is malformed. */
-export function structFieldIds(bytes: Uint8Array): number[] {
-  const ids: number[] = [];
-  fields(new Cursor(bytes), 0, ids);
-  return ids;
 }
 
 /** A decoded compact-protocol value: structs become field-id maps, binary stays bytes. */

@@ -1,9 +1,12 @@
 // parquet-wasm's async reader polls its futures from promise callbacks, so a Rust panic on a
 // malformed page surfaces as an uncaught WebAssembly.RuntimeError and the read never settles.
 // While a guarded call is pending we catch that error and reject the call, so a bad shard becomes
-// a finding instead of a crash or a hang.
+// a finding instead of a crash or a hang. Whatever else the call rejects with is the decoder
+// refusing the bytes: it comes back as a ReadFailure quoting the decoder's message, so callers tell
+// damage from a trap by class, never by reading the text.
 
-import { DecoderTrap } from '../../errors.js';
+import { DecoderTrap, ReadFailure } from '../../errors.js';
+import { errorText } from '../columnarRules.js';
 
 /** The engine room has no DOM library, where WebAssembly's types live; Node provides the class. */
 declare const WebAssembly: { RuntimeError: new (message?: string) => Error };
@@ -67,7 +70,7 @@ export function guardWasm<T>(call: () => Promise<T>): Promise<T> {
       },
       (e) => {
         done();
-        fail(e instanceof Error ? e : new Error(String(e)));
+        fail(e instanceof DecoderTrap || e instanceof ReadFailure ? e : new ReadFailure(errorText(e), { cause: e }));
       },
     );
   });
