@@ -5,7 +5,7 @@
 // Thrift compact protocol); hyparquet (npm), an independent reader, checks our reading of a footer.
 
 import { afterAll, beforeAll, beforeEach, describe, expect, it, vi } from 'vitest';
-import { mkdtempSync, rmSync, writeFileSync } from 'node:fs';
+import { mkdtempSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { tableFromArrays, tableToIPC } from 'apache-arrow';
@@ -121,6 +121,15 @@ describe('our reading of the footer', () => {
     expect(refusal).toBeInstanceOf(UnsupportedFeature);
     expect([refusal!.column, refusal!.feature]).toEqual(['note', 'codec 9']);
     expect(refusal!.message).toMatch(/^column "note" \(row group 0\) is compressed with codec number 9/);
+  });
+
+  it('finds the encrypted columns parquet-testing\'s README names (double_field, float_field) in encrypt_columns_plaintext_footer', () => {
+    const file = new Uint8Array(readFileSync(join(requireTestdata('parquet'), 'encrypt_columns_plaintext_footer.parquet.encrypted')));
+    const f = footerFeatures(footerOf(file));
+    expect(f.encryptedColumns).toBe(true);
+    expect(f.groups.flatMap((g) => g.filter((c) => c.encrypted).map((c) => c.path)).sort()).toEqual(['double_field', 'float_field']);
+    expect(chunkRefusal(f, 0, ['int32_field', 'ba_field'])).toBeNull();
+    expect(chunkRefusal(f, 0, ['double_field'])?.message).toBe('column "double_field" is encrypted (Parquet modular encryption); Shardwise does not decrypt files');
   });
 
   it('refuses an LZO chunk for the rows that need it, not for the other columns', () => {
