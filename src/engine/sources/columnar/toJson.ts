@@ -1,8 +1,41 @@
-// Arrow columns to plain JSON values for the checks: one conversion per data type, chosen once per column.
+// Arrow columns to plain JSON values for the checks: one visitor over Arrow's data types, whose
+// method for a type gives the conversion of one value of that type, chosen once per column.
 // Exact where JSON is not: 64-bit integers beyond ±(2^53−1) and decimals become strings;
 // timestamps become ISO-8601; binary becomes a length plus a short hex preview.
 
-import { DataType, TimeUnit, DateUnit, IntervalUnit, Precision, UnionMode, makeVector, type Data, type Field, type Schema, type Vector } from 'apache-arrow';
+import { DateUnit, IntervalUnit, Precision, TimeUnit, UnionMode, Visitor } from 'apache-arrow';
+import type {
+  Binary,
+  BinaryView,
+  Bool,
+  Data,
+  DataType,
+  Date_,
+  Decimal,
+  Dictionary,
+  Duration,
+  Field,
+  FixedSizeBinary,
+  FixedSizeList,
+  Float,
+  Int,
+  Interval,
+  LargeBinary,
+  LargeList,
+  LargeUtf8,
+  List,
+  Map_,
+  Null,
+  Struct,
+  Time,
+  Timestamp,
+  Union,
+  Utf8,
+  Utf8View,
+  Vector,
+} from 'apache-arrow';
+
+export { typeName, schemaColumns } from './typeName.js';
 
 /** RFC 8259 §6: integers in this range interoperate exactly. */
 export const MAX_SAFE = 2n ** 53n - 1n;
@@ -22,8 +55,6 @@ export interface ConvertContext {
 }
 
 type Convert = (data: Data, i: number, ptr: string, ctx: ConvertContext) => unknown;
-
-const cache = new WeakMap<DataType, Convert>();
 
 function esc(key: string | number): string {
   return String(key).replace(/~/g, '~0').replace(/\//g, '~1');
@@ -125,112 +156,168 @@ function toBig(x: number | bigint): bigint {
   return typeof x === 'bigint' ? x : BigInt(Math.trunc(x));
 }
 
-function converterFor(type: DataType): Convert {
-  const hit = cache.get(type);
-  if (hit) return hit;
-  const made = makeConverter(type);
-  const guarded: Convert = (data, i, ptr, ctx) => (data.getValid(i) ? made(data, i, ptr, ctx) : null);
-  cache.set(type, guarded);
-  return guarded;
+/** Bytes of a view (binary_view, string_view): 16 bytes each, the value inline up to 12 bytes, else in a data buffer. */
+function viewBytes(d: Data, i: number): Uint8Array {
+  const views = d.values as Uint8Array;
+  const at = i * 16;
+  if (!views || at + 16 > views.length) throw new Error(`value ${i} has no view`);
+  const dv = new DataView(views.buffer, views.byteOffset + at, 16);
+  const size = dv.getInt32(0, true);
+  if (size < 0) throw new Error(`view ${i} declares ${size} bytes`);
+  if (size <= 12) return views.subarray(at + 4, at + 4 + size);
+  const buffer = dv.getInt32(8, true);
+  const offset = dv.getInt32(12, true);
+  const data = d.variadicBuffers?.[buffer];
+  if (!data) throw new Error(`view ${i} points into data buffer ${buffer}, which the column does not have`);
+  if (offset < 0 || offset + size > data.length) throw new Error(`view ${i} (${size} bytes at ${offset}) lies outside its data buffer of ${data.length} bytes`);
+  return data.subarray(offset, offset + size);
 }
 
-function makeConverter(type: DataType): Convert {
-  if (DataType.isNull(type)) return () => null;
-  if (DataType.isBool(type)) {
+const utf8 = new TextDecoder('utf-8');
+
+/**
+ * The one operation of this file, as a visitor: for each data type, the function turning the value
+ * at an index of a Data of that type into JSON. Nulls are handled once, around it (`converterFor`).
+ */
+class ToJsonVisitor extends Visitor {
+  private readonly made = new WeakMap<DataType, Convert>();
+
+  /** The null-aware conversion of `type`, made once per type object. */
+  converterFor(type: DataType): Convert {
+    const hit = this.made.get(type);
+    if (hit) return hit;
+    let visit: (t: DataType) => Convert;
+    try {
+      visit = this.getVisitFn(type, true);
+    } catch {
+      throw new Error(`values of type ${String(type)} have no JSON form here`);
+    }
+    const made = visit.call(this, type);
+    const guarded: Convert = (data, i, ptr, ctx) => (data.getValid(i) ? made(data, i, ptr, ctx) : null);
+    this.made.set(type, guarded);
+    return guarded;
+  }
+
+  override visitNull(_t: Null): Convert {
+    return () => null;
+  }
+  override visitBool(_t: Bool): Convert {
     return (d, i) => {
       const idx = d.offset + i;
       return (d.values[idx >> 3] & (1 << (idx % 8))) !== 0;
     };
   }
-  if (DataType.isInt(type)) {
-    if (type.bitWidth === 64) return (d, i, p, c) => bigToJson(toBig(d.values[i]), p, c);
+  override visitInt(t: Int): Convert {
+    if (t.bitWidth === 64) return (d, i, p, c) => bigToJson(toBig(d.values[i]), p, c);
     return (d, i) => Number(d.values[i]);
   }
-  if (DataType.isFloat(type)) {
-    if (type.precision === Precision.HALF) {
-      return (d, i) => floatToJson(halfToFloat(d.values[i]));
-    }
+  override visitFloat(t: Float): Convert {
+    if (t.precision === Precision.HALF) return (d, i) => floatToJson(halfToFloat(d.values[i]));
     return (d, i) => floatToJson(d.values[i]);
   }
-  if (DataType.isUtf8(type) || DataType.isLargeUtf8(type)) {
-    const dec = new TextDecoder('utf-8');
+  override visitUtf8(_t: Utf8 | LargeUtf8): Convert {
     return (d, i) => {
       const [a, b] = span(d, i, d.values.length);
-      return dec.decode(d.values.subarray(a, b));
+      return utf8.decode(d.values.subarray(a, b));
     };
   }
-  if (DataType.isBinary(type) || DataType.isLargeBinary(type)) {
+  override visitLargeUtf8(t: LargeUtf8): Convert {
+    return this.visitUtf8(t);
+  }
+  override visitUtf8View(_t: Utf8View): Convert {
+    return (d, i) => utf8.decode(viewBytes(d, i));
+  }
+  override visitBinary(_t: Binary | LargeBinary): Convert {
     return (d, i) => {
       const [a, b] = span(d, i, d.values.length);
       return hexPreview(d.values.subarray(a, b));
     };
   }
-  if (DataType.isFixedSizeBinary(type)) {
-    const w = type.byteWidth;
+  override visitLargeBinary(t: LargeBinary): Convert {
+    return this.visitBinary(t);
+  }
+  override visitBinaryView(_t: BinaryView): Convert {
+    return (d, i) => hexPreview(viewBytes(d, i));
+  }
+  override visitFixedSizeBinary(t: FixedSizeBinary): Convert {
+    const w = t.byteWidth;
     return (d, i) => hexPreview(d.values.subarray(i * w, (i + 1) * w));
   }
-  if (DataType.isDecimal(type)) {
-    const words = type.bitWidth / 32;
-    const scale = type.scale;
+  override visitDecimal(t: Decimal): Convert {
+    const words = t.bitWidth / 32;
+    const scale = t.scale;
     return (d, i) => {
       // Decimal32/64 arrive as narrower words; the stride tells how many 32-bit words a value takes.
       const stride = d.stride || words;
       return decimalText(wordsToBig(d.values as Uint32Array, i * stride, stride), scale);
     };
   }
-  if (DataType.isDate(type)) {
-    if (type.unit === DateUnit.DAY) {
-      return (d, i) => new Date(Number(d.values[i]) * 86_400_000).toISOString().slice(0, 10);
-    }
+  override visitDate(t: Date_): Convert {
+    if (t.unit === DateUnit.DAY) return (d, i) => new Date(Number(d.values[i]) * 86_400_000).toISOString().slice(0, 10);
     return (d, i) => isoInstant(toBig(d.values[i]), TimeUnit.MILLISECOND, true).replace(/T00:00:00\.000Z$/, '');
   }
-  if (DataType.isTimestamp(type)) {
-    const utc = type.timezone != null && type.timezone !== '';
-    return (d, i) => isoInstant(toBig(d.values[i]), type.unit, utc);
+  override visitTimestamp(t: Timestamp): Convert {
+    const utc = t.timezone != null && t.timezone !== '';
+    return (d, i) => isoInstant(toBig(d.values[i]), t.unit, utc);
   }
-  if (DataType.isTime(type)) return (d, i) => timeOfDay(toBig(d.values[i]), type.unit);
-  if (DataType.isDuration(type)) return (d, i, p, c) => bigToJson(toBig(d.values[i]), p, c);
-  if (DataType.isInterval(type)) {
-    if (type.unit === IntervalUnit.YEAR_MONTH) return (d, i) => ({ months: Number(d.values[i]) });
-    if (type.unit === IntervalUnit.DAY_TIME) return (d, i) => ({ days: d.values[2 * i], milliseconds: d.values[2 * i + 1] });
+  override visitTime(t: Time): Convert {
+    return (d, i) => timeOfDay(toBig(d.values[i]), t.unit);
+  }
+  override visitDuration(_t: Duration): Convert {
+    return (d, i, p, c) => bigToJson(toBig(d.values[i]), p, c);
+  }
+  override visitInterval(t: Interval): Convert {
+    if (t.unit === IntervalUnit.YEAR_MONTH) return (d, i) => ({ months: Number(d.values[i]) });
+    if (t.unit === IntervalUnit.DAY_TIME) return (d, i) => ({ days: d.values[2 * i], milliseconds: d.values[2 * i + 1] });
     return (d, i) => {
       const v = d.values as Int32Array;
       const nanos = (BigInt(v[4 * i + 3]) << 32n) | BigInt(v[4 * i + 2] >>> 0);
       return { months: v[4 * i], days: v[4 * i + 1], nanoseconds: nanos.toString() };
     };
   }
-  if (DataType.isList(type) || DataType.isLargeList(type)) {
+  override visitList(_t: List | LargeList): Convert {
     return (d, i, p, c) => {
       const child = d.children[0];
       const [a, b] = span(d, i, child.length);
-      const conv = converterFor(child.type);
+      const conv = this.converterFor(child.type);
       const out: unknown[] = [];
       for (let k = a; k < b; k++) out.push(conv(child, k, `${p}/${k - a}`, c));
       return out;
     };
   }
-  if (DataType.isFixedSizeList(type)) {
-    const n = type.listSize;
+  override visitLargeList(t: LargeList): Convert {
+    return this.visitList(t);
+  }
+  override visitFixedSizeList(t: FixedSizeList): Convert {
+    const n = t.listSize;
     return (d, i, p, c) => {
       const child = d.children[0];
       if ((i + 1) * n > child.length) throw new Error(`value ${i} needs items ${i * n} to ${(i + 1) * n} of a child holding ${child.length}`);
-      const conv = converterFor(child.type);
+      const conv = this.converterFor(child.type);
       const out: unknown[] = [];
       for (let k = 0; k < n; k++) out.push(conv(child, i * n + k, `${p}/${k}`, c));
       return out;
     };
   }
-  if (DataType.isStruct(type)) {
-    const names = type.children.map((f: Field) => f.name);
-    return (d, i, p, c) => structRow(d, i, p, c, names);
+  override visitStruct(t: Struct): Convert {
+    const names = t.children.map((f: Field) => f.name);
+    return (d, i, p, c) => {
+      const o: Record<string, unknown> = {};
+      d.children.forEach((child, k) => {
+        const key = names[k];
+        // defineProperty: a column named __proto__ stays an ordinary key.
+        define(o, key, this.converterFor(child.type)(child, i, `${p}/${esc(key)}`, c));
+      });
+      return o;
+    };
   }
-  if (DataType.isMap(type)) {
+  override visitMap(_t: Map_): Convert {
     return (d, i, p, c) => {
       const entries = d.children[0];
       const [a, b] = span(d, i, entries.length);
       const [kd, vd] = entries.children;
-      const kc = converterFor(kd.type);
-      const vc = converterFor(vd.type);
+      const kc = this.converterFor(kd.type);
+      const vc = this.converterFor(vd.type);
       const keys: unknown[] = [];
       for (let k = a; k < b; k++) keys.push(kc(kd, k, `${p}/${k - a}/key`, c));
       // Objects only when every key is a distinct string; otherwise entries keep order and duplicates.
@@ -238,7 +325,7 @@ function makeConverter(type: DataType): Convert {
         const o: Record<string, unknown> = {};
         for (let k = a; k < b; k++) {
           const key = keys[k - a] as string;
-          Object.defineProperty(o, key, { value: vc(vd, k, `${p}/${esc(key)}`, c), enumerable: true, writable: true, configurable: true });
+          define(o, key, vc(vd, k, `${p}/${esc(key)}`, c));
         }
         return o;
       }
@@ -247,70 +334,37 @@ function makeConverter(type: DataType): Convert {
       return out;
     };
   }
-  if (DataType.isDictionary(type)) {
+  override visitDictionary(_t: Dictionary): Convert {
     return (d, i, p, c) => {
       const dict = d.dictionary as Vector | undefined;
       if (!dict) return null;
       let idx = Number(d.values[i]);
       for (const chunk of dict.data) {
-        if (idx < chunk.length) return converterFor(chunk.type)(chunk, idx, p, c);
+        if (idx < chunk.length) return this.converterFor(chunk.type)(chunk, idx, p, c);
         idx -= chunk.length;
       }
       return null;
     };
   }
-  if (DataType.isUnion(type)) {
-    const toChild = (type as unknown as { typeIdToChildIndex: Record<number, number> }).typeIdToChildIndex;
-    const dense = type.mode === UnionMode.Dense;
+  override visitUnion(t: Union): Convert {
+    const toChild = t.typeIdToChildIndex;
+    const dense = t.mode === UnionMode.Dense;
     return (d, i, p, c) => {
       const code = d.typeIds[i];
-      const childIndex = toChild[code];
-      const child = d.children[childIndex];
+      const child = d.children[toChild[code]];
       if (!child) return null;
       const at = Number(dense ? d.valueOffsets[i] : i);
       if (!(at >= 0 && at < child.length)) throw new Error(`value ${i} points at item ${at} of a union member holding ${child.length}`);
-      return converterFor(child.type)(child, at, p, c);
+      return this.converterFor(child.type)(child, at, p, c);
     };
   }
-  // Types this table does not know (views and newer ones): the library's own reading, made plain.
-  return (d, i, p, c) => plain(genericGet(d, i), p, c);
 }
 
-function structRow(d: Data, i: number, p: string, c: ConvertContext, names: string[]): Record<string, unknown> {
-  const o: Record<string, unknown> = {};
-  d.children.forEach((child, k) => {
-    const key = names[k];
-    // defineProperty: a column named __proto__ stays an ordinary key.
-    Object.defineProperty(o, key, { value: converterFor(child.type)(child, i, `${p}/${esc(key)}`, c), enumerable: true, writable: true, configurable: true });
-  });
-  return o;
+function define(o: Record<string, unknown>, key: string, value: unknown): void {
+  Object.defineProperty(o, key, { value, enumerable: true, writable: true, configurable: true });
 }
 
-function genericGet(d: Data, i: number): unknown {
-  return makeVector(d).get(i);
-}
-
-function plain(v: unknown, p: string, c: ConvertContext): unknown {
-  if (v === null || v === undefined) return null;
-  if (typeof v === 'bigint') return bigToJson(v, p, c);
-  if (typeof v === 'number') return floatToJson(v);
-  if (typeof v === 'string' || typeof v === 'boolean') return v;
-  if (v instanceof Uint8Array) return hexPreview(v);
-  if (ArrayBuffer.isView(v)) return Array.from(v as unknown as ArrayLike<number | bigint>, (x, k) => plain(x, `${p}/${k}`, c));
-  if (typeof (v as { toArray?: unknown }).toArray === 'function' && typeof (v as { length?: unknown }).length === 'number') {
-    return Array.from((v as Vector).toArray() as Iterable<unknown>, (x, k) => plain(x, `${p}/${k}`, c));
-  }
-  if (typeof (v as { toJSON?: unknown }).toJSON === 'function') return plain((v as { toJSON(): unknown }).toJSON(), p, c);
-  if (Array.isArray(v)) return v.map((x, k) => plain(x, `${p}/${k}`, c));
-  if (typeof v === 'object') {
-    const o: Record<string, unknown> = {};
-    for (const [k, x] of Object.entries(v as object)) {
-      Object.defineProperty(o, k, { value: plain(x, `${p}/${esc(k)}`, c), enumerable: true, writable: true, configurable: true });
-    }
-    return o;
-  }
-  return String(v);
-}
+const toJson = new ToJsonVisitor();
 
 function halfToFloat(h: number): number {
   const s = h & 0x8000 ? -1 : 1;
@@ -324,42 +378,5 @@ function halfToFloat(h: number): number {
 /** The value of one column at a row of a record-batch-shaped Data (a struct of columns). */
 export function columnValue(column: Data, row: number, name: string, ctx: ConvertContext): unknown {
   if (row >= column.length) throw new Error(`the column holds ${column.length} values, fewer than the batch's rows`);
-  return converterFor(column.type)(column, row, `/${esc(name)}`, ctx);
-}
-
-/** A readable type name: `int64`, `timestamp[us, UTC]`, `list<struct<role: string, content: string>>`. */
-export function typeName(type: DataType): string {
-  if (DataType.isNull(type)) return 'null';
-  if (DataType.isBool(type)) return 'bool';
-  if (DataType.isInt(type)) return `${type.isSigned ? 'int' : 'uint'}${type.bitWidth}`;
-  if (DataType.isFloat(type)) return type.precision === Precision.HALF ? 'float16' : type.precision === Precision.SINGLE ? 'float32' : 'float64';
-  if (DataType.isUtf8(type)) return 'string';
-  if (DataType.isLargeUtf8(type)) return 'large_string';
-  if (DataType.isUtf8View(type)) return 'string_view';
-  if (DataType.isBinary(type)) return 'binary';
-  if (DataType.isLargeBinary(type)) return 'large_binary';
-  if (DataType.isBinaryView(type)) return 'binary_view';
-  if (DataType.isFixedSizeBinary(type)) return `fixed_size_binary[${type.byteWidth}]`;
-  if (DataType.isDecimal(type)) return `decimal${type.bitWidth}(${type.precision}, ${type.scale})`;
-  if (DataType.isDate(type)) return type.unit === DateUnit.DAY ? 'date32[day]' : 'date64[ms]';
-  const unit = (u: TimeUnit) => ['s', 'ms', 'us', 'ns'][u];
-  if (DataType.isTimestamp(type)) return `timestamp[${unit(type.unit)}${type.timezone ? `, ${type.timezone}` : ''}]`;
-  if (DataType.isTime(type)) return `time${type.bitWidth}[${unit(type.unit)}]`;
-  if (DataType.isDuration(type)) return `duration[${unit(type.unit)}]`;
-  if (DataType.isInterval(type)) return `interval[${IntervalUnit[type.unit]?.toLowerCase() ?? type.unit}]`;
-  if (DataType.isList(type)) return `list<${typeName(type.children[0].type)}>`;
-  if (DataType.isLargeList(type)) return `large_list<${typeName(type.children[0].type)}>`;
-  if (DataType.isFixedSizeList(type)) return `fixed_size_list<${typeName(type.children[0].type)}>[${type.listSize}]`;
-  if (DataType.isStruct(type)) return `struct<${type.children.map((f: Field) => `${f.name}: ${typeName(f.type)}`).join(', ')}>`;
-  if (DataType.isMap(type)) {
-    const [k, v] = type.children[0].type.children;
-    return `map<${typeName(k.type)}, ${typeName(v.type)}>`;
-  }
-  if (DataType.isDictionary(type)) return `dictionary<${typeName(type.dictionary)}, ${typeName(type.indices)}>`;
-  if (DataType.isUnion(type)) return `${type.mode === UnionMode.Dense ? 'dense_union' : 'sparse_union'}<${type.children.map((f: Field) => `${f.name}: ${typeName(f.type)}`).join(', ')}>`;
-  return String(type).toLowerCase();
-}
-
-export function schemaColumns(schema: Schema): { name: string; type: string }[] {
-  return schema.fields.map((f) => ({ name: f.name, type: typeName(f.type) }));
+  return toJson.converterFor(column.type)(column, row, `/${esc(name)}`, ctx);
 }
