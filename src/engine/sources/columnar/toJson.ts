@@ -101,9 +101,17 @@ export function isoInstant(count: bigint, unit: TimeUnit, utc: boolean): string 
   const ms = Number(secs) * 1000;
   const d = new Date(ms);
   if (Number.isNaN(d.getTime())) return `${count} (${['s', 'ms', 'us', 'ns'][unit]} since epoch)`;
-  const base = d.toISOString().slice(0, 19); // YYYY-MM-DDTHH:MM:SS (years 0..9999)
+  // YYYY-MM-DDTHH:MM:SS, or ±YYYYYY-MM-DDTHH:MM:SS beyond years 0..9999 (ECMA-262 §21.4.1.32 expanded years).
+  const base = d.toISOString().slice(0, -'.000Z'.length);
   const fracText = digits ? `.${frac.toString().padStart(digits, '0')}` : '';
   return `${base}${fracText}${utc ? 'Z' : ''}`;
+}
+
+/** ISO-8601 date of a count of days since 1970-01-01; beyond what a Date holds (±10^8 days), the count itself. */
+export function isoDay(days: number): string {
+  const d = new Date(days * 86_400_000);
+  if (Number.isNaN(d.getTime())) return `${days} (days since epoch)`;
+  return d.toISOString().slice(0, -'T00:00:00.000Z'.length);
 }
 
 function timeOfDay(count: bigint, unit: TimeUnit): string {
@@ -253,7 +261,7 @@ class ToJsonVisitor extends Visitor {
     };
   }
   override visitDate(t: Date_): Convert {
-    if (t.unit === DateUnit.DAY) return (d, i) => new Date(Number(d.values[i]) * 86_400_000).toISOString().slice(0, 10);
+    if (t.unit === DateUnit.DAY) return (d, i) => isoDay(Number(d.values[i]));
     return (d, i) => isoInstant(toBig(d.values[i]), TimeUnit.MILLISECOND, true).replace(/T00:00:00\.000Z$/, '');
   }
   override visitTimestamp(t: Timestamp): Convert {

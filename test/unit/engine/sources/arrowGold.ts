@@ -239,6 +239,8 @@ function valueExpecter(field: JField, col: JColumn, dicts: Map<number, JColumn>)
       const d = data();
       if (t.unit === 'DAY') {
         return (ours, i, p) => {
+          // Beyond what a Date holds (±10^8 days), our sources keep the count of days.
+          if (typeof ours === 'string' && ours === `${big(d[i])} (days since epoch)`) return;
           const parsed = typeof ours === 'string' ? isoToCount(ours, 'SECOND') : null;
           if (!parsed || !parsed.dateOnly || parsed.count !== big(d[i]) * 86_400n) differ(p, `the date ${d[i]} days after 1970-01-01`, ours);
         };
