@@ -52,7 +52,10 @@ if (want('types')) {
   // Every room type-checks as its own project (an import or a library across a wall fails), then the tests.
   const rooms = run(process.execPath, ['node_modules/typescript/bin/tsc', '-b']);
   const tests = run(process.execPath, ['node_modules/typescript/bin/tsc', '-p', 'test/tsconfig.json']);
-  layers.push(['types (each room its own TypeScript project, and the tests)', (rooms.status === 0) + (tests.status === 0), (rooms.status !== 0) + (tests.status !== 0)]);
+  // The webview tests' scripted host (plain JavaScript) is checked against src/protocol.ts.
+  const fixtures = run(process.execPath, ['node_modules/typescript/bin/tsc', '-p', 'test/webview/tsconfig.json']);
+  const ok = [rooms, tests, fixtures].filter((r) => r.status === 0).length;
+  layers.push(['types (each room its own TypeScript project, the tests, the webview fixtures against the protocol)', ok, 3 - ok]);
 }
 
 if (want('unit')) {

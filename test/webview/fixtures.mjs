@@ -1,5 +1,13 @@
+// @ts-check
 // The scripted host side of the webview tests: protocol messages a host would send for a large
-// JSONL shard of chat records, including deliberately hostile text.
+// JSONL shard of chat records, including deliberately hostile text. Typed against src/protocol.ts
+// (the types layer checks this file), so a message the host no longer sends fails the build.
+
+/** @typedef {import('../../src/protocol.js').HostToRecordView} HostToRecordView */
+/** @typedef {import('../../src/protocol.js').RecordViewToHost} RecordViewToHost */
+/** @typedef {import('../../src/protocol.js').HostToPanel} HostToPanel */
+/** @typedef {Extract<HostToRecordView, { type: 'init' }>} InitMessage */
+/** @typedef {Extract<HostToPanel, { type: 'state' }>} PanelState */
 
 export const HOSTILE = [
   '<script>window.__pwned=1</script>',
@@ -8,6 +16,7 @@ export const HOSTILE = [
 ];
 export const HOSTILE_TEXT = HOSTILE.join(' ');
 
+/** @type {import('../../src/protocol.js').ColumnInfo[]} */
 export const COLUMNS = [
   { name: 'id', type: 'string' },
   { name: 'messages', type: 'list<struct<role: string, content: string>>' },
@@ -15,6 +24,7 @@ export const COLUMNS = [
 ];
 
 /** The format traits the host sends (src/engine/sources/traits.ts), by format. */
+/** @type {Record<string, import('../../src/protocol.js').FormatTraits>} */
 const TRAITS = {
   jsonl: { textual: true, oneLinePerEntry: true, entries: 'lines', group: null, wasmMemory: false },
   'json-array': { textual: true, oneLinePerEntry: false, entries: 'lines', group: null, wasmMemory: false },
@@ -23,6 +33,11 @@ const TRAITS = {
   'arrow-stream': { textual: false, oneLinePerEntry: false, entries: 'rows', group: { one: 'batch', many: 'batches' }, wasmMemory: false },
 };
 
+/**
+ * @param {number} entries
+ * @param {Partial<InitMessage>} [overrides]
+ * @returns {InitMessage}
+ */
 export function initMessage(entries, overrides = {}) {
   const format = overrides.format ?? 'jsonl';
   return {
@@ -39,10 +54,15 @@ export function initMessage(entries, overrides = {}) {
   };
 }
 
-/** Every entry's row, computed from its index so a test can say what a row must show. */
+/**
+ * Every entry's row, computed from its index so a test can say what a row must show.
+ * @param {number} e
+ * @returns {import('../../src/protocol.js').RowView}
+ */
 export function rowFor(e) {
   const blank = e % 1000 === 999;
   const severity = blank ? 'warning' : e % 25 === 7 ? 'error' : e % 10 === 3 ? 'info' : null;
+  /** @type {import('../../src/protocol.js').RowView} */
   const row = {
     entry: e,
     record: blank ? null : e - Math.floor(e / 1000),
@@ -57,6 +77,10 @@ export function rowFor(e) {
   return row;
 }
 
+/**
+ * @param {Extract<RecordViewToHost, { type: 'requestRows' }>} m
+ * @returns {Extract<HostToRecordView, { type: 'rows' }>}
+ */
 export function rowsAnswer(m) {
   const rows = [];
   for (let e = m.start; e < m.start + m.count; e++) rows.push(rowFor(e));
@@ -70,6 +94,11 @@ export const TURNS = [
   { role: 'user', content: 'Done, it shifts cleanly now.', tokens: 8 },
 ];
 
+/**
+ * @param {number} entry
+ * @param {Partial<import('../../src/protocol.js').DetailView>} [extra]
+ * @returns {import('../../src/protocol.js').DetailView}
+ */
 export function chatDetail(entry, extra = {}) {
   const value = {
     id: `chat-${entry}`,
@@ -104,7 +133,11 @@ export function chatDetail(entry, extra = {}) {
   };
 }
 
-/** A host that pages rows and answers detail requests with a chat record. */
+/**
+ * A host that pages rows and answers detail requests with a chat record.
+ * @param {{ detailFor?: (entry: number) => import('../../src/protocol.js').DetailView }} [options]
+ * @returns {(m: RecordViewToHost, view: { send(m: HostToRecordView): Promise<void> }) => Promise<void>}
+ */
 export function scriptedHost({ detailFor = chatDetail } = {}) {
   return async (m, view) => {
     if (m.type === 'requestRows') await view.send(rowsAnswer(m));
@@ -116,6 +149,14 @@ export function scriptedHost({ detailFor = chatDetail } = {}) {
   };
 }
 
+/**
+ * @param {number} id
+ * @param {import('../../src/protocol.js').Severity} severity
+ * @param {string} rule
+ * @param {string} message
+ * @param {number} entry
+ * @returns {import('../../src/protocol.js').FindingView}
+ */
 export function finding(id, severity, rule, message, entry) {
   return {
     id,
@@ -132,6 +173,10 @@ export function finding(id, severity, rule, message, entry) {
   };
 }
 
+/**
+ * @param {Partial<PanelState>} [overrides]
+ * @returns {PanelState}
+ */
 export function panelState(overrides = {}) {
   const findings = [
     finding(1, 'error', 'json-syntax', 'Expected a value after the comma', 12),
@@ -150,7 +195,7 @@ export function panelState(overrides = {}) {
       records: 5117,
       blankLines: 2,
       invalidLines: 1,
-      tokens: { encoding: 'cl100k_base', total: 1_734_220, prompt: 602_118, response: 1_132_102, max: 9210, p50: 302, p90: 811, p99: 2402, contextLength: 8192, overContext: 3 },
+      tokens: { encoding: 'cl100k_base', tokenizer: 'cl100k_base', total: 1_734_220, prompt: 602_118, response: 1_132_102, max: 9210, p50: 302, p90: 811, p99: 2402, contextLength: 8192, overContext: 3 },
       layout: { id: 'turns', share: 0.9981 },
       findingsBySeverity: { error: 1, warning: 2, info: 1 },
       phase: 'done',
