@@ -52,18 +52,25 @@ export function readFinding(rule: string, message: string, place: FindingPlace =
 /** What a library's own slip (a TypeError deep inside a decoder) says to a person instead of its internal text. */
 export const INCONSISTENT_DATA = 'lengths, offsets or values inside it contradict each other';
 
-// Messages of the JavaScript engine and of WebAssembly traps, never meant for a person.
-const INTERNAL = /Cannot read propert|Cannot set propert|is not a function|is not iterable|is not a constructor|Invalid typed array length|Invalid array length|out of bounds|outside the bounds|Maximum call stack|\bundefined\b|unreachable|memory access|RuntimeError|Start offset|byte length of|must be a multiple/i;
-
 /**
  * The message of anything thrown, in one line, never longer than a screen row or two. A library's
- * internal slip (a TypeError, a RangeError, a trap) becomes INCONSISTENT_DATA: callers name the
- * column, batch or offset around it.
+ * internal slip — the JavaScript engine's own errors (a TypeError, a RangeError, a ReferenceError)
+ * or a WebAssembly trap — becomes INCONSISTENT_DATA, told by its class: its text was never meant
+ * for a person. Callers name the column, batch or offset around it.
  */
 export function errorText(e: unknown): string {
-  if (e instanceof TypeError || e instanceof RangeError || e instanceof ReferenceError) return INCONSISTENT_DATA;
+  if (isInternalSlip(e)) return INCONSISTENT_DATA;
   const raw = e instanceof Error ? e.message : typeof e === 'string' ? e : String(e);
-  if (INTERNAL.test(raw)) return INCONSISTENT_DATA;
   const one = raw.replace(/\s+/g, ' ').trim();
   return one.length > 300 ? `${one.slice(0, 300)}…` : one || 'unknown error';
+}
+
+// The engine room has no DOM or WebAssembly typings; Node provides the class.
+declare const WebAssembly: { RuntimeError: new (message?: string) => Error };
+
+/** The JavaScript engine's own errors and WebAssembly traps, here or as the cause of a wrapper. */
+function isInternalSlip(e: unknown, depth = 0): boolean {
+  if (e instanceof TypeError || e instanceof RangeError || e instanceof ReferenceError) return true;
+  if (e instanceof WebAssembly.RuntimeError) return true;
+  return depth < 3 && e instanceof Error && e.cause !== undefined && isInternalSlip(e.cause, depth + 1);
 }

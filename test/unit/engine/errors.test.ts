@@ -57,6 +57,12 @@ describe('typed errors', () => {
     // An engine slip inside the library is quoted in plain words, not as its internal text.
     const slip = await guardWasm(() => Promise.reject(new TypeError("Cannot read properties of undefined (reading 'length')"))).catch((e: unknown) => e);
     expect([slip instanceof ReadFailure, (slip as Error).message]).toEqual([true, INCONSISTENT_DATA]);
+    // Told by class, not by words: a library's own Error that happens to read like an engine slip keeps its words,
+    // and a slip wrapped as another error's cause is still a slip.
+    const worded = await guardWasm(() => Promise.reject(new Error('offset is out of bounds of page 3'))).catch((e: unknown) => e);
+    expect((worded as Error).message).toBe('offset is out of bounds of page 3');
+    const wrapped = await guardWasm(() => Promise.reject(new Error('decode failed', { cause: new RangeError('Invalid typed array length: 9') }))).catch((e: unknown) => e);
+    expect((wrapped as Error).message).toBe(INCONSISTENT_DATA);
     // Ours pass through with their class.
     const trap = new DecoderTrap('stopped');
     expect(await guardWasm(() => Promise.reject(trap)).catch((e: unknown) => e)).toBe(trap);
