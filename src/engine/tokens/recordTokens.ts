@@ -6,7 +6,7 @@
 import type { CheckConfig } from '../config.js';
 import { readRecord } from '../layouts/index.js';
 import type { Reading } from '../layouts/layout.js';
-import { ChatTemplate, conversationOf, type TrainedSpan } from './chatTemplate.js';
+import { ChatTemplate, conversationOf, type Conversation, type TrainedSpan } from './chatTemplate.js';
 import { getTokenizer, type Tokenizer } from './index.js';
 
 /** Token figures of one record. */
@@ -115,6 +115,29 @@ export function chatTemplateOf(tokenizer: Tokenizer): ChatTemplate | null {
   return t;
 }
 
+/**
+ * A template that reads a turn's text fails on a turn without any (content null beside tool
+ * calls, or absent). The turn is named only when it is the cause: the same conversation renders
+ * once that turn's content is the empty string.
+ */
+function bareTurnCause(template: ChatTemplate, conv: Conversation, seq: Reading['sequences'][number]): NonNullable<typeof seq.turns>[number] | undefined {
+  const turns = seq.turns ?? [];
+  // The turns' messages follow an optional system message (conversationOf).
+  const offset = conv.messages.length - turns.length;
+  for (let k = 0; k < turns.length; k++) {
+    const t = turns[k]!;
+    if (!t.isObject || (t.rawContent !== null && t.contentPresent)) continue;
+    const messages = conv.messages.map((m, i) => (i === offset + k ? { ...m, content: '' } : m));
+    try {
+      template.renderWithSpans({ ...conv, messages });
+      return t;
+    } catch {
+      // Still fails with text there: not this turn's doing.
+    }
+  }
+  return undefined;
+}
+
 /** Renders every sequence of a reading that is a conversation; null when none is (plain text, evaluation items). */
 export function renderReading(reading: Reading, record: unknown, tokenizer: Tokenizer, template: ChatTemplate, perPiece: number[]): RenderedRecord | null {
   const sequences: RenderedSequence[] = [];
@@ -130,9 +153,7 @@ export function renderReading(reading: Reading, record: unknown, tokenizer: Toke
       sequences.push({ name: seq.name, content, error: null, text: r.text, spans: r.spans, rendered: tokenizer.countRendered(r.text), trainable });
     } catch (err) {
       let error = (err as Error)?.message ?? String(err);
-      // A template that reads a turn's text fails on a turn without any (content null beside tool
-      // calls, or absent): name that turn, the likeliest cause.
-      const bare = /null|undefined|none/i.test(error) ? seq.turns?.find((t) => t.isObject && (t.rawContent === null || !t.contentPresent)) : undefined;
+      const bare = bareTurnCause(template, conv, seq);
       if (bare) error += ` (turn ${bare.index + 1} has ${bare.rawContent === null ? 'null content' : 'no content'}; this template expects text there)`;
       sequences.push({ name: seq.name, content, error, errorPointer: bare ? (bare.rawContent === null ? bare.contentPointer : bare.pointer) : undefined, text: '', spans: [], rendered: content, trainable: 0 });
     }

@@ -355,6 +355,32 @@ describe('template findings at their record', () => {
     const f = out.issues.find((i) => i.rule === 'tokens-template-error')!;
     expect(f.pointer).toBe('/messages/1/content');
     expect(f.message).toMatch(/turn 2 has null content/);
+    // The oracle agrees that this turn is the cause: with text there, jinja2 renders the conversation.
+    const [fixed] = pythonRender(spec.source, [{ ...spec.specials, messages: conv.messages.map((m, i) => (i === 1 ? { ...m, content: '' } : m)), add_generation_prompt: false }]);
+    expect(fixed).toHaveProperty('text');
+  }, 60_000);
+
+  it('names no turn when the template fails for another reason (Gemma 3 refuses the tool turn, text or not)', async () => {
+    const config = withDefaults({ tokenizer: modelFolder('gemma3') });
+    await tokensCheck.prepare!(config);
+    const value = {
+      messages: [
+        { role: 'user', content: 'Do you stock 28 mm tubes?' },
+        { role: 'assistant', content: null, tool_calls: [{ id: 'c1', type: 'function', function: { name: 'lookup_part', arguments: '{"name": "tube 28"}' } }] },
+        { role: 'tool', tool_call_id: 'c1', content: '12 in stock' },
+        { role: 'assistant', content: 'Yes, twelve.' },
+      ],
+    };
+    const out: RecordResult = { issues: [] };
+    tokensCheck.checkRecord({ record: 0, value }, config, out);
+    const f = out.issues.find((i) => i.rule === 'tokens-template-error')!;
+    expect(f.message).not.toMatch(/has null content/);
+    // jinja2 as the oracle: the template fails with the turn's text empty too.
+    const reading = readRecord(value, config)!;
+    const conv = conversationOf(reading, reading.sequences[0]!, value)!;
+    const spec = (await loadTokenizer(modelFolder('gemma3'))).chatTemplate!;
+    const [py] = pythonRender(spec.source, [{ ...spec.specials, messages: conv.messages.map((m, i) => (i === 1 ? { ...m, content: '' } : m)), add_generation_prompt: false }]);
+    expect(py).toHaveProperty('error');
   }, 60_000);
 
   it('is tokens-rendered-over-context when the rendered form is over the context length, though the content is not', async () => {
