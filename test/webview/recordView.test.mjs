@@ -929,7 +929,8 @@ describe('record view', () => {
     );
     try {
       await view.page.waitForSelector('.sw-part-media');
-      await new Promise((r) => setTimeout(r, 200));
+      // Two frames rendered since the detail: layout and paint, where an image would start to load, are done.
+      await view.page.evaluate(() => new Promise((r) => requestAnimationFrame(() => requestAnimationFrame(r))));
       assert.equal(await view.page.$$eval('.sw-detail img', (x) => x.length), 0);
       const chips = await view.page.$$eval('.sw-part-media.sw-chip', (cs) =>
         cs.map((c) => ({ text: c.querySelector('.sw-chip-text').textContent, link: !!c.querySelector('.codicon-link'), file: !!c.querySelector('.codicon-file') })),
