@@ -1,8 +1,8 @@
 // The rooms of the code and what each may import — checked before every build, so that an import
 // across a wall fails the build (`npm run build`) instead of waiting for a review. The TypeScript
 // projects (`tsc -b`) enforce the libraries of each room (no DOM in the engine, no Node in the
-// webviews); this enforces the import graph, including what the compiler cannot see: `vscode`
-// outside the host, and the webviews reaching past `protocol.ts`.
+// webviews, `vscode` only in the host); this enforces the import graph, including what the
+// compiler cannot see: the webviews reaching past `protocol.ts`, a room importing another's files.
 import { readdirSync, readFileSync, statSync } from 'node:fs';
 import { dirname, join, relative, resolve, sep } from 'node:path';
 import { fileURLToPath } from 'node:url';

@@ -58,6 +58,14 @@ describe('the TypeScript projects', () => {
     expect(r.status).not.toBe(0);
     expect(r.out).toMatch(/Cannot find name 'Buffer'/);
   });
+  it('no room but the host compiles an import of the VS Code API', () => {
+    for (const room of ['engine', 'node', 'cli', 'webview']) {
+      const r = compileInRoom(room, "import * as vscode from 'vscode';\nexport const v = vscode.version;");
+      expect(r.status, room).not.toBe(0);
+      expect(r.out, room).toMatch(/vscode\.d\.ts' is not a module/);
+    }
+    expect(compileInRoom('host', "import * as vscode from 'vscode';\nexport const v = vscode.version;").status).toBe(0);
+  });
   it('the same probe compiles where the library belongs (the check can pass)', () => {
     expect(compileInRoom('webview', 'export const t = document.title;').status).toBe(0);
     expect(compileInRoom('engine', "export const b = Buffer.from('x').length;").status).toBe(0);
