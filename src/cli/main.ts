@@ -182,7 +182,7 @@ async function checkVerb(parsed: Parsed, out: NodeJS.WritableStream, err: NodeJS
   const stats = parsed.verb === 'stats';
   const format = (parsed.opts.format as string | undefined) ?? 'text';
   const rules = registry();
-  if (!(stats ? ['text', 'json'].includes(format) : PRINTERS[format])) {
+  if (!(stats ? ['text', 'json'].includes(format) : Object.hasOwn(PRINTERS, format))) {
     throw new UsageError(`unknown format "${format}" for ${parsed.verb} (${stats ? 'text or json' : printerNames()})`);
   }
   if (parsed.positional.length === 0) throw new UsageError(`no file given (try: shardwise ${parsed.verb} PATH...)`);

@@ -332,8 +332,20 @@ export async function openView(browser, server, { kind, theme = 'dark', title, s
     posted: [],
     onMessage,
     closed: false,
+    /** Posts a host message and resolves once the view's own listener has handled it (ours runs after it). */
     async send(msg) {
-      await page.evaluate((m) => window.postMessage(m, '*'), msg);
+      await page.evaluate(
+        (m) =>
+          new Promise((resolve) => {
+            const done = () => {
+              window.removeEventListener('message', done);
+              resolve();
+            };
+            window.addEventListener('message', done);
+            window.postMessage(m, '*');
+          }),
+        msg,
+      );
     },
     /** Resolves with the first posted message (counting from `from`) that matches. */
     async waitForPost(pred, { from = 0, timeout = 5000 } = {}) {

@@ -19,7 +19,7 @@ export interface OpenOptions {
   maxReaderBytes?: number;
 }
 
-/** A bounded look at a file for recognising it: its size, a head of at least 64 KiB (or the whole file) and its last 8 bytes. */
+/** A bounded look at a file for recognising it: its size, its first 64 KiB (or the whole file, when smaller) and its last 8 bytes. */
 export interface Probe {
   readonly size: number;
   readonly head: Uint8Array;
@@ -60,7 +60,7 @@ export interface FormatEntry {
    * A file found in a folder that this format would read but that is no shard (a pretty-printed
    * JSON document read as broken lines): a folder walk leaves it out.
    */
-  notAShard?(path: string, compression: Compression): boolean;
+  readonly notAShard?: (path: string, compression: Compression) => boolean;
   create(path: string, opts: OpenOptions, compression: Compression): RecordSource;
 }
 

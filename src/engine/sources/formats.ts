@@ -1,5 +1,5 @@
 // The one list of formats: a format is one file in formats/ and one line here (plus its endings in
-// package.json's editor selectors; test/unit/manifest.test.ts checks they agree). The order is the
+// package.json's editor selectors; test/unit/engine/sources/sniff.test.ts checks they agree). The order is the
 // order the sniffer asks their signs in.
 
 import type { FormatEntry } from './format.js';

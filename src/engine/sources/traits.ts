@@ -14,5 +14,5 @@ export interface FormatTraits {
   wasmMemory: boolean;
 }
 
-// Each format declares its traits on its line of FORMATS (index.ts); these re-exports keep one way to ask.
+// Each format declares its traits on its line of FORMATS (formats/*.ts, listed in formats.ts); these re-exports keep one way to ask.
 export { KNOWN_FORMATS, traitsOf } from './index.js';

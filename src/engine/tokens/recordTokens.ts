@@ -117,25 +117,22 @@ export function chatTemplateOf(tokenizer: Tokenizer): ChatTemplate | null {
 
 /**
  * A template that reads a turn's text fails on a turn without any (content null beside tool
- * calls, or absent). The turn is named only when it is the cause: the same conversation renders
- * once that turn's content is the empty string.
+ * calls, or absent). The first such turn is named only when turns without text are the cause: the
+ * same conversation renders once each of them holds the empty string (one more render, at most).
  */
 function bareTurnCause(template: ChatTemplate, conv: Conversation, seq: Reading['sequences'][number]): NonNullable<typeof seq.turns>[number] | undefined {
   const turns = seq.turns ?? [];
   // The turns' messages follow an optional system message (conversationOf).
   const offset = conv.messages.length - turns.length;
-  for (let k = 0; k < turns.length; k++) {
-    const t = turns[k]!;
-    if (!t.isObject || (t.rawContent !== null && t.contentPresent)) continue;
-    const messages = conv.messages.map((m, i) => (i === offset + k ? { ...m, content: '' } : m));
-    try {
-      template.renderWithSpans({ ...conv, messages });
-      return t;
-    } catch {
-      // Still fails with text there: not this turn's doing.
-    }
+  const bare = new Set(turns.flatMap((t, k) => (t.isObject && (t.rawContent === null || !t.contentPresent) ? [offset + k] : [])));
+  if (bare.size === 0) return undefined;
+  try {
+    template.render(conv.messages.map((m, i) => (bare.has(i) ? { ...m, content: '' } : m)), conv.tools);
+  } catch {
+    // Still fails with text there: not the doing of the turns without any.
+    return undefined;
   }
-  return undefined;
+  return turns[Math.min(...bare) - offset];
 }
 
 /** Renders every sequence of a reading that is a conversation; null when none is (plain text, evaluation items). */

@@ -235,7 +235,11 @@ export function unreadableColumns(schemaMessage: Uint8Array): { name: string; ty
     const schema = msg.table(2);
     if (!schema) return [];
     const out: { name: string; type: string }[] = [];
+    // A hostile flatbuffer can point many children at one table, so a walk could double per level:
+    // it stops after as many field visits as a schema may hold fields.
+    let budget = MAX_SCHEMA_FIELDS;
     const walk = (field: FbTable): string | null => {
+      if (--budget < 0) return null;
       const t = UNREADABLE_TYPES[field.uint8(2)];
       if (t) return t;
       for (const c of field.tables(5)) {

@@ -1,7 +1,7 @@
 // JSON Lines (jsonlines.org): one JSON value a line, plain or wrapped in gzip or zstd.
 
 import { closeSync, fstatSync, openSync, readSync } from 'node:fs';
-import { decompressHead } from '../decompress.js';
+import { decompressHead, type Compression } from '../decompress.js';
 import type { FormatEntry } from '../format.js';
 import { JsonlSource } from '../jsonl.js';
 
@@ -21,7 +21,7 @@ export const jsonlFormat: FormatEntry = {
  * A pretty-printed JSON object (a schema, a manifest, a settings file) reads as JSON Lines of broken
  * lines; a folder walk leaves it out: its first line opens an object that the line does not close.
  */
-function isOneJsonDocument(path: string, compression: 'none' | 'gzip' | 'zstd'): boolean {
+function isOneJsonDocument(path: string, compression: Compression): boolean {
   const fd = openSync(path, 'r');
   try {
     const size = fstatSync(fd).size;

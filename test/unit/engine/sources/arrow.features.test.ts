@@ -11,7 +11,8 @@ import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { CompressionType, RecordBatchReader, RecordBatchStreamWriter, Table, Utf8, compressionRegistry, vectorFromArray } from 'apache-arrow';
 import { ArrowStreamSource } from '../../../../src/engine/sources/arrowStream.js';
-import { bodyCodec } from '../../../../src/engine/sources/columnar/ipc.js';
+import { bodyCodec, unreadableColumns } from '../../../../src/engine/sources/columnar/ipc.js';
+import { FbTable } from '../../../../src/engine/sources/columnar/flatbuf.js';
 import { requireTestdata } from './testdata';
 
 const ROWS = 40;
@@ -162,5 +163,85 @@ describe('what the library throws after our checks is damage, whatever its words
     expect(from).not.toHaveBeenCalled();
     expect(info.findings.map((f) => f.rule)).toEqual(['read-unsupported']);
     expect(info.findings[0].message).toMatch(/^columns "ree16_int32" \(run-end encoded\), .*: a type this reader cannot read$/);
+  });
+});
+
+/**
+ * A schema message by hand (FlatBuffers binary layout, flatbuffers.dev; Schema.fbs: Message.header
+ * is field 2, Schema.fields field 1, Field.type_type field 2 and Field.children field 5) whose
+ * field k has two children that are both field k+1: a tree of 2^depth paths over depth+1 tables.
+ */
+function sharedChildrenSchema(depth: number, deepestType: number): Uint8Array {
+  // Offsets to tables and vectors are unsigned and point forward: the message first, the deepest field last.
+  const bytes: number[] = [];
+  const u16 = (v: number) => bytes.push(v & 0xff, (v >> 8) & 0xff);
+  const u32 = (v: number) => bytes.push(v & 0xff, (v >>> 8) & 0xff, (v >>> 16) & 0xff, (v >>> 24) & 0xff);
+  const patch32 = (at: number, v: number) => bytes.splice(at, 4, v & 0xff, (v >>> 8) & 0xff, (v >>> 16) & 0xff, (v >>> 24) & 0xff);
+  const forward: Array<{ slot: number; to: () => number }> = [];
+  const tables: number[] = [];
+  const rootSlot = bytes.length;
+  u32(0);
+  const msgV = bytes.length;
+  u16(10), u16(8), u16(0), u16(0), u16(4);
+  const msg = bytes.length;
+  u32(msg - msgV);
+  const headerSlot = bytes.length;
+  u32(0);
+  const schemaV = bytes.length;
+  u16(8), u16(8), u16(0), u16(4);
+  const schema = bytes.length;
+  u32(schema - schemaV);
+  const fieldsSlot = bytes.length;
+  u32(0);
+  const fields = bytes.length;
+  u32(1);
+  const firstSlot = bytes.length;
+  u32(0);
+  forward.push({ slot: firstSlot, to: () => tables[0]! });
+  for (let k = 0; k <= depth; k++) {
+    const vtable = bytes.length;
+    u16(16), u16(12), u16(0), u16(0), u16(4), u16(0), u16(0), u16(k < depth ? 8 : 0);
+    const table = bytes.length;
+    tables.push(table);
+    u32(table - vtable);
+    bytes.push(k === depth ? deepestType : 2, 0, 0, 0); // type_type: Int, the deepest as asked
+    const childrenSlot = bytes.length;
+    u32(0);
+    if (k < depth) {
+      const vec = bytes.length;
+      patch32(childrenSlot, vec - childrenSlot);
+      u32(2);
+      for (const slot of [bytes.length, bytes.length + 4]) forward.push({ slot, to: () => tables[k + 1]! });
+      u32(0), u32(0);
+    }
+  }
+  patch32(rootSlot, msg - rootSlot);
+  patch32(headerSlot, schema - headerSlot);
+  patch32(fieldsSlot, fields - fieldsSlot);
+  for (const f of forward) patch32(f.slot, f.to() - f.slot);
+  return new Uint8Array([8, 0, 0, 0, ...bytes]);
+}
+
+describe('a hostile schema whose fields share their children', () => {
+  it('names an unreadable type deep inside a small shared tree', () => {
+    expect(unreadableColumns(sharedChildrenSchema(3, 25))).toEqual([{ name: '(unnamed)', type: 'list-view' }]);
+    expect(unreadableColumns(sharedChildrenSchema(3, 2))).toEqual([]);
+  });
+  it('walks 2^60 paths over 61 tables no further than a schema may hold fields (without a bound: centuries)', () => {
+    // The walk's reads of children are counted; past a million the spy stops it, so a walk without
+    // a bound fails here instead of hanging the run.
+    const original = FbTable.prototype.tables;
+    let reads = 0;
+    const spy = vi.spyOn(FbTable.prototype, 'tables').mockImplementation(function (this: FbTable, i: number) {
+      if (++reads > 1_000_000) throw new Error('the walk went on past a million children reads');
+      return original.call(this, i);
+    });
+    try {
+      expect(unreadableColumns(sharedChildrenSchema(60, 2))).toEqual([]);
+    } finally {
+      spy.mockRestore();
+    }
+    // One read of the schema's fields, then at most one per field visit (100,000: the schema limit).
+    expect(reads).toBeLessThanOrEqual(100_001);
   });
 });

@@ -358,6 +358,13 @@ describe('template findings at their record', () => {
     // The oracle agrees that this turn is the cause: with text there, jinja2 renders the conversation.
     const [fixed] = pythonRender(spec.source, [{ ...spec.specials, messages: conv.messages.map((m, i) => (i === 1 ? { ...m, content: '' } : m)), add_generation_prompt: false }]);
     expect(fixed).toHaveProperty('text');
+    // Agent records call tools more than once: with two such turns, the first is named.
+    const call = (id: string) => ({ role: 'assistant', content: null, tool_calls: [{ id, type: 'function', function: { name: 'lookup_part', arguments: '{"name": "tube 28"}' } }] });
+    const twice = { messages: [value.messages[0], call('c1'), { role: 'tool', tool_call_id: 'c1', content: '12 in stock' }, call('c2'), { role: 'tool', tool_call_id: 'c2', content: '3 in the back' }, { role: 'assistant', content: 'Yes, fifteen.' }] };
+    const out2: RecordResult = { issues: [] };
+    tokensCheck.checkRecord({ record: 0, value: twice }, config, out2);
+    const f2 = out2.issues.find((i) => i.rule === 'tokens-template-error')!;
+    expect([f2.pointer, /turn 2 has null content/.test(f2.message)]).toEqual(['/messages/1/content', true]);
   }, 60_000);
 
   it('names no turn when the template fails for another reason (Gemma 3 refuses the tool turn, text or not)', async () => {
