@@ -4,7 +4,7 @@
 import { RecordBatchReader, Table, tableToIPC } from 'apache-arrow';
 import type { ByteReader } from './source.js';
 import { readFinding } from './columnarRules.js';
-import { ArrowSourceBase, headerBlock, ipcFinding, type ArrowSourceOptions, type Layout } from './columnar/arrowBase.js';
+import { ArrowSourceBase, DEFAULT_MAX_BATCH_BYTES, headerBlock, ipcFinding, type ArrowSourceOptions, type Layout } from './columnar/arrowBase.js';
 import { FILE_MAGIC, MESSAGE_DICTIONARY, MESSAGE_RECORD_BATCH, MESSAGE_SCHEMA, NEWEST_METADATA_VERSION, readFooter, readMessageAt, walkMessages, IpcFormatError, validateSchemaTable } from './columnar/ipc.js';
 import { FbTable } from './columnar/flatbuf.js';
 import { prefetchRanges } from './columnar/byteReader.js';
@@ -46,11 +46,11 @@ export class ArrowFileSource extends ArrowSourceBase {
     const layout: Layout = { schema: null, dictionaries: [], batches: [], facts: { format: 'Arrow IPC file' }, findings: [] };
     let footer;
     try {
-      footer = await readFooter(reader);
+      footer = await readFooter(reader, this.opts.maxBatchBytes ?? DEFAULT_MAX_BATCH_BYTES);
     } catch (e) {
       // No usable footer: read what the messages after the magic still hold.
       const f = ipcFinding(e, 'footer');
-      f.rule = f.rule === 'read-unsupported' ? f.rule : 'read-footer-invalid';
+      f.rule = f.rule === 'read-unsupported' || f.rule === 'read-limit' ? f.rule : 'read-footer-invalid';
       layout.findings.push(f);
       return this.fallbackWalk(reader, layout, signal);
     }

@@ -225,6 +225,9 @@ export class ParquetSource implements RecordSource {
     if (!isMagic(tail.subarray(4), 0x31)) return readFinding('read-truncated', 'the file does not end with the Parquet magic "PAR1": the footer is missing or cut short');
     const footerLen = new DataView(tail.buffer, tail.byteOffset, 4).getUint32(0, true);
     if (footerLen === 0 || footerLen > size - 12) return readFinding('read-footer-invalid', `the footer declares ${footerLen} bytes in a ${size}-byte file`);
+    // Checked before it is read: a forged length in a large file must not bring gigabytes into memory.
+    const budget = this.opts.maxDecodedBytes ?? DEFAULT_MAX_DECODED_BYTES;
+    if (footerLen > budget) return readFinding('read-limit', `the footer declares ${formatSize(footerLen)}, over the ${formatSize(budget)} memory cap of one reader; it is not read`);
     return null;
   }
 

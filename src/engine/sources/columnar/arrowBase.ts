@@ -58,7 +58,7 @@ export interface Layout {
 
 export function ipcFinding(e: unknown, where: string): Finding {
   if (e instanceof IpcFormatError) {
-    const rule = e.kind === 'truncated' ? 'read-truncated' : e.kind === 'unsupported' ? 'read-unsupported' : 'read-corrupt';
+    const rule = e.kind === 'truncated' ? 'read-truncated' : e.kind === 'unsupported' ? 'read-unsupported' : e.kind === 'limit' ? 'read-limit' : 'read-corrupt';
     return readFinding(rule, `${where}: ${e.message}`);
   }
   if (e instanceof UnsupportedFeature) return readFinding('read-unsupported', `${where}: ${e.message}`);

@@ -36,7 +36,7 @@ export interface MessageHeader {
 export class IpcFormatError extends Error {
   constructor(
     message: string,
-    readonly kind: 'truncated' | 'corrupt' | 'unsupported',
+    readonly kind: 'truncated' | 'corrupt' | 'unsupported' | 'limit',
   ) {
     super(message);
   }
@@ -172,7 +172,8 @@ export interface FooterInfo {
 }
 
 /** Reads an Arrow file's footer: magic, footer length, the blocks. */
-export async function readFooter(reader: ByteReader): Promise<FooterInfo> {
+/** Reads and checks the footer; one declaring more than `maxBytes` is refused before it is read. */
+export async function readFooter(reader: ByteReader, maxBytes = Number.MAX_SAFE_INTEGER): Promise<FooterInfo> {
   const size = reader.size;
   if (size < 8 + 10) throw new IpcFormatError(`the file is ${size} bytes: too short for an Arrow file`, 'truncated');
   const head = await reader.read(0, 6);
@@ -181,6 +182,8 @@ export async function readFooter(reader: ByteReader): Promise<FooterInfo> {
   if (!sameBytes(tail.subarray(4), FILE_MAGIC)) throw new IpcFormatError('the file does not end with the Arrow file magic: its footer is missing or cut short', 'truncated');
   const footerLen = new DataView(tail.buffer, tail.byteOffset, 4).getInt32(0, true);
   if (footerLen <= 0 || footerLen > size - 18) throw new IpcFormatError(`the footer declares ${footerLen} bytes in a ${size}-byte file`, 'corrupt');
+  // A forged length in a large file must not bring gigabytes into memory.
+  if (footerLen > maxBytes) throw new IpcFormatError(`the footer declares ${footerLen} bytes, over the ${maxBytes}-byte memory cap of one reader; it is not read`, 'limit');
   const fb = await reader.read(size - 10 - footerLen, footerLen);
   try {
     const footer = FbTable.root(fb);

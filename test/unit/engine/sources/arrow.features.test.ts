@@ -11,6 +11,7 @@ import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { CompressionType, RecordBatchReader, RecordBatchStreamWriter, Table, Utf8, compressionRegistry, vectorFromArray } from 'apache-arrow';
 import { ArrowStreamSource } from '../../../../src/engine/sources/arrowStream.js';
+import { ArrowFileSource } from '../../../../src/engine/sources/arrowFile.js';
 import { bodyCodec, unreadableColumns } from '../../../../src/engine/sources/columnar/ipc.js';
 import { FbTable } from '../../../../src/engine/sources/columnar/flatbuf.js';
 import { requireTestdata } from './testdata';
@@ -243,5 +244,34 @@ describe('a hostile schema whose fields share their children', () => {
     }
     // One read of the schema's fields, then at most one per field visit (100,000: the schema limit).
     expect(reads).toBeLessThanOrEqual(100_001);
+  });
+});
+
+describe('a forged footer length (Arrow IPC file format: footer length and "ARROW1" in the last 10 bytes)', () => {
+  it('a 1.5 GiB footer claimed by an 8 GiB file is refused by the memory cap before it is read; the messages after the magic are still walked', async () => {
+    const size = 8 * 1024 * 1024 * 1024;
+    const reads: number[] = [];
+    const magic = [0x41, 0x52, 0x52, 0x4f, 0x57, 0x31];
+    const tail = new Uint8Array(10);
+    new DataView(tail.buffer).setInt32(0, 1536 * 1024 * 1024, true);
+    tail.set(magic, 4);
+    const reader = {
+      size,
+      async read(offset: number, length: number) {
+        reads.push(length);
+        if (offset === size - 10 && length === 10) return tail;
+        const out = new Uint8Array(Math.min(length, 1 << 20));
+        if (offset === 0) out.set(magic.slice(0, Math.min(6, out.length)));
+        // Anywhere else the virtual file holds zeros: a zero metadata length, the end of the messages.
+        return out;
+      },
+      async close() {},
+    };
+    const src = new ArrowFileSource('/virtual/forged.arrow', { openReader: async () => reader });
+    const info = await src.open();
+    await src.close();
+    expect(info.findings.map((f) => f.rule)).toContain('read-limit');
+    expect(info.findings.find((f) => f.rule === 'read-limit')!.message).toMatch(/footer declares 1610612736 bytes, over the 1073741824-byte memory cap/);
+    expect(Math.max(...reads)).toBeLessThan(1 << 20);
   });
 });

@@ -13,6 +13,8 @@ import { parquetReadObjects } from 'hyparquet';
 import { configFromValues, parseProjectFile, settingSpec } from '../../../../src/engine/project.js';
 import { parseCommandLine, verbHelp, type Parsed } from '../../../../src/cli/options.js';
 import { createSource } from '../../../../src/engine/sources/index.js';
+import { ParquetSource } from '../../../../src/engine/sources/parquet.js';
+import type { ByteReader } from '../../../../src/engine/sources/source.js';
 import { projectRoot } from '../../helpers/build';
 
 const settings = new Map<string, unknown>();
@@ -90,5 +92,47 @@ describe('the memory cap per reader', () => {
     expect((await firstRows(host.config.maxReaderBytes)).rules).toContain('read-unsupported');
     settings.set('reading.memoryMiB', 99_999); // a hand-edited settings.json: kept inside the declared bounds
     expect((await settingsFor({ path: p, scheme: 'file', fsPath: p } as never)).config.maxReaderBytes).toBe(3072 * MIB);
+  });
+});
+
+describe('a forged footer length (Parquet file layout: footer length and "PAR1" in the last 8 bytes)', () => {
+  /** An 8 GiB file that exists only as its two ends; every read is recorded. */
+  function forgedFile(footerLen: number): { reads: Array<[number, number]>; open: () => Promise<ByteReader> } {
+    const size = 8 * 1024 * MIB;
+    const reads: Array<[number, number]> = [];
+    const tail = new Uint8Array(8);
+    new DataView(tail.buffer).setUint32(0, footerLen, true);
+    tail.set([0x50, 0x41, 0x52, 0x31], 4);
+    const reader: ByteReader = {
+      size,
+      async read(offset, length) {
+        reads.push([offset, length]);
+        if (offset === 0 && length <= 4) return new Uint8Array([0x50, 0x41, 0x52, 0x31]).subarray(0, length);
+        if (offset === size - 8 && length === 8) return tail;
+        throw new Error(`read of ${length} bytes at ${offset}: more than the two ends`);
+      },
+      async close() {},
+    };
+    return { reads, open: async () => reader };
+  }
+
+  it('a 3 GiB footer claimed by an 8 GiB file is refused by the memory cap before a byte of it is read', async () => {
+    const forged = forgedFile(3 * 1024 * MIB);
+    const src = new ParquetSource('/virtual/forged.parquet', { openReader: forged.open });
+    const info = await src.open();
+    await src.close();
+    expect(info.findings.map((f) => f.rule)).toEqual(['read-limit']);
+    expect(info.findings[0]!.message).toMatch(/footer declares 3\.0 GiB, over the 1\.0 GiB memory cap/);
+    expect(Math.max(...forged.reads.map(([, n]) => n))).toBe(8);
+  });
+
+  it('the cap is the reader memory setting: a 10 MiB footer is refused at 8 MiB and read (and found corrupt) at 16 MiB', async () => {
+    const small = forgedFile(10 * MIB);
+    const refused = await new ParquetSource('/virtual/small.parquet', { openReader: small.open, maxDecodedBytes: 8 * MIB }).open();
+    expect(refused.findings.map((f) => f.rule)).toEqual(['read-limit']);
+    const read = forgedFile(10 * MIB);
+    // The virtual file has no footer bytes to give: the read of them is tried, so the cap let it through.
+    await expect(new ParquetSource('/virtual/small.parquet', { openReader: read.open, maxDecodedBytes: 16 * MIB }).open()).rejects.toThrow(/more than the two ends/);
+    expect(read.reads.some(([, n]) => n === 10 * MIB)).toBe(true);
   });
 });
