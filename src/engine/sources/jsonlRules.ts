@@ -28,7 +28,7 @@ export const JSONL_RULES: RuleInfo[] = [
   { id: 'bom-present', family: 'encoding', severity: 'warning', summary: 'The line starts with a UTF-8 byte order mark, which shard text should not carry.' },
   { id: 'surrogate-unpaired', family: 'encoding', severity: 'warning', summary: 'A \\u escape encodes half of a surrogate pair with no other half.' },
   { id: 'read-corrupt', family: 'read', severity: 'error', summary: 'Bytes that do not decode (a corrupt compressed stream, page, batch or value); what came before is still read.' },
-  { id: 'read-limit', family: 'read', severity: 'error', summary: 'A safety limit stopped the read (decompressed size against compressed size, free disk space); what came before is still read.' },
+  { id: 'read-limit', family: 'read', severity: 'error', summary: 'A safety limit stopped the read (decompressed size against compressed size, free disk space, the memory cap of one reader); what came before is still read.' },
   { id: 'read-stalled', family: 'read', severity: 'error', summary: 'The read made no progress (no record, no byte) for the set time and was stopped; what came before is still checked.' },
   { id: 'read-empty', family: 'read', severity: 'error', summary: 'The file holds no bytes (or decompresses to none): a shard with no records, usually a failed write.' },
 ];
