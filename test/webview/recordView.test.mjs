@@ -834,8 +834,16 @@ describe('record view', () => {
       await view.send({ type: 'entries', entries: 150_000, complete: true, progress: 1 });
       assert.equal(await view.page.isHidden('.sw-indexing'), true);
       assert.match(await view.page.textContent('.sw-entries'), /150,000/);
-      // The first page was answered when only 40 entries were known; it must be asked again for more.
-      await waitLoaded(view.page);
+      // The first page was answered when only 40 entries were known; it must be asked again for more
+      // (the view waits for a pause before asking): wait until the viewport is full of loaded rows.
+      await view.page.waitForFunction(() => {
+        const box = document.querySelector('.sw-viewport').getBoundingClientRect();
+        const shown = [...document.querySelectorAll('.sw-rows .sw-row[data-entry]')].filter((r) => {
+          const b = r.getBoundingClientRect();
+          return b.top >= box.top - 1 && b.bottom <= box.bottom + 1;
+        });
+        return shown.length > 20 && !document.querySelector('.sw-rows .sw-row-loading');
+      });
       const rows = await visibleRows(view.page);
       assert.ok(rows.length > 20);
       for (const r of rows) assert.equal(r.place, rowFor(r.entry).place);
